@@ -1,0 +1,80 @@
+//! Plumbing shared by the commands: input arguments, ruleset loading,
+//! output formats.
+
+use std::path::{Path, PathBuf};
+
+use anyhow::{bail, Context};
+use clap::ValueEnum;
+
+use descry::read::ReadOptions;
+use descry::{Ruleset, Vocabulary};
+
+/// Where the table comes from and how to read it.
+#[derive(Debug, Clone, clap::Args)]
+pub struct InputArgs {
+    /// The table: .csv, .tsv, .parquet, .arrow/.ipc/.feather, .ndjson/.jsonl,
+    /// or - for CSV on standard input.
+    pub input: PathBuf,
+    /// Field delimiter for CSV input (one character, or "tab"); overrides the
+    /// extension's default.
+    #[arg(long, value_parser = parse_delimiter)]
+    pub delimiter: Option<u8>,
+    /// Replace invalid UTF-8 in the input with U+FFFD instead of failing.
+    #[arg(long)]
+    pub lossy_utf8: bool,
+}
+
+impl InputArgs {
+    pub fn read_options(&self) -> ReadOptions {
+        ReadOptions { delimiter: self.delimiter, lossy_utf8: self.lossy_utf8 }
+    }
+}
+
+fn parse_delimiter(s: &str) -> Result<u8, String> {
+    match s {
+        "tab" | "\\t" | "\t" => Ok(b'\t'),
+        _ if s.len() == 1 && s.is_ascii() => Ok(s.as_bytes()[0]),
+        _ => Err(format!("the delimiter must be one ASCII character or \"tab\", not {s:?}")),
+    }
+}
+
+/// Report output format.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum Format {
+    Text,
+    Json,
+}
+
+pub fn load_ruleset(path: &Path) -> anyhow::Result<Ruleset> {
+    Ok(Ruleset::from_path(path)?)
+}
+
+/// The source column: `--column` wins, else the ruleset's `column`.
+pub fn source_column(cli: Option<&str>, rules: &Ruleset) -> anyhow::Result<String> {
+    match (cli, &rules.column) {
+        (Some(c), _) => Ok(c.to_owned()),
+        (None, Some(c)) => Ok(c.clone()),
+        (None, None) => bail!(
+            "{}: the ruleset names no `column`; give --column NAME or add column = \"...\" to the ruleset",
+            rules.file
+        ),
+    }
+}
+
+/// The vocabulary of a text column of a table.
+pub fn vocabulary_of(table: &descry::read::Table, column: &str) -> anyhow::Result<Vocabulary> {
+    let text = table.text(column)?;
+    Ok(Vocabulary::build(text.iter()))
+}
+
+pub fn print_notes(notes: &[String], quiet: bool) {
+    if !quiet {
+        for n in notes {
+            eprintln!("descry: note: {n}");
+        }
+    }
+}
+
+pub fn json_out<T: serde::Serialize>(value: &T) -> anyhow::Result<String> {
+    serde_json::to_string_pretty(value).context("cannot serialize the report")
+}

@@ -1,0 +1,62 @@
+//! One file per command. Each starts with its usage text, then its arguments,
+//! then one `run` function. Shared plumbing (reading tables, loading rulesets,
+//! rendering) lives in the library or in `common.rs`.
+
+pub mod apply;
+pub mod check;
+pub mod common;
+pub mod explain;
+pub mod sample;
+
+use std::process::ExitCode;
+
+use clap::{Parser, Subcommand};
+
+/// descry: turn messy free-text categorical columns into compact model features.
+///
+/// Rules are tested once per distinct value of a column (its vocabulary), never
+/// once per row; rows only gather the results.
+#[derive(Debug, Parser)]
+#[command(name = "descry", version, about, long_about = None, propagate_version = true)]
+pub struct Cli {
+    /// Worker threads for evaluation and IO (default: one per core). Output
+    /// is byte-identical whatever the count.
+    #[arg(long, global = true)]
+    pub threads: Option<usize>,
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Test a ruleset on every distinct value of a column; report coverage.
+    Check(check::Args),
+    /// Write a table's columns plus the features of one or more rulesets.
+    Apply(apply::Args),
+    /// Show what every rule does to given values.
+    Explain(explain::Args),
+    /// Write the demo marketplace listings and their true features.
+    Sample(sample::Args),
+}
+
+pub fn run(cli: Cli) -> anyhow::Result<ExitCode> {
+    if let Some(n) = cli.threads {
+        set_threads(n)?;
+    }
+    match cli.command {
+        Command::Check(args) => check::run(args),
+        Command::Apply(args) => apply::run(args),
+        Command::Explain(args) => explain::run(args),
+        Command::Sample(args) => sample::run(args),
+    }
+}
+
+/// One thread count for descry's own pool and for polars' pool.
+fn set_threads(n: usize) -> anyhow::Result<()> {
+    if n == 0 {
+        anyhow::bail!("--threads must be at least 1");
+    }
+    std::env::set_var("POLARS_MAX_THREADS", n.to_string());
+    rayon::ThreadPoolBuilder::new().num_threads(n).build_global()?;
+    Ok(())
+}

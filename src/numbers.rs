@@ -1,0 +1,230 @@
+//! The `{int}` and `{num}` pattern macros: the regex text they expand to and
+//! the parser that turns their captured text into a number.
+//!
+//! The expansion and the parser are written together so that whatever the
+//! macro can match, the parser can read.
+
+use serde::{Deserialize, Serialize};
+
+/// The decimal separator a ruleset uses for `{num}`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, Default)]
+pub enum DecimalMark {
+    /// `4.5`, thousands written `1,800` or `1 800`.
+    #[default]
+    #[serde(rename = ".")]
+    Point,
+    /// `4,5`, thousands written `1.800` or `1 800`.
+    #[serde(rename = ",")]
+    Comma,
+}
+
+impl DecimalMark {
+    fn decimal(self) -> char {
+        match self {
+            DecimalMark::Point => '.',
+            DecimalMark::Comma => ',',
+        }
+    }
+
+    fn thousands(self) -> char {
+        match self {
+            DecimalMark::Point => ',',
+            DecimalMark::Comma => '.',
+        }
+    }
+}
+
+/// A number macro found in a pattern.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Macro {
+    Int,
+    Num,
+}
+
+impl Macro {
+    pub const ALL: [(Macro, &'static str); 2] = [(Macro::Int, "{int}"), (Macro::Num, "{num}")];
+
+    /// The regex fragment (a non-capturing group) the macro expands to.
+    ///
+    /// Alternatives are ordered longest form first, because the regex crate
+    /// picks the first alternative that matches (leftmost-first).
+    pub fn expansion(self, mark: DecimalMark) -> String {
+        let t = regex::escape(&mark.thousands().to_string());
+        let d = regex::escape(&mark.decimal().to_string());
+        let grouped = format!(r"\d{{1,3}}(?:{t}\d{{3}})+");
+        match self {
+            Macro::Int => format!(r"(?:{grouped}|\d+)"),
+            Macro::Num => {
+                // U+2044 FRACTION SLASH is what NFKC makes of "½" and friends.
+                let slash = r"[/\u{2044}]";
+                format!(
+                    r"(?:\d+(?:-| )\d+{slash}\d+|\d+{slash}\d+|(?:{grouped}|\d+)?{d}\d+|{grouped}|\d+)"
+                )
+            }
+        }
+    }
+}
+
+/// Parse text captured by `{int}` or `{num}` (or a user's own digits group).
+///
+/// Accepts plain integers, thousands separators, decimals (also `.75`),
+/// simple fractions `1/2` and mixed numbers `7-1/2` / `7 1/2`.
+///
+/// ```
+/// use descry::numbers::{parse_number, DecimalMark};
+/// assert_eq!(parse_number("1,800", DecimalMark::Point), Some(1800.0));
+/// assert_eq!(parse_number("7-1/2", DecimalMark::Point), Some(7.5));
+/// assert_eq!(parse_number("4,5", DecimalMark::Comma), Some(4.5));
+/// ```
+pub fn parse_number(text: &str, mark: DecimalMark) -> Option<f64> {
+    let text = text.trim();
+    if text.is_empty() {
+        return None;
+    }
+    if let Some(value) = parse_fraction_forms(text) {
+        return Some(value);
+    }
+    parse_decimal(text, mark)
+}
+
+/// Parse a whole number; `None` when the text is not an integer (`4.5`).
+pub fn parse_integer(text: &str, mark: DecimalMark) -> Option<i64> {
+    let value = parse_number(text, mark)?;
+    let in_range = value.fract() == 0.0 && value.abs() < 9.0e15;
+    in_range.then_some(value as i64)
+}
+
+fn parse_fraction_forms(text: &str) -> Option<f64> {
+    let slash = text.find(['/', '\u{2044}'])?;
+    let slash_len = text[slash..].chars().next()?.len_utf8();
+    let (head, denominator) = (&text[..slash], &text[slash + slash_len..]);
+    let denominator: f64 = digits_only(denominator)?;
+    if denominator == 0.0 {
+        return None;
+    }
+    match head.rfind(['-', ' ']) {
+        Some(sep) => {
+            let whole: f64 = digits_only(&head[..sep])?;
+            let numerator: f64 = digits_only(&head[sep + 1..])?;
+            Some(whole + numerator / denominator)
+        }
+        None => Some(digits_only(head)? / denominator),
+    }
+}
+
+fn digits_only(s: &str) -> Option<f64> {
+    let ok = !s.is_empty() && s.bytes().all(|b| b.is_ascii_digit());
+    if ok {
+        s.parse().ok()
+    } else {
+        None
+    }
+}
+
+fn parse_decimal(text: &str, mark: DecimalMark) -> Option<f64> {
+    let (int_part, frac_part) = match text.rfind(mark.decimal()) {
+        Some(i) => (&text[..i], Some(&text[i + 1..])),
+        None => (text, None),
+    };
+    let int_digits = strip_thousands(int_part, mark.thousands())?;
+    let mut plain = if int_digits.is_empty() { "0".to_owned() } else { int_digits };
+    if let Some(frac) = frac_part {
+        if frac.is_empty() || !frac.bytes().all(|b| b.is_ascii_digit()) {
+            return None;
+        }
+        plain.push('.');
+        plain.push_str(frac);
+    }
+    plain.parse().ok()
+}
+
+/// Digits with optional thousands separators in groups of three, or with
+/// a space as separator; `None` when the grouping is not well formed.
+fn strip_thousands(s: &str, sep: char) -> Option<String> {
+    if s.bytes().all(|b| b.is_ascii_digit()) {
+        return Some(s.to_owned());
+    }
+    let used = if s.contains(sep) { sep } else { ' ' };
+    let groups: Vec<&str> = s.split(used).collect();
+    let first_ok = (1..=3).contains(&groups[0].len());
+    let rest_ok = groups[1..].iter().all(|g| g.len() == 3);
+    let digits_ok = groups.iter().all(|g| g.bytes().all(|b| b.is_ascii_digit()));
+    (first_ok && rest_ok && digits_ok).then(|| groups.concat())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use regex::Regex;
+
+    const P: DecimalMark = DecimalMark::Point;
+    const C: DecimalMark = DecimalMark::Comma;
+
+    fn whole_match(m: Macro, mark: DecimalMark, text: &str) -> bool {
+        let re = Regex::new(&format!("^{}$", m.expansion(mark))).unwrap();
+        re.is_match(text)
+    }
+
+    #[test]
+    fn integers_and_thousands() {
+        assert_eq!(parse_number("12", P), Some(12.0));
+        assert_eq!(parse_number("1,800", P), Some(1800.0));
+        assert_eq!(parse_number("1,234,567", P), Some(1_234_567.0));
+        assert_eq!(parse_number("1.800", C), Some(1800.0));
+        assert_eq!(parse_number("1 800", P), Some(1800.0));
+        assert_eq!(parse_number("1,80", P), None, "a group of two is not a thousands group");
+    }
+
+    #[test]
+    fn decimals_point_and_comma() {
+        assert_eq!(parse_number("4.5", P), Some(4.5));
+        assert_eq!(parse_number(".75", P), Some(0.75));
+        assert_eq!(parse_number("1,234.5", P), Some(1234.5));
+        assert_eq!(parse_number("4,5", C), Some(4.5));
+        assert_eq!(parse_number("1.234,5", C), Some(1234.5));
+        assert_eq!(parse_number(",75", C), Some(0.75));
+    }
+
+    #[test]
+    fn fractions_and_mixed_numbers() {
+        assert_eq!(parse_number("1/2", P), Some(0.5));
+        assert_eq!(parse_number("7-1/2", P), Some(7.5));
+        assert_eq!(parse_number("7 1/2", P), Some(7.5));
+        assert_eq!(parse_number("3/4", C), Some(0.75));
+        // NFKC turns U+00BD "½" into "1⁄2" with U+2044 FRACTION SLASH (UnicodeData.txt).
+        assert_eq!(parse_number("1\u{2044}2", P), Some(0.5));
+        assert_eq!(parse_number("1/0", P), None);
+    }
+
+    #[test]
+    fn integers_reject_fractions() {
+        assert_eq!(parse_integer("6", P), Some(6));
+        assert_eq!(parse_integer("1,800", P), Some(1800));
+        assert_eq!(parse_integer("4.5", P), None);
+        assert_eq!(parse_integer("abc", P), None);
+    }
+
+    #[test]
+    fn expansions_match_what_the_parser_reads() {
+        for text in ["6", "1,800", "1,234,567"] {
+            assert!(whole_match(Macro::Int, P, text), "{{int}} should match {text}");
+        }
+        for text in ["6", "4.5", ".75", "1,800", "1/2", "7-1/2", "7 1/2", "1,234.5"] {
+            assert!(whole_match(Macro::Num, P, text), "{{num}} should match {text}");
+            assert!(parse_number(text, P).is_some(), "parser should read {text}");
+        }
+        for text in ["4,5", ",75", "1.800", "1.234,5"] {
+            assert!(whole_match(Macro::Num, C, text), "{{num}} with comma should match {text}");
+        }
+    }
+
+    #[test]
+    fn leftmost_first_takes_the_longest_number_form() {
+        let re = Regex::new(&format!("({})", Macro::Num.expansion(P))).unwrap();
+        let got = |s: &str| re.captures(s).unwrap()[1].to_owned();
+        assert_eq!(got("7-1/2 in"), "7-1/2");
+        assert_eq!(got("4.5l"), "4.5");
+        assert_eq!(got("1,800 cc"), "1,800");
+        assert_eq!(got("6-speed"), "6");
+    }
+}

@@ -1,0 +1,235 @@
+//! Text renderers over the report structures. JSON is the structures
+//! themselves, serialized; nothing here computes a number.
+//!
+//! Values are shown through [`shown`], which escapes control characters so
+//! that a value holding terminal escape sequences is printed inert.
+
+use std::fmt::Write;
+
+use comfy_table::{presets, CellAlignment, ContentArrangement, Table};
+
+use crate::evaluate::{Cell, Trace};
+use crate::report::{cell_json, CoverageReport};
+use crate::ruleset::Ruleset;
+
+/// A value quoted, with control characters and other invisibles escaped.
+pub fn shown(value: &str) -> String {
+    let mut out = String::with_capacity(value.len() + 2);
+    out.push('"');
+    for c in value.chars() {
+        match c {
+            '"' => out.push_str("\\\""),
+            '\\' => out.push_str("\\\\"),
+            c if c.is_control() || is_invisible(c) => {
+                let _ = write!(out, "\\u{{{:x}}}", c as u32);
+            }
+            c => out.push(c),
+        }
+    }
+    out.push('"');
+    out
+}
+
+/// Characters that render as nothing or as a plain space but are not one.
+fn is_invisible(c: char) -> bool {
+    matches!(c, '\u{a0}' | '\u{200b}'..='\u{200f}' | '\u{2028}'..='\u{202f}' | '\u{2060}'..='\u{206f}' | '\u{feff}')
+}
+
+/// `1234567` as `1,234,567`.
+pub fn thousands(n: u64) -> String {
+    let digits = n.to_string();
+    let mut out = String::new();
+    for (i, c) in digits.chars().enumerate() {
+        if i > 0 && (digits.len() - i) % 3 == 0 {
+            out.push(',');
+        }
+        out.push(c);
+    }
+    out
+}
+
+fn percent(share: f64) -> String {
+    format!("{:.1}%", share * 100.0)
+}
+
+fn table(header: &[&str]) -> Table {
+    let mut t = Table::new();
+    t.load_preset(presets::NOTHING).set_content_arrangement(ContentArrangement::Disabled).set_header(header.to_vec());
+    t
+}
+
+fn right_align(t: &mut Table, columns: std::ops::Range<usize>) {
+    for i in columns {
+        if let Some(c) = t.column_mut(i) {
+            c.set_cell_alignment(CellAlignment::Right);
+        }
+    }
+}
+
+/// The `check` report as text; `top` limits the unmatched list.
+pub fn check_text(r: &CoverageReport, top: usize) -> String {
+    let mut out = String::new();
+    let c = &r.coverage;
+    let _ = writeln!(out, "ruleset {}  column {}", r.ruleset, shown(&r.column));
+    let _ = writeln!(
+        out,
+        "rows {}  distinct {}  null {}  blank {} ({} distinct)",
+        thousands(r.rows),
+        thousands(r.distinct),
+        thousands(r.null_rows),
+        thousands(r.blank_rows),
+        thousands(r.blank_distinct)
+    );
+    let _ = writeln!(
+        out,
+        "coverage {} of rows ({} of {})  {} of distinct values ({} of {})\n",
+        percent(c.row_share),
+        thousands(c.rows_covered),
+        thousands(c.rows_considered),
+        percent(c.distinct_share),
+        thousands(c.distinct_covered),
+        thousands(c.distinct_considered)
+    );
+    out.push_str(&rules_table(r));
+    unmatched_section(&mut out, r, top);
+    issues_section(&mut out, r, top);
+    conflicts_section(&mut out, r, top);
+    if !r.silent_rules.is_empty() {
+        let _ = writeln!(out, "\nrules that hit nothing: {}", r.silent_rules.join(", "));
+    }
+    examples_section(&mut out, r);
+    out
+}
+
+fn rules_table(r: &CoverageReport) -> String {
+    let mut t = table(&["rule", "kind", "line", "distinct", "rows", "rows %", "out of range", "unparsable", "unknown unit", "backtrack"]);
+    let considered = r.coverage.rows_considered.max(1) as f64;
+    for rule in &r.rules {
+        t.add_row(vec![
+            rule.output.clone(),
+            rule.kind.to_owned(),
+            rule.line.to_string(),
+            thousands(rule.distinct_hit),
+            thousands(rule.rows_hit),
+            percent(rule.rows_hit as f64 / considered),
+            thousands(rule.out_of_range.rows),
+            thousands(rule.unparsable.rows),
+            thousands(rule.unknown_unit.rows),
+            thousands(rule.backtrack_limit.rows),
+        ]);
+    }
+    right_align(&mut t, 2..10);
+    format!("{}\n", t.trim_fmt())
+}
+
+fn unmatched_section(out: &mut String, r: &CoverageReport, top: usize) {
+    if r.unmatched.is_empty() {
+        let _ = writeln!(out, "\nevery non-blank value is matched by at least one rule");
+        return;
+    }
+    let shown_n = top.min(r.unmatched.len());
+    let _ = writeln!(out, "\nunmatched values: {} distinct; top {} by rows", thousands(r.unmatched.len() as u64), shown_n);
+    let mut t = table(&["rows", "value"]);
+    for v in r.unmatched.iter().take(top) {
+        t.add_row(vec![thousands(v.rows), shown(&v.value)]);
+    }
+    right_align(&mut t, 0..1);
+    let _ = writeln!(out, "{}", t.trim_fmt());
+}
+
+fn issues_section(out: &mut String, r: &CoverageReport, top: usize) {
+    if r.issues.is_empty() {
+        return;
+    }
+    let _ = writeln!(out, "\nvalues a rule could not turn into a feature (written as null): {}", r.issues.len());
+    let mut t = table(&["rows", "rule", "value", "why"]);
+    for i in r.issues.iter().take(top) {
+        t.add_row(vec![thousands(i.rows), i.rule.clone(), shown(&i.value), i.issue.to_string()]);
+    }
+    right_align(&mut t, 0..1);
+    let _ = writeln!(out, "{}", t.trim_fmt());
+}
+
+fn conflicts_section(out: &mut String, r: &CoverageReport, top: usize) {
+    if r.conflicts.is_empty() {
+        return;
+    }
+    let _ = writeln!(out, "\nconflicts (several cases matched; the first wins): {}", r.conflicts.len());
+    let mut t = table(&["rows", "rule", "value", "chosen", "also matched"]);
+    for c in r.conflicts.iter().take(top) {
+        t.add_row(vec![thousands(c.rows), c.rule.clone(), shown(&c.value), c.chosen.clone(), c.also.join(", ")]);
+    }
+    right_align(&mut t, 0..1);
+    let _ = writeln!(out, "{}", t.trim_fmt());
+}
+
+fn examples_section(out: &mut String, r: &CoverageReport) {
+    if r.examples.is_empty() {
+        return;
+    }
+    let passed = r.examples.len() - r.examples_failed;
+    let _ = writeln!(out, "\nexamples: {passed} passed, {} failed", r.examples_failed);
+    for e in r.examples.iter().filter(|e| !e.passed) {
+        let _ = writeln!(out, "  FAILED line {} {}", e.line, shown(&e.value));
+        for m in &e.mismatches {
+            let _ = writeln!(out, "    {}: expected {}, got {}", m.feature, m.expected, m.got);
+        }
+    }
+}
+
+/// `explain` for one value as text.
+pub fn explain_text(rules: &Ruleset, value: &str, normalized: &str, traces: &[Trace]) -> String {
+    let mut out = String::new();
+    let _ = writeln!(out, "value      {}", shown(value));
+    let _ = writeln!(out, "normalized {}", shown(normalized));
+    for (feature, trace) in rules.features.iter().zip(traces) {
+        let result = match trace.outcome.cell {
+            Cell::Null => "null".to_owned(),
+            cell => cell_json(feature, cell).to_string(),
+        };
+        let fired = if trace.outcome.fired { "fired" } else { "did not fire" };
+        let _ = writeln!(out, "  {} [{}] {fired} -> {result}", feature.output, feature.rule.kind());
+        for step in &trace.steps {
+            let _ = write!(out, "      {:<18} ", step.what);
+            match (&step.span, &step.text) {
+                (Some(span), Some(text)) => {
+                    let _ = write!(out, "matched {} at {}..{}", shown(text), span.start, span.end);
+                }
+                _ => out.push_str("no match"),
+            }
+            let caps: Vec<String> =
+                step.captures.iter().map(|c| c.as_deref().map_or("-".to_owned(), shown)).collect();
+            if !caps.is_empty() {
+                let _ = write!(out, "  groups [{}]", caps.join(", "));
+            }
+            if let Some(e) = &step.error {
+                let _ = write!(out, "  ({e})");
+            }
+            out.push('\n');
+        }
+        if let Some(issue) = &trace.outcome.issue {
+            let _ = writeln!(out, "      note: {issue}");
+        }
+    }
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn terminal_escapes_are_shown_inert() {
+        assert_eq!(shown("\u{1b}[31mred"), "\"\\u{1b}[31mred\"");
+        assert_eq!(shown("a\u{a0}b"), "\"a\\u{a0}b\"");
+        assert_eq!(shown("6 spd"), "\"6 spd\"");
+    }
+
+    #[test]
+    fn thousands_separators() {
+        assert_eq!(thousands(0), "0");
+        assert_eq!(thousands(999), "999");
+        assert_eq!(thousands(1000), "1,000");
+        assert_eq!(thousands(1234567), "1,234,567");
+    }
+}

@@ -1,0 +1,300 @@
+//! The coverage report: what a ruleset does to a column's vocabulary.
+//!
+//! The report is data ([`CoverageReport`] serializes to the documented JSON
+//! schema); `render.rs` turns it into text. Every number here is computed
+//! from the per-value outcomes and the vocabulary's row counts.
+
+use serde::Serialize;
+
+use crate::evaluate::{Cell, Evaluation, Issue, Outcome};
+use crate::ruleset::{Expected, Feature, Rule, Ruleset};
+use crate::vocabulary::Vocabulary;
+
+/// The JSON schema's name and version; bumped on any incompatible change.
+pub const CHECK_SCHEMA: &str = "descry.check/1";
+
+#[derive(Debug, Clone, Serialize)]
+pub struct CoverageReport {
+    pub schema: &'static str,
+    pub ruleset: String,
+    pub column: String,
+    pub rows: u64,
+    pub distinct: u64,
+    pub null_rows: u64,
+    /// Rows whose value is empty after normalization.
+    pub blank_rows: u64,
+    pub blank_distinct: u64,
+    pub coverage: Coverage,
+    pub rules: Vec<RuleReport>,
+    /// Non-blank values on which no rule fired, most rows first.
+    pub unmatched: Vec<ValueRows>,
+    pub conflicts: Vec<Conflict>,
+    /// Output names of rules that fired on no value.
+    pub silent_rules: Vec<String>,
+    /// Values a rule could not turn into a feature (out of range, ...).
+    pub issues: Vec<ValueIssue>,
+    pub examples: Vec<ExampleResult>,
+    pub examples_failed: usize,
+}
+
+/// Coverage over non-null, non-blank rows and distinct values.
+#[derive(Debug, Clone, Copy, Serialize, PartialEq)]
+pub struct Coverage {
+    pub rows_considered: u64,
+    pub rows_covered: u64,
+    pub row_share: f64,
+    pub distinct_considered: u64,
+    pub distinct_covered: u64,
+    pub distinct_share: f64,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct RuleReport {
+    pub name: String,
+    pub output: String,
+    pub kind: &'static str,
+    pub line: usize,
+    pub distinct_hit: u64,
+    pub rows_hit: u64,
+    pub out_of_range: Tally,
+    pub unparsable: Tally,
+    pub unknown_unit: Tally,
+    pub backtrack_limit: Tally,
+}
+
+#[derive(Debug, Clone, Copy, Default, Serialize, PartialEq, Eq)]
+pub struct Tally {
+    pub distinct: u64,
+    pub rows: u64,
+}
+
+impl Tally {
+    fn add(&mut self, rows: u64) {
+        self.distinct += 1;
+        self.rows += rows;
+    }
+}
+
+#[derive(Debug, Clone, Serialize, PartialEq, Eq)]
+pub struct ValueRows {
+    pub value: String,
+    pub normalized: String,
+    pub rows: u64,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct Conflict {
+    pub value: String,
+    pub rows: u64,
+    pub rule: String,
+    pub chosen: String,
+    pub also: Vec<String>,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct ValueIssue {
+    pub value: String,
+    pub rows: u64,
+    pub rule: String,
+    pub issue: Issue,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct ExampleResult {
+    pub value: String,
+    pub line: usize,
+    pub passed: bool,
+    pub mismatches: Vec<Mismatch>,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct Mismatch {
+    pub feature: String,
+    pub expected: serde_json::Value,
+    pub got: serde_json::Value,
+}
+
+impl CoverageReport {
+    /// Build the report of `rules` on `vocab`, given their evaluation.
+    pub fn build(rules: &Ruleset, column: &str, vocab: &Vocabulary, eval: &Evaluation) -> CoverageReport {
+        let mut report = CoverageReport {
+            schema: CHECK_SCHEMA,
+            ruleset: rules.file.clone(),
+            column: column.to_owned(),
+            rows: vocab.rows(),
+            distinct: vocab.distinct() as u64,
+            null_rows: vocab.null_rows,
+            blank_rows: 0,
+            blank_distinct: 0,
+            coverage: Coverage::default(),
+            rules: rules.features.iter().map(RuleReport::new).collect(),
+            unmatched: Vec::new(),
+            conflicts: Vec::new(),
+            silent_rules: Vec::new(),
+            issues: Vec::new(),
+            examples: check_examples(rules),
+            examples_failed: 0,
+        };
+        for (i, value) in vocab.values.iter().enumerate() {
+            report.add_value(rules, value, &eval.normalized[i], vocab.counts[i], &eval.outcomes[i]);
+        }
+        report.finish();
+        report
+    }
+
+    fn add_value(&mut self, rules: &Ruleset, value: &str, normalized: &str, rows: u64, outcomes: &[Outcome]) {
+        if normalized.is_empty() {
+            self.blank_rows += rows;
+            self.blank_distinct += 1;
+            return;
+        }
+        self.coverage.rows_considered += rows;
+        self.coverage.distinct_considered += 1;
+        let mut any_fired = false;
+        for ((feature, stats), outcome) in rules.features.iter().zip(&mut self.rules).zip(outcomes) {
+            if outcome.fired {
+                any_fired = true;
+                stats.distinct_hit += 1;
+                stats.rows_hit += rows;
+            }
+            if let Some(issue) = &outcome.issue {
+                stats.tally(issue).add(rows);
+                self.issues.push(ValueIssue {
+                    value: value.to_owned(),
+                    rows,
+                    rule: feature.output.clone(),
+                    issue: issue.clone(),
+                });
+            }
+            if let (Rule::Label(l), Cell::Label(chosen)) = (&feature.rule, outcome.cell) {
+                if !outcome.conflicts.is_empty() {
+                    self.conflicts.push(Conflict {
+                        value: value.to_owned(),
+                        rows,
+                        rule: feature.output.clone(),
+                        chosen: l.categories[chosen as usize].clone(),
+                        also: outcome.conflicts.iter().map(|&c| l.categories[c as usize].clone()).collect(),
+                    });
+                }
+            }
+        }
+        if any_fired {
+            self.coverage.rows_covered += rows;
+            self.coverage.distinct_covered += 1;
+        } else {
+            self.unmatched.push(ValueRows { value: value.to_owned(), normalized: normalized.to_owned(), rows });
+        }
+    }
+
+    fn finish(&mut self) {
+        let c = &mut self.coverage;
+        c.row_share = share(c.rows_covered, c.rows_considered);
+        c.distinct_share = share(c.distinct_covered, c.distinct_considered);
+        self.unmatched.sort_by(|a, b| b.rows.cmp(&a.rows).then_with(|| a.value.cmp(&b.value)));
+        self.conflicts.sort_by(|a, b| b.rows.cmp(&a.rows).then_with(|| a.value.cmp(&b.value)));
+        self.issues.sort_by(|a, b| b.rows.cmp(&a.rows).then_with(|| a.value.cmp(&b.value)));
+        self.silent_rules = self.rules.iter().filter(|r| r.distinct_hit == 0).map(|r| r.output.clone()).collect();
+        self.examples_failed = self.examples.iter().filter(|e| !e.passed).count();
+    }
+
+    /// The gate: coverage at least `min_coverage` (when given) and every
+    /// example passing.
+    pub fn passes(&self, min_coverage: Option<f64>) -> bool {
+        let coverage_ok = min_coverage.is_none_or(|min| self.coverage.row_share >= min);
+        coverage_ok && self.examples_failed == 0
+    }
+}
+
+/// `part / whole`, and 1 when there is nothing to cover.
+fn share(part: u64, whole: u64) -> f64 {
+    if whole == 0 {
+        1.0
+    } else {
+        part as f64 / whole as f64
+    }
+}
+
+impl Default for Coverage {
+    fn default() -> Self {
+        Coverage {
+            rows_considered: 0,
+            rows_covered: 0,
+            row_share: 1.0,
+            distinct_considered: 0,
+            distinct_covered: 0,
+            distinct_share: 1.0,
+        }
+    }
+}
+
+impl RuleReport {
+    fn new(f: &Feature) -> RuleReport {
+        RuleReport {
+            name: f.name.clone(),
+            output: f.output.clone(),
+            kind: f.rule.kind(),
+            line: f.line,
+            distinct_hit: 0,
+            rows_hit: 0,
+            out_of_range: Tally::default(),
+            unparsable: Tally::default(),
+            unknown_unit: Tally::default(),
+            backtrack_limit: Tally::default(),
+        }
+    }
+
+    fn tally(&mut self, issue: &Issue) -> &mut Tally {
+        match issue {
+            Issue::OutOfRange { .. } => &mut self.out_of_range,
+            Issue::Unparsable { .. } => &mut self.unparsable,
+            Issue::UnknownUnit { .. } => &mut self.unknown_unit,
+            Issue::BacktrackLimit | Issue::MatchFailed { .. } => &mut self.backtrack_limit,
+        }
+    }
+}
+
+/// A feature's value as JSON: labels by name, nulls as null.
+pub fn cell_json(feature: &Feature, cell: Cell) -> serde_json::Value {
+    match (cell, &feature.rule) {
+        (Cell::Null, _) => serde_json::Value::Null,
+        (Cell::Bool(b), _) => b.into(),
+        (Cell::Int(i), _) => i.into(),
+        (Cell::Float(x), _) => x.into(),
+        (Cell::Label(l), Rule::Label(rule)) => rule.categories[l as usize].clone().into(),
+        (Cell::Label(l), _) => l.into(),
+    }
+}
+
+fn check_examples(rules: &Ruleset) -> Vec<ExampleResult> {
+    rules
+        .examples
+        .iter()
+        .map(|ex| {
+            let outcomes = rules.evaluate(&rules.normalizer.apply(&ex.value));
+            let mismatches: Vec<Mismatch> = ex
+                .expect
+                .iter()
+                .filter(|(idx, expected)| !agrees(&rules.features[*idx], outcomes[*idx].cell, expected))
+                .map(|(idx, expected)| Mismatch {
+                    feature: rules.features[*idx].name.clone(),
+                    expected: serde_json::to_value(expected).unwrap_or_default(),
+                    got: cell_json(&rules.features[*idx], outcomes[*idx].cell),
+                })
+                .collect();
+            ExampleResult { value: ex.value.clone(), line: ex.line, passed: mismatches.is_empty(), mismatches }
+        })
+        .collect()
+}
+
+fn agrees(feature: &Feature, got: Cell, expected: &Expected) -> bool {
+    match (got, expected) {
+        (Cell::Bool(g), Expected::Bool(e)) => g == *e,
+        (Cell::Int(g), Expected::Int(e)) => g == *e,
+        (Cell::Float(g), Expected::Float(e)) => (g - e).abs() <= 1e-9 * e.abs().max(1.0),
+        (Cell::Label(g), Expected::Text(e)) => match &feature.rule {
+            Rule::Label(l) => l.categories[g as usize] == *e,
+            _ => false,
+        },
+        _ => false,
+    }
+}

@@ -1,0 +1,169 @@
+//! Rulesets: how a column becomes features.
+//!
+//! A ruleset is read from TOML ([`Ruleset::from_path`], [`Ruleset::from_toml`]),
+//! checked as a whole, and compiled once. The format is documented in
+//! `rulesets/README.md`; `spec.rs` mirrors it key by key and `compile.rs`
+//! checks it and builds the matchers.
+
+mod compile;
+pub mod spec;
+
+use std::path::Path;
+
+use hashbrown::HashMap;
+
+use crate::error::{Error, RulesetError};
+use crate::normalize::Normalizer;
+use crate::numbers::DecimalMark;
+use crate::pattern::{Matcher, Pattern};
+pub use spec::Precision;
+
+/// A compiled ruleset for one source column.
+#[derive(Debug, Clone)]
+pub struct Ruleset {
+    /// Where the ruleset came from (a path, or `<inline>`).
+    pub file: String,
+    /// The source column named in the file, if any.
+    pub column: Option<String>,
+    pub prefix: String,
+    pub decimal: DecimalMark,
+    pub normalizer: Normalizer,
+    /// Features in the order they are declared in the file.
+    pub features: Vec<Feature>,
+    pub examples: Vec<Example>,
+}
+
+/// One output column and the rule that fills it.
+#[derive(Debug, Clone)]
+pub struct Feature {
+    /// The name as written in the ruleset.
+    pub name: String,
+    /// The output column name: prefix + name.
+    pub output: String,
+    /// 1-based line of the rule's `name` in the file.
+    pub line: usize,
+    pub rule: Rule,
+}
+
+/// The four rule kinds.
+#[derive(Debug, Clone)]
+pub enum Rule {
+    Flag(FlagRule),
+    Count(CountRule),
+    Measure(MeasureRule),
+    Label(LabelRule),
+}
+
+impl Rule {
+    /// The kind's name as written in the ruleset (`[[flag]]` etc.).
+    pub fn kind(&self) -> &'static str {
+        match self {
+            Rule::Flag(_) => "flag",
+            Rule::Count(_) => "count",
+            Rule::Measure(_) => "measure",
+            Rule::Label(_) => "label",
+        }
+    }
+}
+
+#[derive(Debug, Clone)]
+pub struct FlagRule {
+    pub matcher: Matcher,
+}
+
+#[derive(Debug, Clone)]
+pub struct CountRule {
+    pub pattern: Pattern,
+    pub range: Option<(i64, i64)>,
+    pub missing: Option<i64>,
+}
+
+#[derive(Debug, Clone)]
+pub struct MeasureRule {
+    pub pattern: Pattern,
+    /// The target unit every value is converted to.
+    pub unit: String,
+    /// Unit spelling (normalized) -> factor to the target unit.
+    pub units: Vec<(String, f64)>,
+    /// Capture group index (0-based into `Found::groups`) candidates for the number.
+    pub number_groups: Vec<usize>,
+    /// Capture group candidates for the unit.
+    pub unit_groups: Vec<usize>,
+    pub precision: Precision,
+    pub range: Option<(f64, f64)>,
+    pub missing: Option<f64>,
+}
+
+impl MeasureRule {
+    /// The factor for a unit as captured; `None` for an unknown unit.
+    pub fn factor(&self, unit: &str) -> Option<f64> {
+        let unit = unit.trim().trim_end_matches('.');
+        self.units.iter().find(|(u, _)| u == unit).map(|(_, f)| *f)
+    }
+}
+
+#[derive(Debug, Clone)]
+pub struct LabelRule {
+    /// The categories, in the order the output column declares them.
+    pub categories: Vec<String>,
+    pub default: Option<u32>,
+    /// Normalized value -> category index, consulted before the cases.
+    pub map: HashMap<String, u32>,
+    pub cases: Vec<LabelCase>,
+}
+
+#[derive(Debug, Clone)]
+pub struct LabelCase {
+    pub label: u32,
+    pub matcher: Matcher,
+}
+
+/// A `[[example]]`: a value and the features it must give.
+#[derive(Debug, Clone)]
+pub struct Example {
+    pub value: String,
+    pub line: usize,
+    /// (feature index, expected value)
+    pub expect: Vec<(usize, Expected)>,
+}
+
+/// An expected feature value in an example.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+#[serde(untagged)]
+pub enum Expected {
+    Bool(bool),
+    Int(i64),
+    Float(f64),
+    Text(String),
+}
+
+impl Ruleset {
+    /// Read and compile a ruleset file.
+    pub fn from_path(path: &Path) -> Result<Ruleset, Error> {
+        let file = path.display().to_string();
+        let text = std::fs::read_to_string(path).map_err(|e| {
+            RulesetError::new(&file, format!("cannot read the ruleset: {e}"))
+                .hint("check the path given to --rules")
+        })?;
+        Ok(Ruleset::from_toml(&text, &file)?)
+    }
+
+    /// Compile a ruleset from TOML text; `file` names it in errors.
+    ///
+    /// ```
+    /// let rules = descry::Ruleset::from_toml(r#"
+    ///     [[flag]]
+    ///     name = "turbo"
+    ///     any = ["turbo"]
+    /// "#, "<inline>").unwrap();
+    /// assert_eq!(rules.features[0].output, "turbo");
+    /// ```
+    pub fn from_toml(text: &str, file: &str) -> Result<Ruleset, RulesetError> {
+        compile::compile(text, file)
+    }
+
+    /// The index of a feature by its name or its output name.
+    pub fn feature_index(&self, name: &str) -> Option<usize> {
+        self.features.iter().position(|f| f.name == name || f.output == name)
+    }
+}

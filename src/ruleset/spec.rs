@@ -1,0 +1,110 @@
+//! The ruleset file as written: serde structures that mirror the TOML.
+//! Nothing here is checked beyond types and key names; `compile.rs` turns a
+//! [`RulesetSpec`] into a usable [`crate::Ruleset`].
+
+use indexmap::IndexMap;
+use serde::Deserialize;
+use toml::Spanned;
+
+use crate::normalize::Normalizer;
+use crate::numbers::DecimalMark;
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RulesetSpec {
+    pub column: Option<String>,
+    #[serde(default)]
+    pub prefix: String,
+    #[serde(default)]
+    pub decimal: DecimalMark,
+    pub description: Option<String>,
+    #[serde(default)]
+    pub normalize: Normalizer,
+    #[serde(default)]
+    pub flag: Vec<FlagSpec>,
+    #[serde(default)]
+    pub count: Vec<CountSpec>,
+    #[serde(default)]
+    pub measure: Vec<MeasureSpec>,
+    #[serde(default)]
+    pub label: Vec<LabelSpec>,
+    #[serde(default)]
+    pub example: Vec<ExampleSpec>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct FlagSpec {
+    pub name: Spanned<String>,
+    pub description: Option<String>,
+    pub any: Option<Vec<String>>,
+    pub pattern: Option<String>,
+    #[serde(default)]
+    pub fancy: bool,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct CountSpec {
+    pub name: Spanned<String>,
+    pub description: Option<String>,
+    pub pattern: Option<String>,
+    #[serde(default)]
+    pub fancy: bool,
+    pub range: Option<[i64; 2]>,
+    pub missing: Option<i64>,
+}
+
+#[derive(Debug, Deserialize, Clone, Copy, PartialEq, Eq, Default)]
+#[serde(rename_all = "lowercase")]
+pub enum Precision {
+    #[default]
+    F32,
+    F64,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct MeasureSpec {
+    pub name: Spanned<String>,
+    pub description: Option<String>,
+    pub pattern: Option<String>,
+    #[serde(default)]
+    pub fancy: bool,
+    pub unit: Option<String>,
+    pub units: Option<IndexMap<String, f64>>,
+    #[serde(default)]
+    pub precision: Precision,
+    pub range: Option<[f64; 2]>,
+    pub missing: Option<f64>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct LabelSpec {
+    pub name: Spanned<String>,
+    pub description: Option<String>,
+    pub default: Option<String>,
+    pub categories: Option<Vec<String>>,
+    #[serde(default)]
+    pub map: IndexMap<String, String>,
+    #[serde(default)]
+    pub case: Vec<CaseSpec>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct CaseSpec {
+    pub label: Option<Spanned<String>>,
+    pub any: Option<Vec<String>>,
+    pub pattern: Option<String>,
+    #[serde(default)]
+    pub fancy: bool,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ExampleSpec {
+    pub value: Spanned<String>,
+    pub expect: IndexMap<String, toml::Value>,
+}

@@ -1,0 +1,222 @@
+//! The command line end to end: exit codes, error messages, outputs.
+//! Every run is checked for panics (RUST_BACKTRACE=1 is set).
+
+mod common;
+
+use common::*;
+use tempfile::TempDir;
+
+const RULES: &str = r#"
+column = "transmission"
+prefix = "tx_"
+
+[[count]]
+name = "gears"
+pattern = '({int})\s*-?\s*(spd|speed|sp)\b'
+range = [1, 30]
+
+[[flag]]
+name = "shuttle"
+any = ["shuttle", "reverser"]
+
+[[label]]
+name = "kind"
+default = "other"
+[[label.case]]
+label = "manual"
+any = ["manual", "man"]
+[[label.case]]
+label = "automatic"
+any = ["auto", "automatic"]
+
+[[example]]
+value = "6 SPD Auto"
+expect = { gears = 6, kind = "automatic" }
+"#;
+
+const TABLE: &str = "id,transmission,price\n\
+1,6 spd auto,100\n\
+2,6 SPD Auto,200\n\
+3,12-speed manual shuttle,300\n\
+4,,400\n\
+5,\"\",500\n\
+6,hydrostatic,600\n\
+7,6 spd auto,700\n";
+
+fn setup() -> (TempDir, std::path::PathBuf, std::path::PathBuf) {
+    let dir = TempDir::new().unwrap();
+    let rules = write(dir.path(), "tx.toml", RULES);
+    let table = write(dir.path(), "listings.csv", TABLE);
+    (dir, rules, table)
+}
+
+#[test]
+fn check_reports_coverage_and_exits_zero() {
+    let (_d, rules, table) = setup();
+    let out = run(&["check", s(&table), "--rules", s(&rules), "--format", "json"], None);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    let report: serde_json::Value = serde_json::from_str(&stdout(&out)).unwrap();
+    assert_eq!(report["schema"], "descry.check/1");
+    assert_eq!(report["rows"], 7);
+    assert_eq!(report["null_rows"], 1);
+    assert_eq!(report["blank_rows"], 1);
+    // 5 non-blank rows; "hydrostatic" (1 row) is unmatched.
+    assert_eq!(report["coverage"]["rows_considered"], 5);
+    assert_eq!(report["coverage"]["rows_covered"], 4);
+    assert_eq!(report["unmatched"][0]["value"], "hydrostatic");
+    assert_eq!(report["examples_failed"], 0);
+}
+
+#[test]
+fn min_coverage_gate_exits_one_below_and_zero_above() {
+    let (_d, rules, table) = setup();
+    let below = run(&["check", s(&table), "-r", s(&rules), "--min-coverage", "0.9"], None);
+    assert_eq!(below.status.code(), Some(1));
+    assert!(stderr(&below).contains("below --min-coverage"), "{}", stderr(&below));
+    let above = run(&["check", s(&table), "-r", s(&rules), "--min-coverage", "0.8"], None);
+    assert_eq!(above.status.code(), Some(0));
+}
+
+#[test]
+fn a_failing_example_exits_one() {
+    let (dir, _rules, table) = setup();
+    let bad = RULES.replace("gears = 6,", "gears = 7,");
+    let rules = write(dir.path(), "bad.toml", &bad);
+    let out = run(&["check", s(&table), "-r", s(&rules)], None);
+    assert_eq!(out.status.code(), Some(1));
+    assert!(stdout(&out).contains("expected 7, got 6"), "{}", stdout(&out));
+}
+
+#[test]
+fn missing_column_lists_the_columns() {
+    let (_d, rules, table) = setup();
+    let out = run(&["check", s(&table), "-r", s(&rules), "--column", "gearbox"], None);
+    assert_eq!(out.status.code(), Some(2));
+    let err = stderr(&out);
+    assert!(err.contains("no column named \"gearbox\""), "{err}");
+    assert!(err.contains("id, transmission, price"), "{err}");
+}
+
+#[test]
+fn bad_pattern_names_file_rule_line_and_position() {
+    let (dir, _r, table) = setup();
+    let rules = write(dir.path(), "broken.toml", "[[count]]\nname = \"gears\"\npattern = '({int}\\s*spd'\n");
+    let out = run(&["check", s(&table), "-r", s(&rules), "-c", "transmission"], None);
+    assert_eq!(out.status.code(), Some(2));
+    let err = stderr(&out);
+    assert!(err.contains("broken.toml:2"), "{err}");
+    assert!(err.contains("[[count]] \"gears\""), "{err}");
+    assert!(err.contains("pattern position 0"), "{err}");
+}
+
+#[test]
+fn apply_writes_parquet_with_compact_types() {
+    let (dir, rules, table) = setup();
+    let out_path = dir.path().join("out.parquet");
+    let out = run(&["apply", s(&table), "-r", s(&rules), "-o", s(&out_path)], None);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    assert!(stderr(&out).contains("wrote 7 rows, 3 features"), "{}", stderr(&out));
+    let csv_path = dir.path().join("out.csv");
+    let out = run(&["apply", s(&table), "-r", s(&rules), "-o", s(&csv_path), "--only-features", "--keep", "id"], None);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    let text = std::fs::read_to_string(&csv_path).unwrap();
+    let lines: Vec<&str> = text.lines().collect();
+    assert_eq!(lines[0], "id,tx_gears,tx_shuttle,tx_kind");
+    assert_eq!(lines[1], "1,6,false,automatic");
+    assert_eq!(lines[3], "3,12,true,manual");
+    assert_eq!(lines[4], "4,,,", "null source gives null features");
+    assert_eq!(lines[6], "6,,false,other");
+}
+
+#[test]
+fn failed_apply_keeps_the_existing_output() {
+    let (dir, _rules, table) = setup();
+    let out_path = write(dir.path(), "out.csv", "previous output\n");
+    let rules = write(dir.path(), "bad.toml", "column = \"transmission\"\n[[flag]]\nname = \"x\"\npattern = '('\n");
+    let out = run(&["apply", s(&table), "-r", s(&rules), "-o", s(&out_path)], None);
+    assert_eq!(out.status.code(), Some(2));
+    assert_eq!(std::fs::read_to_string(&out_path).unwrap(), "previous output\n");
+    let leftovers: Vec<_> = std::fs::read_dir(dir.path())
+        .unwrap()
+        .filter_map(|e| e.ok())
+        .filter(|e| e.file_name().to_string_lossy().contains("partial"))
+        .collect();
+    assert!(leftovers.is_empty(), "no temporary file is left behind");
+}
+
+#[test]
+fn output_equal_to_input_is_refused() {
+    let (_d, rules, table) = setup();
+    let before = std::fs::read(&table).unwrap();
+    let out = run(&["apply", s(&table), "-r", s(&rules), "-o", s(&table)], None);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(stderr(&out).contains("is also the input"), "{}", stderr(&out));
+    assert_eq!(std::fs::read(&table).unwrap(), before);
+}
+
+#[test]
+fn output_in_a_missing_folder_is_an_error() {
+    let (dir, rules, table) = setup();
+    let target = dir.path().join("nope/out.parquet");
+    let out = run(&["apply", s(&table), "-r", s(&rules), "-o", s(&target)], None);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(stderr(&out).contains("does not exist"), "{}", stderr(&out));
+}
+
+#[test]
+fn explain_shows_spans_and_values() {
+    let (_d, rules, _t) = setup();
+    let out = run(&["explain", "-r", s(&rules), "6 SPD Auto"], None);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    let text = stdout(&out);
+    assert!(text.contains("normalized \"6 spd auto\""), "{text}");
+    assert!(text.contains("tx_gears [count] fired -> 6"), "{text}");
+    assert!(text.contains("matched \"6 spd\" at 0..5"), "{text}");
+}
+
+#[test]
+fn stdin_is_read_as_csv() {
+    let (_d, rules, _t) = setup();
+    let out = descry()
+        .args(["check", "-", "-r", s(&rules), "--format", "json"])
+        .write_stdin(TABLE)
+        .output()
+        .unwrap();
+    assert_no_panic(&out);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    let report: serde_json::Value = serde_json::from_str(&stdout(&out)).unwrap();
+    assert_eq!(report["rows"], 7);
+}
+
+#[test]
+fn thread_count_does_not_change_the_output() {
+    let (dir, rules, table) = setup();
+    let one = dir.path().join("one.parquet");
+    let many = dir.path().join("many.parquet");
+    run(&["--threads", "1", "apply", s(&table), "-r", s(&rules), "-o", s(&one)], None);
+    run(&["--threads", "2", "apply", s(&table), "-r", s(&rules), "-o", s(&many)], None);
+    assert_eq!(std::fs::read(&one).unwrap(), std::fs::read(&many).unwrap());
+}
+
+#[test]
+fn feature_name_colliding_with_an_input_column_is_an_error() {
+    let (dir, _r, table) = setup();
+    let rules = write(dir.path(), "c.toml", "column = \"transmission\"\n[[flag]]\nname = \"price\"\nany = [\"x\"]\n");
+    let out = run(&["apply", s(&table), "-r", s(&rules), "-o", s(&dir.path().join("o.csv"))], None);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(stderr(&out).contains("which the input already has"), "{}", stderr(&out));
+}
+
+#[test]
+fn numeric_column_of_a_typed_file_is_read_as_text_with_a_note() {
+    let (dir, rules, table) = setup();
+    let typed = dir.path().join("typed.parquet");
+    let out = run(&["apply", s(&table), "-r", s(&rules), "-o", s(&typed)], None);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    let by_price = write(dir.path(), "p.toml", "column = \"price\"\n[[count]]\nname = \"hundreds\"\npattern = '^({int})00$'\n");
+    let out = run(&["check", s(&typed), "-r", s(&by_price), "--format", "json"], None);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    assert!(stderr(&out).contains("column \"price\" holds i64 values; they were read as text"), "{}", stderr(&out));
+    let report: serde_json::Value = serde_json::from_str(&stdout(&out)).unwrap();
+    assert_eq!(report["coverage"]["rows_covered"], 7);
+}
