@@ -85,53 +85,93 @@ pub fn count_type(feature_index: usize, feature: &Feature, eval: &Evaluation) ->
 
 /// Build every feature column of one ruleset for the rows of `vocab`.
 pub fn encode(rules: &Ruleset, vocab: &Vocabulary, eval: &Evaluation) -> PolarsResult<Vec<Column>> {
-    rules
-        .features
-        .iter()
-        .enumerate()
-        .map(|(i, f)| encode_feature(i, f, vocab, eval).map(Column::from))
-        .collect()
+    let mut encoder = Encoder::new(rules, eval);
+    encoder.add_values(eval, 0);
+    encoder.encode(rules, &vocab.codes)
 }
 
-fn per_value<T: Copy + Send>(eval: &Evaluation, i: usize, get: impl Fn(Cell) -> Option<T>) -> Vec<Option<T>> {
-    eval.outcomes.iter().map(|o| get(o[i].cell)).collect()
+/// Turns row codes into feature columns. The column types are fixed when
+/// the encoder is made, so every batch of a large file gets the same types;
+/// per-value cells are appended as new values are evaluated.
+#[derive(Debug, Clone)]
+pub struct Encoder {
+    count_types: Vec<Option<IntType>>,
+    /// `slots[feature][value]`.
+    slots: Vec<Vec<Cell>>,
 }
 
-/// Gather per-value results to rows, in parallel chunks, in row order.
-fn gather<T: Copy + Send + Sync>(codes: &[u32], values: &[Option<T>]) -> Vec<Option<T>> {
+impl Encoder {
+    /// Fix the types: counts from their `range`, or from the values observed
+    /// in `eval` (which must then cover the whole column).
+    pub fn new(rules: &Ruleset, eval: &Evaluation) -> Encoder {
+        let count_types = rules
+            .features
+            .iter()
+            .enumerate()
+            .map(|(i, f)| matches!(f.rule, Rule::Count(_)).then(|| count_type(i, f, eval)))
+            .collect();
+        Encoder { count_types, slots: vec![Vec::new(); rules.features.len()] }
+    }
+
+    /// Whether every type is fixed by the ruleset alone (no count without a
+    /// `range`), so that a large file can be encoded in one pass.
+    pub fn types_fixed_by_ruleset(rules: &Ruleset) -> bool {
+        rules.features.iter().all(|f| !matches!(&f.rule, Rule::Count(c) if c.range.is_none()))
+    }
+
+    /// Append the cells of values `from..` of `eval`.
+    pub fn add_values(&mut self, eval: &Evaluation, from: usize) {
+        for (i, slots) in self.slots.iter_mut().enumerate() {
+            slots.extend(eval.outcomes[from..].iter().map(|o| o[i].cell));
+        }
+    }
+
+    /// The feature columns for rows with these value codes.
+    pub fn encode(&self, rules: &Ruleset, codes: &[u32]) -> PolarsResult<Vec<Column>> {
+        rules
+            .features
+            .iter()
+            .enumerate()
+            .map(|(i, f)| self.encode_feature(i, f, codes).map(Column::from))
+            .collect()
+    }
+
+    fn encode_feature(&self, i: usize, f: &Feature, codes: &[u32]) -> PolarsResult<Series> {
+        let name: PlSmallStr = f.output.as_str().into();
+        let slots = &self.slots[i];
+        match &f.rule {
+            Rule::Flag(_) => {
+                let rows = gather(codes, slots, |c| if let Cell::Bool(b) = c { Some(b) } else { None });
+                Ok(BooleanChunked::from_iter_options(name, rows.into_iter()).into_series())
+            }
+            Rule::Count(_) => {
+                let rows = gather(codes, slots, |c| if let Cell::Int(x) = c { Some(x) } else { None });
+                let s = Int64Chunked::from_iter_options(name, rows.into_iter()).into_series();
+                s.strict_cast(&self.count_types[i].unwrap_or(IntType::Int64).dtype())
+            }
+            Rule::Measure(m) => {
+                let rows = gather(codes, slots, |c| if let Cell::Float(x) = c { Some(x) } else { None });
+                let s = Float64Chunked::from_iter_options(name, rows.into_iter()).into_series();
+                match m.precision {
+                    Precision::F64 => Ok(s),
+                    Precision::F32 => s.cast(&DataType::Float32),
+                }
+            }
+            Rule::Label(l) => {
+                let rows = gather(codes, slots, |c| if let Cell::Label(x) = c { Some(x) } else { None });
+                label_series(name, &l.categories, rows)
+            }
+        }
+    }
+}
+
+/// Gather per-value cells to rows, in parallel chunks, in row order.
+fn gather<T: Copy + Send + Sync>(codes: &[u32], slots: &[Cell], get: impl Fn(Cell) -> Option<T> + Sync) -> Vec<Option<T>> {
     codes
         .par_iter()
         .with_min_len(1 << 16)
-        .map(|&c| if c == NULL_CODE { None } else { values[c as usize] })
+        .map(|&c| if c == NULL_CODE { None } else { get(slots[c as usize]) })
         .collect()
-}
-
-fn encode_feature(i: usize, f: &Feature, vocab: &Vocabulary, eval: &Evaluation) -> PolarsResult<Series> {
-    let name: PlSmallStr = f.output.as_str().into();
-    let codes = &vocab.codes;
-    match &f.rule {
-        Rule::Flag(_) => {
-            let v = per_value(eval, i, |c| if let Cell::Bool(b) = c { Some(b) } else { None });
-            Ok(BooleanChunked::from_iter_options(name, gather(codes, &v).into_iter()).into_series())
-        }
-        Rule::Count(_) => {
-            let v = per_value(eval, i, |c| if let Cell::Int(x) = c { Some(x) } else { None });
-            let s = Int64Chunked::from_iter_options(name, gather(codes, &v).into_iter()).into_series();
-            s.strict_cast(&count_type(i, f, eval).dtype())
-        }
-        Rule::Measure(m) => {
-            let v = per_value(eval, i, |c| if let Cell::Float(x) = c { Some(x) } else { None });
-            let s = Float64Chunked::from_iter_options(name, gather(codes, &v).into_iter()).into_series();
-            match m.precision {
-                Precision::F64 => Ok(s),
-                Precision::F32 => s.cast(&DataType::Float32),
-            }
-        }
-        Rule::Label(l) => {
-            let v = per_value(eval, i, |c| if let Cell::Label(x) = c { Some(x) } else { None });
-            label_series(name, &l.categories, gather(codes, &v))
-        }
-    }
 }
 
 /// An Enum column: its categories are the ruleset's labels, in order, so

@@ -275,6 +275,14 @@ pub struct Evaluation {
     pub outcomes: Vec<Vec<Outcome>>,
 }
 
+impl Evaluation {
+    /// Add the results of further values (evaluated later, in order).
+    pub fn append(&mut self, more: Evaluation) {
+        self.normalized.extend(more.normalized);
+        self.outcomes.extend(more.outcomes);
+    }
+}
+
 impl Ruleset {
     /// Normalize and evaluate each distinct value once, in parallel; the
     /// result is in the order of `values` whatever the thread count.

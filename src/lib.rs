@@ -48,6 +48,7 @@ pub mod evaluate;
 pub mod normalize;
 pub mod numbers;
 pub mod pattern;
+pub mod pipeline;
 pub mod read;
 pub mod render;
 pub mod report;

@@ -269,5 +269,166 @@ fn read_csv(
         .with_columns(columns)
         .with_schema_overwrite(Some(Arc::new(overwrite)))
         .with_parse_options(CsvParseOptions::default().with_separator(delimiter).with_encoding(encoding));
-    csv_reader(source, options)
+    csv_reader(source, options).map_err(|e| match diagnose_csv(source, delimiter, opts.lossy_utf8) {
+        Some(place) => polars_err!(ComputeError: "{place}"),
+        None => e,
+    })
+}
+
+/// Find where a CSV file goes wrong, in words a user can act on: the
+/// reader's own errors do not always say which row.
+fn diagnose_csv(source: &Source, delimiter: u8, lossy_utf8: bool) -> Option<String> {
+    let bytes: std::borrow::Cow<[u8]> = match source {
+        Source::File(p) => std::fs::read(p).ok()?.into(),
+        Source::Bytes(b) => b.as_slice().into(),
+    };
+    if let Some(line) = unclosed_quote_line(&bytes) {
+        return Some(format!(
+            "line {line}: a quoted field opens here and is never closed; close the quote or double the \" inside it"
+        ));
+    }
+    let mut reader = csv::ReaderBuilder::new().delimiter(delimiter).has_headers(true).from_reader(&bytes[..]);
+    let header = reader.byte_headers().ok()?.clone();
+    for (i, record) in reader.byte_records().enumerate() {
+        let row = i + 1;
+        match record {
+            Err(e) => match e.kind() {
+                csv::ErrorKind::UnequalLengths { pos, expected_len, len } => {
+                    let line = pos.as_ref().map_or(0, |p| p.line());
+                    return Some(format!(
+                        "row {row} (line {line}) has {len} fields but the header has {expected_len}; \
+                         fix the row, or check the delimiter (--delimiter)"
+                    ));
+                }
+                _ => return Some(format!("row {row}: {e}")),
+            },
+            Ok(record) if !lossy_utf8 => {
+                if let Some(field) = record.iter().position(|f| std::str::from_utf8(f).is_err()) {
+                    let line = record.position().map_or(0, |p| p.line());
+                    let column = header.get(field).map(String::from_utf8_lossy).unwrap_or_default();
+                    return Some(format!(
+                        "row {row} (line {line}), column \"{column}\": invalid UTF-8; re-encode the file \
+                         as UTF-8, or pass --lossy-utf8 to replace bad bytes with U+FFFD"
+                    ));
+                }
+            }
+            Ok(_) => {}
+        }
+    }
+    None
+}
+
+/// The line where a quote opens that the file never closes, if any.
+fn unclosed_quote_line(bytes: &[u8]) -> Option<usize> {
+    let mut in_quotes = false;
+    let mut opened_at = 0;
+    for (i, &b) in bytes.iter().enumerate() {
+        if b == b'"' {
+            in_quotes = !in_quotes;
+            if in_quotes {
+                opened_at = i;
+            }
+        }
+    }
+    in_quotes.then(|| bytes[..opened_at].iter().filter(|&&b| b == b'\n').count() + 1)
+}
+
+/// The column names of a table, from its header or schema.
+pub fn table_columns(path: &Path, opts: &ReadOptions) -> Result<Vec<String>, Error> {
+    let format = TableFormat::of(path, opts.delimiter)?;
+    let source = Source::open(path)?;
+    column_names(&source, format).map_err(|e| input_error(path, e))
+}
+
+/// Whether a table can be read batch by batch (files in CSV, Parquet or
+/// Arrow IPC); standard input and NDJSON are read whole.
+pub fn can_stream(path: &Path, opts: &ReadOptions) -> bool {
+    path.as_os_str() != "-"
+        && matches!(
+            TableFormat::of(path, opts.delimiter),
+            Ok(TableFormat::Csv { .. } | TableFormat::Parquet | TableFormat::Ipc)
+        )
+}
+
+/// Read a table in batches of about `batch_rows` rows, in file order, and
+/// hand each to `each`. Only the batch in hand (and polars' read-ahead) is
+/// in memory. `projection` limits the columns read. Returns notes for the
+/// user, as [`Table::notes`].
+pub fn for_each_batch(
+    path: &Path,
+    text_columns: &[&str],
+    projection: Option<&[&str]>,
+    opts: &ReadOptions,
+    batch_rows: usize,
+    mut each: impl FnMut(DataFrame) -> Result<(), Error>,
+) -> Result<Vec<String>, Error> {
+    let format = TableFormat::of(path, opts.delimiter)?;
+    let source = Source::open(path)?;
+    let names = column_names(&source, format).map_err(|e| input_error(path, e))?;
+    if let Some(missing) = text_columns.iter().find(|c| !names.iter().any(|n| n == *c)) {
+        return Err(Error::MissingColumn { path: path.to_owned(), column: missing.to_string(), available: names });
+    }
+    let mut lazy = scan(path, format, text_columns, opts).map_err(|e| input_error(path, e))?;
+    if let Some(cols) = projection {
+        lazy = lazy.select(cols.iter().map(|c| col(*c)).collect::<Vec<_>>());
+    }
+    let schema = lazy.collect_schema().map_err(|e| input_error(path, e))?;
+    let notes = text_columns
+        .iter()
+        .filter_map(|c| schema.get(c).filter(|t| !matches!(t, DataType::String | DataType::Null)).map(|t| (c, t)))
+        .map(|(c, t)| format!("column \"{c}\" holds {t} values; they were read as text"))
+        .collect();
+    let casts: Vec<Expr> = text_columns.iter().map(|c| col(*c).cast(DataType::String)).collect();
+    lazy = lazy.with_columns(casts);
+    let (send, receive) = std::sync::mpsc::sync_channel::<DataFrame>(2);
+    let sink = lazy
+        .sink_batches(
+            PlanCallback::new(move |df: DataFrame| Ok(send.send(df).is_err())),
+            true,
+            std::num::NonZeroUsize::new(batch_rows.max(1)),
+        )
+        .map_err(|e| input_error(path, e))?;
+    let runner = std::thread::spawn(move || sink.collect_with_engine(Engine::Streaming).map(|_| ()));
+    let mut failure = None;
+    for batch in receive.iter() {
+        if let Err(e) = each(batch) {
+            failure = Some(e);
+            break;
+        }
+    }
+    drop(receive);
+    let read_result = runner.join().unwrap_or_else(|_| Err(polars_err!(ComputeError: "the reader stopped unexpectedly")));
+    if let Some(e) = failure {
+        return Err(e);
+    }
+    read_result.map(|_| notes).map_err(|e| match (format, diagnose_csv(&source, delimiter_of(format), opts.lossy_utf8)) {
+        (TableFormat::Csv { .. }, Some(place)) => Error::Input { path: path.to_owned(), message: format!("cannot read the table: {place}") },
+        _ => input_error(path, e),
+    })
+}
+
+fn delimiter_of(format: TableFormat) -> u8 {
+    match format {
+        TableFormat::Csv { delimiter } => delimiter,
+        _ => b',',
+    }
+}
+
+fn scan(path: &Path, format: TableFormat, text_columns: &[&str], opts: &ReadOptions) -> PolarsResult<LazyFrame> {
+    let p = PlRefPath::new(path.to_string_lossy().as_ref());
+    match format {
+        TableFormat::Csv { delimiter } => {
+            let overwrite: Schema = text_columns.iter().map(|c| Field::new((*c).into(), DataType::String)).collect();
+            let encoding = if opts.lossy_utf8 { CsvEncoding::LossyUtf8 } else { CsvEncoding::Utf8 };
+            LazyCsvReader::new(p)
+                .with_has_header(true)
+                .with_separator(delimiter)
+                .with_encoding(encoding)
+                .with_dtype_overwrite(Some(Arc::new(overwrite)))
+                .finish()
+        }
+        TableFormat::Parquet => LazyFrame::scan_parquet(p, ScanArgsParquet::default()),
+        TableFormat::Ipc => LazyFrame::scan_ipc(p, Default::default(), Default::default()),
+        TableFormat::NdJson => polars_bail!(ComputeError: "NDJSON is read whole, not in batches"),
+    }
 }

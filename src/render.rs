@@ -12,11 +12,16 @@ use crate::evaluate::{Cell, Trace};
 use crate::report::{cell_json, CoverageReport};
 use crate::ruleset::Ruleset;
 
-/// A value quoted, with control characters and other invisibles escaped.
+/// Longest value shown in full in a text report, in characters.
+pub const SHOWN_MAX_CHARS: usize = 120;
+
+/// A value quoted, with control characters and other invisibles escaped,
+/// and cut after [`SHOWN_MAX_CHARS`] characters (JSON reports keep it whole).
 pub fn shown(value: &str) -> String {
-    let mut out = String::with_capacity(value.len() + 2);
+    let mut out = String::with_capacity(value.len().min(4 * SHOWN_MAX_CHARS) + 2);
     out.push('"');
-    for c in value.chars() {
+    let total = value.chars().count();
+    for c in value.chars().take(SHOWN_MAX_CHARS) {
         match c {
             '"' => out.push_str("\\\""),
             '\\' => out.push_str("\\\\"),
@@ -27,6 +32,9 @@ pub fn shown(value: &str) -> String {
         }
     }
     out.push('"');
+    if total > SHOWN_MAX_CHARS {
+        let _ = write!(out, "... ({} more characters)", thousands((total - SHOWN_MAX_CHARS) as u64));
+    }
     out
 }
 
@@ -223,6 +231,14 @@ mod tests {
         assert_eq!(shown("\u{1b}[31mred"), "\"\\u{1b}[31mred\"");
         assert_eq!(shown("a\u{a0}b"), "\"a\\u{a0}b\"");
         assert_eq!(shown("6 spd"), "\"6 spd\"");
+    }
+
+    #[test]
+    fn long_values_are_cut() {
+        let long = "x".repeat(10_000);
+        let s = shown(&long);
+        assert!(s.ends_with("... (9,880 more characters)"), "{s}");
+        assert!(s.len() < 200);
     }
 
     #[test]

@@ -43,7 +43,7 @@ impl Vocabulary {
 
     /// Number of rows, null rows included.
     pub fn rows(&self) -> u64 {
-        self.codes.len() as u64
+        self.counts.iter().sum::<u64>() + self.null_rows
     }
 
     pub fn distinct(&self) -> usize {
@@ -90,5 +90,77 @@ impl VocabularyBuilder {
 
     pub fn finish(self) -> Vocabulary {
         Vocabulary { values: self.values, counts: self.counts, null_rows: self.null_rows, codes: self.codes }
+    }
+}
+
+/// A vocabulary that grows batch by batch without keeping any row codes:
+/// the memory it holds is proportional to the distinct values only.
+#[derive(Debug, Default, Clone)]
+pub struct GrowingVocabulary {
+    index: HashMap<String, u32>,
+    /// Distinct non-null values in order of first appearance.
+    pub values: Vec<String>,
+    pub counts: Vec<u64>,
+    pub null_rows: u64,
+    pub rows: u64,
+}
+
+impl GrowingVocabulary {
+    /// Codes for one batch of rows; values seen for the first time are
+    /// appended to `values` in row order (so the order does not depend on
+    /// how the work is split between threads).
+    pub fn codes_for<'a>(&mut self, rows: &[Option<&'a str>]) -> Vec<u32> {
+        use rayon::prelude::*;
+        let known: Vec<u32> = rows
+            .par_iter()
+            .with_min_len(1 << 14)
+            .map(|r| match r {
+                None => NULL_CODE,
+                Some(v) => self.index.get(*v).copied().unwrap_or(NULL_CODE - 1),
+            })
+            .collect();
+        let mut codes = known;
+        for (code, row) in codes.iter_mut().zip(rows) {
+            match row {
+                None => self.null_rows += 1,
+                Some(v) => {
+                    if *code == NULL_CODE - 1 {
+                        *code = self.insert(v);
+                    }
+                    self.counts[*code as usize] += 1;
+                }
+            }
+        }
+        self.rows += rows.len() as u64;
+        codes
+    }
+
+    fn insert(&mut self, value: &str) -> u32 {
+        if let Some(&c) = self.index.get(value) {
+            return c;
+        }
+        let code = self.values.len() as u32;
+        assert!(code < NULL_CODE - 1, "more than 4 billion distinct values");
+        self.index.insert(value.to_owned(), code);
+        self.values.push(value.to_owned());
+        self.counts.push(0);
+        code
+    }
+
+    pub fn distinct(&self) -> usize {
+        self.values.len()
+    }
+
+    /// Forget the row counts but keep the values and their codes (after a
+    /// first pass that only collected the values).
+    pub fn reset_counts(&mut self) {
+        self.counts.iter_mut().for_each(|c| *c = 0);
+        self.null_rows = 0;
+        self.rows = 0;
+    }
+
+    /// The same numbers as a [`Vocabulary`], without row codes.
+    pub fn to_vocabulary(&self) -> Vocabulary {
+        Vocabulary { values: self.values.clone(), counts: self.counts.clone(), null_rows: self.null_rows, codes: Vec::new() }
     }
 }

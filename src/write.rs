@@ -101,3 +101,99 @@ fn sync_folder(folder: &Path) {
         let _ = dir.sync_all();
     }
 }
+
+type BatchFn = Box<dyn FnMut(Option<&mut DataFrame>) -> PolarsResult<()> + Send>;
+
+/// An output written batch by batch (Parquet row groups, CSV lines) into a
+/// temporary file that becomes the output only in [`TableSink::finish`].
+/// Dropping the sink without finishing removes the temporary file and
+/// leaves any existing output as it was.
+pub struct TableSink {
+    output: PathBuf,
+    temp: tempfile::NamedTempFile,
+    write: BatchFn,
+    rows: u64,
+}
+
+impl TableSink {
+    pub fn create(output: &Path, format: OutputFormat, schema: &Schema) -> Result<TableSink, Error> {
+        let out_err = |message: String| Error::Output { path: output.to_owned(), message };
+        let folder = parent_folder(output);
+        let temp = tempfile::Builder::new()
+            .prefix(".descry-")
+            .suffix(".partial")
+            .tempfile_in(&folder)
+            .map_err(|e| out_err(format!("cannot create a temporary file in {}: {e}", folder.display())))?;
+        let file = temp.reopen().map_err(|e| out_err(format!("cannot open the temporary file: {e}")))?;
+        // Unbuffered: polars writes in large blocks, and an error on the last
+        // flush must not be lost in a buffer's drop.
+        let write = batch_writer(file, format, schema).map_err(|e| out_err(format!("cannot start writing: {e}")))?;
+        Ok(TableSink { output: output.to_owned(), temp, write, rows: 0 })
+    }
+
+    pub fn write(&mut self, batch: &mut DataFrame) -> Result<(), Error> {
+        self.rows += batch.height() as u64;
+        (self.write)(Some(batch)).map_err(|e| Error::Output { path: self.output.clone(), message: format!("cannot write: {e}") })
+    }
+
+    pub fn rows(&self) -> u64 {
+        self.rows
+    }
+
+    /// Finish the file, flush it to disk and move it into place.
+    pub fn finish(mut self) -> Result<(), Error> {
+        let out_err = |message: String| Error::Output { path: self.output.clone(), message };
+        (self.write)(None).map_err(|e| out_err(format!("cannot finish writing: {e}")))?;
+        self.temp.as_file().sync_all().map_err(|e| out_err(format!("cannot flush to disk: {e}")))?;
+        let folder = parent_folder(&self.output);
+        self.temp
+            .persist(&self.output)
+            .map_err(|e| out_err(format!("cannot move the finished file into place: {}", e.error)))?;
+        sync_folder(&folder);
+        Ok(())
+    }
+}
+
+fn batch_writer(w: File, format: OutputFormat, schema: &Schema) -> PolarsResult<BatchFn> {
+    Ok(match format {
+        OutputFormat::Parquet => {
+            let mut writer = Some(ParquetWriter::new(w).batched(schema)?);
+            Box::new(move |batch: Option<&mut DataFrame>| match batch {
+                Some(df) => {
+                    df.align_chunks_par();
+                    writer.as_mut().expect("open").write_batch(df)
+                }
+                None => writer.take().expect("open").finish().map(|_| ()),
+            })
+        }
+        OutputFormat::Csv { delimiter } => {
+            let mut writer = CsvWriter::new(w).with_separator(delimiter).batched(schema)?;
+            Box::new(move |batch: Option<&mut DataFrame>| match batch {
+                Some(df) => writer.write_batch(df),
+                None => writer.finish(),
+            })
+        }
+        OutputFormat::Ipc => {
+            // Arrow IPC files are written whole at the end: batches are kept.
+            let mut kept: Option<DataFrame> = None;
+            let mut w = Some(w);
+            Box::new(move |batch: Option<&mut DataFrame>| match batch {
+                Some(df) => match kept.as_mut() {
+                    Some(all) => all.vstack_mut(df).map(|_| ()),
+                    None => {
+                        kept = Some(df.clone());
+                        Ok(())
+                    }
+                },
+                None => {
+                    let mut w = w.take().expect("open");
+                    if let Some(mut all) = kept.take() {
+                        IpcWriter::new(&mut w).finish(&mut all)?;
+                    }
+                    w.flush()?;
+                    Ok(())
+                }
+            })
+        }
+    })
+}

@@ -7,12 +7,14 @@ use std::process::ExitCode;
 use anyhow::bail;
 use polars::prelude::*;
 
-use descry::read::Table;
+use descry::pipeline::{Describer, Description};
+use descry::read::{can_stream, for_each_batch, table_columns, Table};
 use descry::render::thousands;
-use descry::write::{check_output_path, write_table};
-use descry::{encode, Ruleset, Vocabulary};
+use descry::vocabulary::GrowingVocabulary;
+use descry::write::{check_output_path, write_table, OutputFormat, TableSink};
+use descry::Vocabulary;
 
-use super::common::{load_ruleset, print_notes, source_column, vocabulary_of, InputArgs};
+use super::common::{column_notes, load_ruleset, print_notes, source_column, InputArgs};
 
 const ABOUT: &str = "\
 Apply one or more rulesets to a table and write the features.
@@ -33,7 +35,12 @@ The output format follows the extension of -o: .parquet, .arrow/.ipc/.feather,
 into place at the end: an existing output is replaced only on success, and
 the input is never written to.
 
-Memory: the whole input table, plus the feature columns.
+Files in CSV, Parquet and Arrow IPC are read in batches (--batch-rows) and
+the output is written as they come: memory holds one batch plus the
+vocabulary and the per-value results, so files larger than memory work.
+Standard input, NDJSON and --in-memory read the whole table first. When a
+count rule has no `range`, its type depends on every value, so the file is
+read twice (the first pass keeps only the vocabulary).
 
 Examples:
   descry apply samples/listings.csv -r rulesets/transmission.toml -r rulesets/engine.toml -o features.parquet
@@ -62,65 +69,165 @@ pub struct Args {
     /// Columns to carry into the output with --only-features, e.g. an id.
     #[arg(long, requires = "only_features", value_delimiter = ',')]
     pub keep: Vec<String>,
-    /// Print no summary or notes.
+    /// Print no summary, notes or progress.
     #[arg(long, short = 'q')]
     pub quiet: bool,
-}
-
-struct Described {
-    rules: Ruleset,
-    column: String,
+    /// Read the whole input into memory first instead of streaming it in
+    /// batches (the output is the same).
+    #[arg(long)]
+    pub in_memory: bool,
+    /// Rows per batch when streaming (also the Parquet row-group size).
+    #[arg(long, default_value_t = 1 << 20, hide_short_help = true)]
+    pub batch_rows: usize,
 }
 
 pub fn run(args: Args) -> anyhow::Result<ExitCode> {
     if args.column.is_some() && args.rules.len() > 1 {
         bail!("--column applies to a single ruleset; with several, name each column in its ruleset");
     }
-    let described = args
+    let descriptions = args
         .rules
         .iter()
         .map(|p| {
             let rules = load_ruleset(p)?;
             let column = source_column(args.column.as_deref(), &rules)?;
-            Ok(Described { rules, column })
+            Ok(Description { rules, column })
         })
         .collect::<anyhow::Result<Vec<_>>>()?;
     let format = check_output_path(&args.output, &[&args.input.input])?;
-    let columns: Vec<&str> = described.iter().map(|d| d.column.as_str()).collect();
-    let table = Table::read(&args.input.input, &columns, &args.input.read_options())?;
-    print_notes(&table.notes, args.quiet);
-    check_collisions(&described, &table, &args)?;
-
-    let mut features = Vec::new();
-    for d in &described {
-        let vocab: Vocabulary = vocabulary_of(&table, &d.column)?;
-        let eval = d.rules.evaluate_all(&vocab.values);
-        features.extend(encode::encode(&d.rules, &vocab, &eval)?);
-    }
-    let source_bytes: usize = columns.iter().filter_map(|c| table.frame.column(c).ok()).map(|c| c.as_materialized_series().estimated_size()).sum();
-    let feature_bytes: usize = features.iter().map(|c| c.as_materialized_series().estimated_size()).sum();
-    let n_features = features.len();
-    let mut frame = output_frame(table, &columns, features, &args)?;
-    write_table(&mut frame, &args.output, format)?;
+    let opts = args.input.read_options();
+    let streaming = !args.in_memory && can_stream(&args.input.input, &opts);
+    let summary = if streaming {
+        check_collisions(&descriptions, &table_columns(&args.input.input, &opts)?, &args)?;
+        apply_in_batches(&args, descriptions, format)?
+    } else {
+        apply_in_memory(&args, descriptions, format)?
+    };
     if !args.quiet {
+        for (d, vocab) in &summary.columns {
+            print_notes(&column_notes(vocab, &d.column), false);
+        }
         eprintln!(
             "wrote {} rows, {} features to {}; source columns {} bytes, feature columns {} bytes",
-            thousands(frame.height() as u64),
-            n_features,
+            thousands(summary.rows),
+            summary.features,
             args.output.display(),
-            thousands(source_bytes as u64),
-            thousands(feature_bytes as u64),
+            thousands(summary.source_bytes as u64),
+            thousands(summary.feature_bytes as u64),
         );
     }
     Ok(ExitCode::SUCCESS)
 }
 
+#[derive(Default)]
+struct Summary {
+    rows: u64,
+    features: usize,
+    source_bytes: usize,
+    feature_bytes: usize,
+    columns: Vec<(Description, Vocabulary)>,
+}
+
+impl Summary {
+    fn add_batch(&mut self, batch: &DataFrame, sources: &[&str], features: &[Column]) {
+        self.rows += batch.height() as u64;
+        self.features = features.len();
+        self.source_bytes += sources
+            .iter()
+            .filter_map(|c| batch.column(c).ok())
+            .map(|c| c.as_materialized_series().estimated_size())
+            .sum::<usize>();
+        self.feature_bytes += features.iter().map(|c| c.as_materialized_series().estimated_size()).sum::<usize>();
+    }
+
+    fn finish(mut self, describer: &Describer) -> Summary {
+        self.columns = describer.results().map(|(d, v, _)| (d.clone(), v)).collect();
+        self
+    }
+}
+
+fn sources(descriptions: &[Description]) -> Vec<String> {
+    descriptions.iter().map(|d| d.column.clone()).collect()
+}
+
+fn apply_in_memory(args: &Args, descriptions: Vec<Description>, format: OutputFormat) -> anyhow::Result<Summary> {
+    let names = sources(&descriptions);
+    let columns: Vec<&str> = names.iter().map(String::as_str).collect();
+    let table = Table::read(&args.input.input, &columns, &args.input.read_options())?;
+    print_notes(&table.notes, args.quiet);
+    check_collisions(&descriptions, &table.column_names(), args)?;
+    let mut describer = Describer::new(descriptions, Vec::new());
+    let features = describer.features(&table.frame)?;
+    let mut summary = Summary::default();
+    summary.add_batch(&table.frame, &columns, &features);
+    let mut frame = output_batch(table.frame, &columns, features, args)?;
+    write_table(&mut frame, &args.output, format)?;
+    Ok(summary.finish(&describer))
+}
+
+fn apply_in_batches(args: &Args, descriptions: Vec<Description>, format: OutputFormat) -> anyhow::Result<Summary> {
+    let names = sources(&descriptions);
+    let columns: Vec<&str> = names.iter().map(String::as_str).collect();
+    let opts = args.input.read_options();
+    let progress = Progress::new(args.quiet, &args.input.input);
+    let full = if Describer::one_pass(&descriptions) {
+        Vec::new()
+    } else {
+        progress.phase("reading the vocabulary (a count has no range)");
+        first_pass(args, &columns)?
+    };
+    progress.phase("applying");
+    let mut describer = Describer::new(descriptions, full);
+    let mut sink: Option<TableSink> = None;
+    let mut summary = Summary::default();
+    let notes = for_each_batch(&args.input.input, &columns, None, &opts, args.batch_rows, |batch| {
+        let features = describer.features(&batch).map_err(|e| output_error(args, e.into()))?;
+        summary.add_batch(&batch, &columns, &features);
+        let mut out = output_batch(batch, &columns, features, args).map_err(|e| output_error(args, e))?;
+        if sink.is_none() {
+            sink = Some(TableSink::create(&args.output, format, out.schema())?);
+        }
+        sink.as_mut().expect("created").write(&mut out)?;
+        progress.rows(summary.rows);
+        Ok(())
+    })?;
+    progress.done();
+    print_notes(&notes, args.quiet);
+    match sink {
+        Some(sink) => sink.finish()?,
+        // No batch at all (a table without rows): write it whole.
+        None => return apply_in_memory(args, describer.into_descriptions(), format),
+    }
+    Ok(summary.finish(&describer))
+}
+
+fn output_error(args: &Args, e: anyhow::Error) -> descry::Error {
+    descry::Error::Output { path: args.output.clone(), message: format!("{e:#}") }
+}
+
+/// The complete vocabulary of each described column, without row codes.
+fn first_pass(args: &Args, columns: &[&str]) -> anyhow::Result<Vec<Option<GrowingVocabulary>>> {
+    let mut vocabs = vec![GrowingVocabulary::default(); columns.len()];
+    let opts = args.input.read_options();
+    for_each_batch(&args.input.input, columns, Some(columns), &opts, args.batch_rows, |batch| {
+        for (vocab, c) in vocabs.iter_mut().zip(columns) {
+            let text = batch.column(c).and_then(|c| c.str().cloned()).map_err(|e| descry::Error::Input {
+                path: args.input.input.clone(),
+                message: e.to_string(),
+            })?;
+            let rows: Vec<Option<&str>> = text.iter().collect();
+            vocab.codes_for(&rows);
+        }
+        Ok(())
+    })?;
+    Ok(vocabs.into_iter().map(Some).collect())
+}
+
 /// A feature may not take the name of an input column that stays in the output.
-fn check_collisions(described: &[Described], table: &Table, args: &Args) -> anyhow::Result<()> {
-    let names = table.column_names();
-    for d in described {
+fn check_collisions(descriptions: &[Description], names: &[String], args: &Args) -> anyhow::Result<()> {
+    for d in descriptions {
         for f in &d.rules.features {
-            let dropped = (args.drop_source && described.iter().any(|d| d.column == f.output))
+            let dropped = (args.drop_source && descriptions.iter().any(|d| d.column == f.output))
                 || (args.only_features && !args.keep.contains(&f.output));
             if names.contains(&f.output) && !dropped {
                 bail!(
@@ -135,27 +242,64 @@ fn check_collisions(described: &[Described], table: &Table, args: &Args) -> anyh
             }
         }
     }
+    if args.only_features {
+        if let Some(k) = args.keep.iter().find(|k| !names.contains(k)) {
+            bail!("{}: --keep names no column \"{k}\"; the columns are: {}", args.input.input.display(), names.join(", "));
+        }
+    }
     Ok(())
 }
 
-fn output_frame(table: Table, sources: &[&str], features: Vec<Column>, args: &Args) -> anyhow::Result<DataFrame> {
-    let path = table.path.clone();
-    let mut frame = table.frame;
-    if args.only_features {
-        for k in &args.keep {
-            if frame.column(k).is_err() {
-                let names: Vec<String> = frame.get_column_names().iter().map(|s| s.to_string()).collect();
-                bail!("{}: --keep names no column \"{k}\"; the columns are: {}", path.display(), names.join(", "));
-            }
-        }
-        frame = frame.select(args.keep.iter().map(|s| PlSmallStr::from(s.as_str())))?;
+/// The input batch reduced as asked, with the features appended.
+fn output_batch(batch: DataFrame, sources: &[&str], features: Vec<Column>, args: &Args) -> anyhow::Result<DataFrame> {
+    let height = batch.height();
+    let mut frame = if args.only_features {
+        batch.select(args.keep.iter().map(|s| PlSmallStr::from(s.as_str())))?
     } else if args.drop_source {
-        frame = frame.drop_many(sources.iter().map(|s| PlSmallStr::from(*s)));
-    }
-    let height = frame.height();
+        batch.drop_many(sources.iter().map(|s| PlSmallStr::from(*s)))
+    } else {
+        batch
+    };
     if frame.width() == 0 {
         return Ok(DataFrame::new(height, features)?);
     }
     frame.hstack_mut(&features)?;
     Ok(frame)
+}
+
+/// A progress line on standard error, shown only on a terminal.
+struct Progress {
+    bar: indicatif::ProgressBar,
+}
+
+impl Progress {
+    fn new(quiet: bool, input: &std::path::Path) -> Progress {
+        use std::io::IsTerminal;
+        let bar = if quiet || !std::io::stderr().is_terminal() {
+            indicatif::ProgressBar::hidden()
+        } else {
+            let bar = indicatif::ProgressBar::new_spinner();
+            bar.set_style(
+                indicatif::ProgressStyle::with_template("{spinner} {prefix} {msg}: {human_pos} rows ({per_sec}, {elapsed})")
+                    .expect("valid template"),
+            );
+            bar.set_prefix(input.display().to_string());
+            bar.enable_steady_tick(std::time::Duration::from_millis(200));
+            bar
+        };
+        Progress { bar }
+    }
+
+    fn phase(&self, what: &'static str) {
+        self.bar.set_message(what);
+        self.bar.set_position(0);
+    }
+
+    fn rows(&self, n: u64) {
+        self.bar.set_position(n);
+    }
+
+    fn done(&self) {
+        self.bar.finish_and_clear();
+    }
 }

@@ -67,6 +67,18 @@ pub fn vocabulary_of(table: &descry::read::Table, column: &str) -> anyhow::Resul
     Ok(Vocabulary::build(text.iter()))
 }
 
+/// Notes about a column that is technically fine but probably not what the
+/// user meant to describe.
+pub fn column_notes(vocab: &Vocabulary, column: &str) -> Vec<String> {
+    if vocab.rows() == 0 {
+        vec!["the table has no rows".to_owned()]
+    } else if vocab.distinct() == 0 {
+        vec![format!("column \"{column}\" holds only nulls")]
+    } else {
+        Vec::new()
+    }
+}
+
 pub fn print_notes(notes: &[String], quiet: bool) {
     if !quiet {
         for n in notes {
@@ -77,4 +89,15 @@ pub fn print_notes(notes: &[String], quiet: bool) {
 
 pub fn json_out<T: serde::Serialize>(value: &T) -> anyhow::Result<String> {
     serde_json::to_string_pretty(value).context("cannot serialize the report")
+}
+
+/// Write a report to standard output. A reader that stops early (`| head`)
+/// is not an error: the rest is simply not written.
+pub fn emit(text: &str) -> anyhow::Result<()> {
+    use std::io::Write;
+    let mut out = std::io::stdout().lock();
+    match out.write_all(text.as_bytes()).and_then(|_| out.flush()) {
+        Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
+        other => Ok(other.context("cannot write to standard output")?),
+    }
 }

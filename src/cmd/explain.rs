@@ -8,7 +8,7 @@ use descry::evaluate::{Issue, Step};
 use descry::render::explain_text;
 use descry::report::cell_json;
 
-use super::common::{json_out, load_ruleset, Format};
+use super::common::{emit, json_out, load_ruleset, Format};
 
 const ABOUT: &str = "\
 Show what a ruleset does to one or more values: the normalized form, and for
@@ -80,8 +80,8 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
         explained.push(Explained { value: value.clone(), normalized, features });
     }
     match args.format {
-        Format::Text => print!("{text}"),
-        Format::Json => println!("{}", json_out(&explained)?),
+        Format::Text => emit(&text)?,
+        Format::Json => emit(&(json_out(&explained)? + "\n"))?,
     }
     Ok(ExitCode::SUCCESS)
 }

@@ -1,0 +1,91 @@
+//! The batch pipeline: features for a table that arrives in pieces.
+//!
+//! A [`Describer`] keeps, for each described column, only its growing
+//! vocabulary and the per-value results; every batch of rows is turned into
+//! value codes, the values seen for the first time are normalized and
+//! evaluated (in parallel), and the features are gathered for the batch's
+//! rows. A whole table in memory is simply one batch, so both paths run the
+//! same code.
+
+use polars::prelude::*;
+
+use crate::encode::Encoder;
+use crate::evaluate::Evaluation;
+use crate::ruleset::Ruleset;
+use crate::vocabulary::{GrowingVocabulary, Vocabulary};
+
+/// A ruleset and the column it describes.
+#[derive(Debug, Clone)]
+pub struct Description {
+    pub rules: Ruleset,
+    pub column: String,
+}
+
+struct ColumnState {
+    description: Description,
+    vocab: GrowingVocabulary,
+    eval: Evaluation,
+    encoder: Encoder,
+}
+
+/// Turns batches of rows into feature columns, remembering what it has
+/// already evaluated.
+pub struct Describer {
+    columns: Vec<ColumnState>,
+}
+
+impl Describer {
+    /// `full_vocabularies[i]`, when given, is the complete vocabulary of
+    /// column `i` (from a first pass over the file): it fixes the types of
+    /// counts that have no `range`, and its values are evaluated up front.
+    pub fn new(descriptions: Vec<Description>, full_vocabularies: Vec<Option<GrowingVocabulary>>) -> Describer {
+        let columns = descriptions
+            .into_iter()
+            .zip(full_vocabularies.into_iter().chain(std::iter::repeat(None)))
+            .map(|(description, full)| {
+                let mut vocab = full.unwrap_or_default();
+                vocab.reset_counts();
+                let eval = description.rules.evaluate_all(&vocab.values);
+                let mut encoder = Encoder::new(&description.rules, &eval);
+                encoder.add_values(&eval, 0);
+                ColumnState { description, vocab, eval, encoder }
+            })
+            .collect();
+        Describer { columns }
+    }
+
+    /// Whether the rulesets fix every output type, so that one pass over
+    /// the file is enough.
+    pub fn one_pass(descriptions: &[Description]) -> bool {
+        descriptions.iter().all(|d| Encoder::types_fixed_by_ruleset(&d.rules))
+    }
+
+    /// The feature columns for one batch (its described columns must be text).
+    pub fn features(&mut self, batch: &DataFrame) -> PolarsResult<Vec<Column>> {
+        let mut out = Vec::new();
+        for state in &mut self.columns {
+            let text = batch.column(&state.description.column)?.str()?.clone();
+            let rows: Vec<Option<&str>> = text.iter().collect();
+            let codes = state.vocab.codes_for(&rows);
+            let evaluated = state.eval.outcomes.len();
+            if state.vocab.distinct() > evaluated {
+                let fresh = state.description.rules.evaluate_all(&state.vocab.values[evaluated..]);
+                state.eval.append(fresh);
+                state.encoder.add_values(&state.eval, evaluated);
+            }
+            out.extend(state.encoder.encode(&state.description.rules, &codes)?);
+        }
+        Ok(out)
+    }
+
+    /// Give back the descriptions.
+    pub fn into_descriptions(self) -> Vec<Description> {
+        self.columns.into_iter().map(|s| s.description).collect()
+    }
+
+    /// Per column: its description, its vocabulary so far (without row
+    /// codes) and the evaluation of every distinct value.
+    pub fn results(&self) -> impl Iterator<Item = (&Description, Vocabulary, &Evaluation)> {
+        self.columns.iter().map(|s| (&s.description, s.vocab.to_vocabulary(), &s.eval))
+    }
+}
