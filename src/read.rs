@@ -89,11 +89,12 @@ impl Table {
     ) -> Result<Table, Error> {
         let format = TableFormat::of(path, opts.delimiter)?;
         let source = Source::open(path)?;
-        let names = column_names(&source, format).map_err(|e| input_error(path, e))?;
+        let names = column_names(&source, format, opts).map_err(|e| read_error(path, &source, format, opts, e))?;
         if let Some(missing) = text_columns.iter().find(|c| !names.iter().any(|n| n == *c)) {
             return Err(Error::MissingColumn { path: path.to_owned(), column: missing.to_string(), available: names });
         }
-        let frame = read_frame(&source, format, text_columns, projection, opts).map_err(|e| input_error(path, e))?;
+        let frame = read_frame(&source, format, text_columns, projection, opts)
+            .map_err(|e| read_error(path, &source, format, opts, e))?;
         Table::finish(path, frame, text_columns)
     }
 
@@ -157,13 +158,13 @@ impl Source {
 }
 
 /// The names of every column of the table, read from its header or schema.
-fn column_names(source: &Source, format: TableFormat) -> PolarsResult<Vec<String>> {
+fn column_names(source: &Source, format: TableFormat, opts: &ReadOptions) -> PolarsResult<Vec<String>> {
     let names = match format {
         TableFormat::Csv { delimiter } => {
             let options = CsvReadOptions::default()
                 .with_has_header(true)
                 .with_n_rows(Some(0))
-                .with_parse_options(CsvParseOptions::default().with_separator(delimiter));
+                .with_parse_options(CsvParseOptions::default().with_separator(delimiter).with_encoding(encoding(opts)));
             let frame = csv_reader(source, options)?;
             frame.get_column_names().iter().map(|s| s.to_string()).collect()
         }
@@ -263,16 +264,12 @@ fn read_csv(
 ) -> PolarsResult<DataFrame> {
     let overwrite: Schema = text_columns.iter().map(|c| Field::new((*c).into(), DataType::String)).collect();
     let columns = projection.map(|p| p.iter().map(|s| PlSmallStr::from(*s)).collect::<Arc<[PlSmallStr]>>());
-    let encoding = if opts.lossy_utf8 { CsvEncoding::LossyUtf8 } else { CsvEncoding::Utf8 };
     let options = CsvReadOptions::default()
         .with_has_header(true)
         .with_columns(columns)
         .with_schema_overwrite(Some(Arc::new(overwrite)))
-        .with_parse_options(CsvParseOptions::default().with_separator(delimiter).with_encoding(encoding));
-    csv_reader(source, options).map_err(|e| match diagnose_csv(source, delimiter, opts.lossy_utf8) {
-        Some(place) => polars_err!(ComputeError: "{place}"),
-        None => e,
-    })
+        .with_parse_options(CsvParseOptions::default().with_separator(delimiter).with_encoding(encoding(opts)));
+    csv_reader(source, options)
 }
 
 /// Find where a CSV file goes wrong, in words a user can act on: the
@@ -337,7 +334,7 @@ fn unclosed_quote_line(bytes: &[u8]) -> Option<usize> {
 pub fn table_columns(path: &Path, opts: &ReadOptions) -> Result<Vec<String>, Error> {
     let format = TableFormat::of(path, opts.delimiter)?;
     let source = Source::open(path)?;
-    column_names(&source, format).map_err(|e| input_error(path, e))
+    column_names(&source, format, opts).map_err(|e| input_error(path, e))
 }
 
 /// Whether a table can be read batch by batch (files in CSV, Parquet or
@@ -364,15 +361,16 @@ pub fn for_each_batch(
 ) -> Result<Vec<String>, Error> {
     let format = TableFormat::of(path, opts.delimiter)?;
     let source = Source::open(path)?;
-    let names = column_names(&source, format).map_err(|e| input_error(path, e))?;
+    let fail = |e| read_error(path, &source, format, opts, e);
+    let names = column_names(&source, format, opts).map_err(fail)?;
     if let Some(missing) = text_columns.iter().find(|c| !names.iter().any(|n| n == *c)) {
         return Err(Error::MissingColumn { path: path.to_owned(), column: missing.to_string(), available: names });
     }
-    let mut lazy = scan(path, format, text_columns, opts).map_err(|e| input_error(path, e))?;
+    let mut lazy = scan(path, format, text_columns, opts).map_err(fail)?;
     if let Some(cols) = projection {
         lazy = lazy.select(cols.iter().map(|c| col(*c)).collect::<Vec<_>>());
     }
-    let schema = lazy.collect_schema().map_err(|e| input_error(path, e))?;
+    let schema = lazy.collect_schema().map_err(fail)?;
     let notes = text_columns
         .iter()
         .filter_map(|c| schema.get(c).filter(|t| !matches!(t, DataType::String | DataType::Null)).map(|t| (c, t)))
@@ -387,7 +385,7 @@ pub fn for_each_batch(
             true,
             std::num::NonZeroUsize::new(batch_rows.max(1)),
         )
-        .map_err(|e| input_error(path, e))?;
+        .map_err(fail)?;
     let runner = std::thread::spawn(move || sink.collect_with_engine(Engine::Streaming).map(|_| ()));
     let mut failure = None;
     for batch in receive.iter() {
@@ -401,16 +399,25 @@ pub fn for_each_batch(
     if let Some(e) = failure {
         return Err(e);
     }
-    read_result.map(|_| notes).map_err(|e| match (format, diagnose_csv(&source, delimiter_of(format), opts.lossy_utf8)) {
-        (TableFormat::Csv { .. }, Some(place)) => Error::Input { path: path.to_owned(), message: format!("cannot read the table: {place}") },
-        _ => input_error(path, e),
-    })
+    read_result.map(|_| notes).map_err(fail)
 }
 
-fn delimiter_of(format: TableFormat) -> u8 {
+fn encoding(opts: &ReadOptions) -> CsvEncoding {
+    if opts.lossy_utf8 {
+        CsvEncoding::LossyUtf8
+    } else {
+        CsvEncoding::Utf8
+    }
+}
+
+/// A read error, located in the file when it is a CSV the reader rejected.
+fn read_error(path: &Path, source: &Source, format: TableFormat, opts: &ReadOptions, e: PolarsError) -> Error {
     match format {
-        TableFormat::Csv { delimiter } => delimiter,
-        _ => b',',
+        TableFormat::Csv { delimiter } => match diagnose_csv(source, delimiter, opts.lossy_utf8) {
+            Some(place) => Error::Input { path: path.to_owned(), message: format!("cannot read the table: {place}") },
+            None => input_error(path, e),
+        },
+        _ => input_error(path, e),
     }
 }
 
@@ -419,11 +426,10 @@ fn scan(path: &Path, format: TableFormat, text_columns: &[&str], opts: &ReadOpti
     match format {
         TableFormat::Csv { delimiter } => {
             let overwrite: Schema = text_columns.iter().map(|c| Field::new((*c).into(), DataType::String)).collect();
-            let encoding = if opts.lossy_utf8 { CsvEncoding::LossyUtf8 } else { CsvEncoding::Utf8 };
             LazyCsvReader::new(p)
                 .with_has_header(true)
                 .with_separator(delimiter)
-                .with_encoding(encoding)
+                .with_encoding(encoding(opts))
                 .with_dtype_overwrite(Some(Arc::new(overwrite)))
                 .finish()
         }

@@ -46,7 +46,7 @@ fn sigkill_never_leaves_a_truncated_output() {
 
     for tenth in 1..=9 {
         std::fs::write(&output, "previous output\n").unwrap();
-        let mut child = descry().args(args).spawn().unwrap();
+        let mut child = std::process::Command::new(assert_cmd::cargo::cargo_bin("descry")).args(args).spawn().unwrap();
         std::thread::sleep(whole.mul_f64(tenth as f64 / 10.0));
         let _ = child.kill(); // SIGKILL on Unix
         let _ = child.wait();
