@@ -42,6 +42,7 @@
 //! assert_eq!(report.unmatched[0].value, "cvt");
 //! ```
 
+pub mod cluster;
 pub mod encode;
 pub mod error;
 pub mod evaluate;
@@ -54,6 +55,8 @@ pub mod render;
 pub mod report;
 pub mod ruleset;
 pub mod sample;
+pub mod shape;
+pub mod survey;
 pub mod vocabulary;
 pub mod write;
 

@@ -4,9 +4,11 @@
 
 pub mod apply;
 pub mod check;
+pub mod cluster;
 pub mod common;
 pub mod explain;
 pub mod sample;
+pub mod survey;
 
 use std::process::ExitCode;
 
@@ -37,6 +39,12 @@ pub enum Command {
     Explain(explain::Args),
     /// Write the demo marketplace listings and their true features.
     Sample(sample::Args),
+    /// Profile a column: counts, frequent values, shapes, anomalies, tokens.
+    #[command(long_about = survey::ABOUT)]
+    Survey(survey::Args),
+    /// Group near-duplicate values and propose canonical spellings.
+    #[command(long_about = cluster::ABOUT)]
+    Cluster(cluster::Args),
 }
 
 pub fn run(cli: Cli) -> anyhow::Result<ExitCode> {
@@ -48,6 +56,8 @@ pub fn run(cli: Cli) -> anyhow::Result<ExitCode> {
         Command::Apply(args) => apply::run(args),
         Command::Explain(args) => explain::run(args),
         Command::Sample(args) => sample::run(args),
+        Command::Survey(args) => survey::run(args),
+        Command::Cluster(args) => cluster::run(args),
     }
 }
 

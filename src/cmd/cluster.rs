@@ -1,0 +1,215 @@
+//! `descry cluster`: group the values of a column that are probably the
+//! same thing spelled differently, and propose a canonical spelling.
+
+use std::path::PathBuf;
+use std::process::ExitCode;
+
+use anyhow::bail;
+use clap::ValueEnum;
+
+use descry::cluster::map::write_label_map;
+use descry::cluster::text::cluster_text;
+use descry::cluster::{cluster, ClusterOptions, Digits, EditLimit, Fuzzy, Method};
+use descry::read::Table;
+
+use super::common::{json_out, print_notes, vocabulary_of, Format, InputArgs};
+
+pub const ABOUT: &str = "\
+Group the distinct values of a column that are probably the same thing
+spelled differently, and propose a canonical spelling for each group: the
+member with the most rows (ties: the one without stray spaces, then byte
+order).
+
+Values are compared after normalization (NFKC, lower case, white space
+collapsed), so values differing only in case or spacing always group.
+Methods, strictest first:
+  key           equal once punctuation and spaces are dropped
+                (4-cyl / 4 cyl / 4cyl.); misses typos and word order
+  tokens        the same words in any order (6 speed auto / auto 6-speed);
+                misses typos and abbreviations
+  qgram         Jaccard similarity of character q-gram sets (--q, default 3)
+                at least --threshold (default 0.7); catches typos and
+                reordering in long values, weak on short ones
+  levenshtein   at most --threshold edits (default 0.2): a whole number is a
+                count of edits, a fraction below 1 a share of the longer
+                value's length; catches typos, misses reordering
+  osa           as levenshtein, and a swap of two neighbours is one edit
+                (optimal string alignment); catches 'atuo'
+  jaro-winkler  Jaro-Winkler similarity at least --threshold (default 0.93);
+                favours values sharing their first characters
+
+Digits are identity: values whose digit runs differ (PMP-0750 / PMP-0751,
+1,800 / 1800) are never grouped, by any method, unless --digits loose.
+Groups are transitive (a~b and b~c group a, b and c); --max-diameter caps
+how far apart two members of one group may be, in the method's units.
+
+The fuzzy methods use a q-gram index (prefix filtering) instead of comparing
+all pairs: near-linear in the number of distinct values, and exact (they
+find every pair --exhaustive finds). The output is the same whatever
+--threads is.
+
+--write-map FILE --label NAME adds a [[label]] named NAME to the ruleset FILE
+(created if missing) with a map from each member's normalized form to its
+group's canonical spelling. Comments, other rules and entries already in the
+map are kept; only new spellings are added.
+
+Memory: the column, its vocabulary (proportional to the number of distinct
+values) and, for the fuzzy methods, an index of about 8 bytes per character
+of every distinct value.
+
+Examples:
+  descry cluster samples/listings.csv --column part_no --method key
+  descry cluster samples/listings.csv --column engine --method osa --threshold 1
+  descry cluster samples/listings.csv --column transmission --method jaro-winkler \\
+      --write-map rulesets/kind.toml --label kind";
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum MethodName {
+    Key,
+    Tokens,
+    Qgram,
+    Levenshtein,
+    Osa,
+    JaroWinkler,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum DigitsArg {
+    Strict,
+    Loose,
+}
+
+#[derive(Debug, clap::Args)]
+pub struct Args {
+    #[command(flatten)]
+    pub input: InputArgs,
+    /// The column to cluster.
+    #[arg(long, short = 'c')]
+    pub column: String,
+    /// How values are grouped.
+    #[arg(long, short = 'm', value_enum, default_value_t = MethodName::Key)]
+    pub method: MethodName,
+    /// The method's threshold: edits (2) or a share of the length (0.2) for
+    /// levenshtein and osa, a least similarity (0.9) for qgram and jaro-winkler.
+    #[arg(long, short = 't')]
+    pub threshold: Option<String>,
+    /// q-gram length for --method qgram.
+    #[arg(long, default_value_t = 3)]
+    pub q: usize,
+    /// strict: values with different digit runs never group; loose: digits
+    /// are characters like any other.
+    #[arg(long, value_enum, default_value_t = DigitsArg::Strict)]
+    pub digits: DigitsArg,
+    /// No two members of a group further apart than this (same units as
+    /// --threshold; fuzzy methods only).
+    #[arg(long)]
+    pub max_diameter: Option<String>,
+    /// Add the groups to this ruleset as a label map (needs --label).
+    #[arg(long, requires = "label", value_name = "FILE")]
+    pub write_map: Option<PathBuf>,
+    /// The label rule to create or update with --write-map.
+    #[arg(long, requires = "write_map", value_name = "NAME")]
+    pub label: Option<String>,
+    /// Report format: human text, or JSON (schema "descry.cluster/1").
+    #[arg(long, value_enum, default_value_t = Format::Text)]
+    pub format: Format,
+    /// How many groups the text report lists (JSON lists all).
+    #[arg(long, default_value_t = 20)]
+    pub top: usize,
+    /// Also list every similar pair with its score (JSON only).
+    #[arg(long)]
+    pub pairs: bool,
+    /// Compare every pair instead of using the index: quadratic time, for
+    /// checking the index.
+    #[arg(long)]
+    pub exhaustive: bool,
+    /// Print no notes on standard error.
+    #[arg(long, short = 'q')]
+    pub quiet: bool,
+}
+
+pub fn run(args: Args) -> anyhow::Result<ExitCode> {
+    let method = method_of(args.method, args.threshold.as_deref(), args.q)?;
+    let max_diameter = match (&args.max_diameter, method) {
+        (None, _) => None,
+        (Some(d), Method::Fuzzy(f)) => match method_of(args.method, Some(d), args.q)? {
+            Method::Fuzzy(cap) => Some(cap).filter(|_| f.name() == cap.name()),
+            _ => None,
+        },
+        (Some(_), _) => bail!("--max-diameter applies to the fuzzy methods (qgram, levenshtein, osa, jaro-winkler); key and tokens groups are exact"),
+    };
+    let table = Table::read_columns(&args.input.input, &[&args.column], &args.input.read_options())?;
+    print_notes(&table.notes, args.quiet);
+    let vocab = vocabulary_of(&table, &args.column)?;
+    let digits = match args.digits {
+        DigitsArg::Strict => Digits::Strict,
+        DigitsArg::Loose => Digits::Loose,
+    };
+    let opts = ClusterOptions {
+        digits,
+        max_diameter,
+        exhaustive: args.exhaustive,
+        keep_pairs: args.pairs,
+        ..ClusterOptions::new(method)
+    };
+    let report = cluster(&vocab, &args.column, &opts);
+    match args.format {
+        Format::Text => print!("{}", cluster_text(&report, args.top)),
+        Format::Json => println!("{}", json_out(&report)?),
+    }
+    if let (Some(path), Some(label)) = (&args.write_map, &args.label) {
+        let u = write_label_map(path, label, &args.column, &report.clusters)?;
+        if !args.quiet {
+            let what = if u.created_file { "created" } else { "updated" };
+            eprintln!(
+                "descry: {what} {}: label \"{label}\": {} map entries added, {} already there with another value kept{}",
+                path.display(),
+                u.added,
+                u.kept,
+                if u.categories_added > 0 { format!(", {} categories added", u.categories_added) } else { String::new() }
+            );
+        }
+    }
+    Ok(ExitCode::SUCCESS)
+}
+
+/// The method with its threshold (the method's default when none is given).
+fn method_of(name: MethodName, threshold: Option<&str>, q: usize) -> anyhow::Result<Method> {
+    let similarity = |default: f64| -> anyhow::Result<f64> {
+        let Some(t) = threshold else { return Ok(default) };
+        match t.trim().parse::<f64>() {
+            Ok(s) if s > 0.0 && s <= 1.0 => Ok(s),
+            _ => bail!("--threshold {t:?}: a similarity between 0 and 1 is needed for this method, e.g. --threshold {default}"),
+        }
+    };
+    let edits = || -> anyhow::Result<EditLimit> {
+        let Some(t) = threshold else { return Ok(EditLimit::Ratio(0.2)) };
+        let t = t.trim();
+        if let Ok(k) = t.parse::<usize>() {
+            return Ok(EditLimit::Edits(k));
+        }
+        match t.parse::<f64>() {
+            Ok(r) if r > 0.0 && r < 1.0 => Ok(EditLimit::Ratio(r)),
+            _ => bail!(
+                "--threshold {t:?}: give a whole number of edits (e.g. 2) or a share of the longer value's length \
+                 between 0 and 1 (e.g. 0.2)"
+            ),
+        }
+    };
+    Ok(match name {
+        MethodName::Key | MethodName::Tokens if threshold.is_some() => {
+            bail!("--threshold applies to the fuzzy methods (qgram, levenshtein, osa, jaro-winkler); key and tokens need none")
+        }
+        MethodName::Key => Method::Key,
+        MethodName::Tokens => Method::Tokens,
+        MethodName::Qgram => {
+            if !(1..=16).contains(&q) {
+                bail!("--q {q}: the q-gram length must be between 1 and 16 (3 is usual)");
+            }
+            Method::Fuzzy(Fuzzy::QGram { q, min_similarity: similarity(0.7)? })
+        }
+        MethodName::Levenshtein => Method::Fuzzy(Fuzzy::Levenshtein(edits()?)),
+        MethodName::Osa => Method::Fuzzy(Fuzzy::Osa(edits()?)),
+        MethodName::JaroWinkler => Method::Fuzzy(Fuzzy::JaroWinkler { min_similarity: similarity(0.93)? }),
+    })
+}
