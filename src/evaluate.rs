@@ -140,16 +140,33 @@ fn record(steps: &mut Steps, step: impl FnOnce() -> Step) {
 fn evaluate_feature(f: &Feature, rules: &Ruleset, text: &str, mut steps: Steps) -> Outcome {
     match &f.rule {
         Rule::Flag(flag) => {
-            let result = flag.matcher.find(text);
-            record(&mut steps, || Step::from_match("rule".into(), text, &result));
+            let result = matched(&flag.matcher, text, &mut steps, || "rule".into());
             match result {
-                Ok(found) => Outcome::plain(Cell::Bool(found.is_some()), found.is_some()),
+                Ok(hit) => Outcome::plain(Cell::Bool(hit), hit),
                 Err(e) => Outcome::issue(Cell::Null, match_issue(e)),
             }
         }
         Rule::Count(count) => evaluate_count(count, rules, text, steps),
         Rule::Measure(measure) => evaluate_measure(measure, rules, text, steps),
         Rule::Label(label) => evaluate_label(label, text, steps),
+    }
+}
+
+/// Whether a matcher matches; spans are searched for only when `explain`
+/// records the steps (a plain yes/no is cheaper).
+fn matched(
+    matcher: &crate::pattern::Matcher,
+    text: &str,
+    steps: &mut Steps,
+    what: impl FnOnce() -> String,
+) -> Result<bool, MatchError> {
+    match steps {
+        None => matcher.is_match(text),
+        Some(s) => {
+            let result = matcher.find(text);
+            s.push(Step::from_match(what(), text, &result));
+            result.map(|f| f.is_some())
+        }
     }
 }
 
@@ -243,17 +260,16 @@ fn evaluate_label(rule: &LabelRule, text: &str, mut steps: Steps) -> Outcome {
     let mut conflicts = Vec::new();
     let mut issue = None;
     for case in &rule.cases {
-        let result = case.matcher.find(text);
-        record(&mut steps, || {
-            Step::from_match(format!("case \"{}\"", rule.categories[case.label as usize]), text, &result)
+        let result = matched(&case.matcher, text, &mut steps, || {
+            format!("case \"{}\"", rule.categories[case.label as usize])
         });
         match result {
-            Ok(Some(_)) => match chosen {
+            Ok(true) => match chosen {
                 None => chosen = Some(case.label),
                 Some(c) if c != case.label && !conflicts.contains(&case.label) => conflicts.push(case.label),
                 Some(_) => {}
             },
-            Ok(None) => {}
+            Ok(false) => {}
             Err(e) => issue = issue.or(Some(match_issue(e))),
         }
     }

@@ -10,7 +10,6 @@
 use polars::prelude::*;
 
 use crate::encode::Encoder;
-use crate::evaluate::Evaluation;
 use crate::ruleset::Ruleset;
 use crate::vocabulary::{GrowingVocabulary, Vocabulary};
 
@@ -24,7 +23,9 @@ pub struct Description {
 struct ColumnState {
     description: Description,
     vocab: GrowingVocabulary,
-    eval: Evaluation,
+    /// Values `0..evaluated` have their cells in the encoder; the full
+    /// outcomes are not kept (only `check` needs them).
+    evaluated: usize,
     encoder: Encoder,
 }
 
@@ -48,7 +49,7 @@ impl Describer {
                 let eval = description.rules.evaluate_all(&vocab.values);
                 let mut encoder = Encoder::new(&description.rules, &eval);
                 encoder.add_values(&eval, 0);
-                ColumnState { description, vocab, eval, encoder }
+                ColumnState { description, evaluated: vocab.distinct(), vocab, encoder }
             })
             .collect();
         Describer { columns }
@@ -67,11 +68,10 @@ impl Describer {
             let text = batch.column(&state.description.column)?.str()?.clone();
             let rows: Vec<Option<&str>> = text.iter().collect();
             let codes = state.vocab.codes_for(&rows);
-            let evaluated = state.eval.outcomes.len();
-            if state.vocab.distinct() > evaluated {
-                let fresh = state.description.rules.evaluate_all(&state.vocab.values[evaluated..]);
-                state.eval.append(fresh);
-                state.encoder.add_values(&state.eval, evaluated);
+            if state.vocab.distinct() > state.evaluated {
+                let fresh = state.description.rules.evaluate_all(&state.vocab.values[state.evaluated..]);
+                state.encoder.add_values(&fresh, 0);
+                state.evaluated = state.vocab.distinct();
             }
             out.extend(state.encoder.encode(&state.description.rules, &codes)?);
         }
@@ -83,9 +83,9 @@ impl Describer {
         self.columns.into_iter().map(|s| s.description).collect()
     }
 
-    /// Per column: its description, its vocabulary so far (without row
-    /// codes) and the evaluation of every distinct value.
-    pub fn results(&self) -> impl Iterator<Item = (&Description, Vocabulary, &Evaluation)> {
-        self.columns.iter().map(|s| (&s.description, s.vocab.to_vocabulary(), &s.eval))
+    /// Per column: its description and its vocabulary so far (without row
+    /// codes).
+    pub fn results(&self) -> impl Iterator<Item = (&Description, Vocabulary)> {
+        self.columns.iter().map(|s| (&s.description, s.vocab.to_vocabulary()))
     }
 }

@@ -141,7 +141,7 @@ impl Summary {
     }
 
     fn finish(mut self, describer: &Describer) -> Summary {
-        self.columns = describer.results().map(|(d, v, _)| (d.clone(), v)).collect();
+        self.columns = describer.results().map(|(d, v)| (d.clone(), v)).collect();
         self
     }
 }
