@@ -27,8 +27,8 @@
 //! | --- | --- |
 //! | null (empty unquoted field) | 2% |
 //! | blank (spaces, or a lone no-break space) | 1% |
-//! | placeholder (`n/a`, `N/A`, `-`, `--`, `?`, `unknown`, `tbd`, ...) | 1.6% |
-//! | casing of transmission and engine text: as written / lower / UPPER / Title | 62 / 14 / 14 / 10% |
+//! | placeholder (`n/a`, `N/A`, `-`, `--`, `?`, `unknown`, `tbd`, ...) | 1.5% |
+//! | casing of transmission and engine text: as written / lower / UPPER / Title | 74 / 10 / 10 / 6% |
 //! | a space doubled | 3% |
 //! | a no-break space (U+00A0) in place of a space | 0.5% (part numbers 0.3%) |
 //! | full-width digits (U+FF10..U+FF19) | 0.3% (part numbers 0.2%) |
@@ -39,8 +39,10 @@
 //! units glued to numbers, word order, separators) are drawn with a strong
 //! lean towards the first spellings of each list, so a few spellings are
 //! common and the rest make a long tail. Engines, gearboxes and parts come
-//! from weighted catalogues; a quarter of part numbers are popular stock parts
-//! that repeat.
+//! from weighted catalogues. 40% of transmission and engine values repeat
+//! word for word one of a small stock of descriptions (60 and 120, drawn once
+//! per seed, the first far more often than the last), as copied dealer ads
+//! do; a quarter of part numbers are popular stock parts.
 //!
 //! Part numbers are `FAM-SIZE-GRADE[-Rn]` (e.g. `FLT-1204-A`, `PMP-0750-3T-R2`)
 //! written canonically 58% of the time, otherwise spaced, without
@@ -57,7 +59,7 @@
 //! so on. Rules written against the standard sample can be scored on these.
 
 use std::borrow::Cow;
-use std::collections::BTreeMap;
+use std::collections::{BTreeMap, HashMap};
 use std::fs::{self, File};
 use std::io::{self, BufWriter, Write};
 use std::path::Path;
@@ -111,14 +113,14 @@ pub struct Entry<F> {
 }
 
 /// Every distinct raw value of a column, sorted by value (byte order).
-pub type Vocabulary<F> = BTreeMap<String, Entry<F>>;
+pub type TruthColumn<F> = BTreeMap<String, Entry<F>>;
 
 /// The true features of every distinct value of each free-text column.
 #[derive(Debug, Clone, Default)]
 pub struct Truth {
-    pub transmission: Vocabulary<GearboxFeatures>,
-    pub engine: Vocabulary<EngineFeatures>,
-    pub part_no: Vocabulary<PartFeatures>,
+    pub transmission: TruthColumn<GearboxFeatures>,
+    pub engine: TruthColumn<EngineFeatures>,
+    pub part_no: TruthColumn<PartFeatures>,
     /// Times one raw string was generated with two different truths (the
     /// first is kept). Always 0 unless the generator has a bug.
     pub conflicts: u64,
@@ -279,9 +281,9 @@ pub fn write_listings<W: Write>(mut out: W, opts: &SampleOptions) -> io::Result<
 
 /// Write the three truth files into `dir` (which must exist).
 pub fn write_truth(dir: &Path, truth: &Truth) -> io::Result<()> {
-    write_vocabulary(&dir.join("transmission.csv"), &truth.transmission)?;
-    write_vocabulary(&dir.join("engine.csv"), &truth.engine)?;
-    write_vocabulary(&dir.join("part_no.csv"), &truth.part_no)
+    write_truth_column(&dir.join("transmission.csv"), &truth.transmission)?;
+    write_truth_column(&dir.join("engine.csv"), &truth.engine)?;
+    write_truth_column(&dir.join("part_no.csv"), &truth.part_no)
 }
 
 /// The listings, generated one by one; the truth grows as they are drawn.
@@ -289,41 +291,114 @@ pub struct Listings {
     dice: Dice,
     opts: SampleOptions,
     row: usize,
-    stock_parts: Vec<PartCode>,
-    truth: Truth,
+    stock: Stock,
+    tally: Tally,
+}
+
+/// The truth while rows are drawn: hashed for speed, sorted at the end.
+#[derive(Default)]
+struct Tally {
+    transmission: HashMap<String, Entry<GearboxFeatures>>,
+    engine: HashMap<String, Entry<EngineFeatures>>,
+    part_no: HashMap<String, Entry<PartFeatures>>,
+    conflicts: u64,
+}
+
+impl Tally {
+    fn into_truth(self) -> Truth {
+        Truth {
+            transmission: self.transmission.into_iter().collect(),
+            engine: self.engine.into_iter().collect(),
+            part_no: self.part_no.into_iter().collect(),
+            conflicts: self.conflicts,
+        }
+    }
+}
+
+/// Descriptions that many listings repeat word for word (dealer templates,
+/// copied ads) and popular parts: the head of each column's frequencies.
+struct Stock {
+    gearboxes: Vec<(Gearbox, String, GearboxFeatures)>,
+    engines: Vec<(EngineSpec, String, EngineFeatures)>,
+    parts: Vec<PartCode>,
+}
+
+const STOCK_GEARBOXES: usize = 60;
+const STOCK_ENGINES: usize = 120;
+const STOCK_DESCRIPTION_SHARE: f64 = 0.4;
+
+impl Stock {
+    fn lay_in(d: &mut Dice, opts: &SampleOptions) -> Stock {
+        let extended = opts.variants == Variants::Extended;
+        let gearboxes = (0..STOCK_GEARBOXES)
+            .map(|_| {
+                let g = fit_gearbox(d);
+                let (clean, features) = describe_gearbox(d, &g, extended);
+                (g, smudge(d, clean, opts.seed), features)
+            })
+            .collect();
+        let engines = (0..STOCK_ENGINES)
+            .map(|_| {
+                let e = fit_engine(d);
+                let (clean, features) = describe_engine(d, &e, extended);
+                (e, smudge(d, clean, opts.seed), features)
+            })
+            .collect();
+        let parts = (0..STOCK_PARTS).map(|_| make_part(d)).collect();
+        Stock { gearboxes, engines, parts }
+    }
+}
+
+/// A stock item (leaning to the first, more gently than spellings do) in
+/// `share` of draws, else none.
+fn from_stock<'a, T>(d: &mut Dice, stock: &'a [T], share: f64) -> Option<&'a T> {
+    d.chance(share).then(|| {
+        let u = d.fraction();
+        &stock[((u * u * stock.len() as f64) as usize).min(stock.len() - 1)]
+    })
 }
 
 impl Listings {
     pub fn new(opts: &SampleOptions) -> Self {
         let mut dice = Dice::new(opts.seed);
-        let stock_parts = (0..STOCK_PARTS).map(|_| make_part(&mut dice)).collect();
-        Listings { dice, opts: opts.clone(), row: 0, stock_parts, truth: Truth::default() }
+        let stock = Stock::lay_in(&mut dice, opts);
+        Listings { dice, opts: opts.clone(), row: 0, stock, tally: Tally::default() }
     }
 
-    /// The truth of the rows drawn so far.
-    pub fn truth(&self) -> &Truth {
-        &self.truth
+    /// Times a raw string was drawn with two different truths so far
+    /// (always 0 unless the generator has a bug).
+    pub fn conflicts(&self) -> u64 {
+        self.tally.conflicts
     }
 
+    /// The truth of the rows drawn so far, sorted by value.
     pub fn into_truth(self) -> Truth {
-        self.truth
+        self.tally.into_truth()
     }
 
     fn list_one(&mut self) -> Listing {
         let extended = self.opts.variants == Variants::Extended;
         let seed = self.opts.seed;
         let d = &mut self.dice;
-        let t = &mut self.truth;
-        let gearbox = fit_gearbox(d);
-        let engine = fit_engine(d);
-        let part = pick_part(d, &self.stock_parts);
-        let transmission = fill(d, &mut t.transmission, &mut t.conflicts, |d| {
-            let (clean, features) = describe_gearbox(d, &gearbox, extended);
-            (smudge(d, clean, seed), features)
+        let t = &mut self.tally;
+        let stock_gearbox = from_stock(d, &self.stock.gearboxes, STOCK_DESCRIPTION_SHARE);
+        let gearbox = stock_gearbox.map_or_else(|| fit_gearbox(d), |s| s.0.clone());
+        let stock_engine = from_stock(d, &self.stock.engines, STOCK_DESCRIPTION_SHARE);
+        let engine = stock_engine.map_or_else(|| fit_engine(d), |s| s.0.clone());
+        let part = from_stock(d, &self.stock.parts, STOCK_PART_SHARE).cloned().unwrap_or_else(|| make_part(d));
+        let transmission = fill(d, &mut t.transmission, &mut t.conflicts, |d| match stock_gearbox {
+            Some((_, text, features)) => (text.clone(), features.clone()),
+            None => {
+                let (clean, features) = describe_gearbox(d, &gearbox, extended);
+                (smudge(d, clean, seed), features)
+            }
         });
-        let engine_text = fill(d, &mut t.engine, &mut t.conflicts, |d| {
-            let (clean, features) = describe_engine(d, &engine, extended);
-            (smudge(d, clean, seed), features)
+        let engine_text = fill(d, &mut t.engine, &mut t.conflicts, |d| match stock_engine {
+            Some((_, text, features)) => (text.clone(), features.clone()),
+            None => {
+                let (clean, features) = describe_engine(d, &engine, extended);
+                (smudge(d, clean, seed), features)
+            }
         });
         let part_no = fill(d, &mut t.part_no, &mut t.conflicts, |d| {
             (write_part_number(d, &part, extended), part.features())
@@ -384,7 +459,7 @@ impl Dice {
     /// spellings are most sellers' habit, the last a few sellers'.
     fn habitual(&mut self, n: usize) -> usize {
         let u = self.fraction();
-        ((u * u * n as f64) as usize).min(n - 1)
+        ((u * u * u * n as f64) as usize).min(n - 1)
     }
 
     fn weighted(&mut self, weights: &[u32]) -> usize {
@@ -434,7 +509,7 @@ fn number_word(n: u32) -> Option<String> {
 
 const NULL_RATE: f64 = 0.02;
 const BLANK_RATE: f64 = 0.01;
-const PLACEHOLDER_RATE: f64 = 0.016;
+const PLACEHOLDER_RATE: f64 = 0.015;
 
 const BLANKS: &[&str] = &[" ", "  ", "\u{a0}", "   "];
 const PLACEHOLDERS: &[&str] = &["n/a", "-", "N/A", "?", "unknown", "--", "tbd", "Unknown", "TBD"];
@@ -462,7 +537,7 @@ fn draw_gap(d: &mut Dice) -> Option<Gap> {
 /// way the raw value is entered in the column's vocabulary.
 fn fill<F: PartialEq>(
     d: &mut Dice,
-    vocabulary: &mut Vocabulary<F>,
+    vocabulary: &mut HashMap<String, Entry<F>>,
     conflicts: &mut u64,
     write: impl FnOnce(&mut Dice) -> (String, F),
 ) -> Option<String> {
@@ -475,12 +550,12 @@ fn fill<F: PartialEq>(
             (raw, Some(features))
         }
     };
-    enter(vocabulary, conflicts, &raw, features);
+    enter(vocabulary, conflicts, raw.clone(), features);
     Some(raw)
 }
 
-fn enter<F: PartialEq>(vocabulary: &mut Vocabulary<F>, conflicts: &mut u64, raw: &str, features: Option<F>) {
-    match vocabulary.get_mut(raw) {
+fn enter<F: PartialEq>(vocabulary: &mut HashMap<String, Entry<F>>, conflicts: &mut u64, raw: String, features: Option<F>) {
+    match vocabulary.get_mut(&raw) {
         Some(entry) => {
             entry.rows += 1;
             if entry.features != features {
@@ -488,7 +563,7 @@ fn enter<F: PartialEq>(vocabulary: &mut Vocabulary<F>, conflicts: &mut u64, raw:
             }
         }
         None => {
-            vocabulary.insert(raw.to_owned(), Entry { features, rows: 1 });
+            vocabulary.insert(raw, Entry { features, rows: 1 });
         }
     }
 }
@@ -569,7 +644,7 @@ fn letter_runs(s: &str, min: usize) -> Vec<(usize, usize)> {
 }
 
 fn recase(d: &mut Dice, s: &str) -> String {
-    match d.weighted(&[62, 14, 14, 10]) {
+    match d.weighted(&[74, 10, 10, 6]) {
         0 => s.to_owned(),
         1 => s.to_lowercase(),
         2 => s.to_uppercase(),
@@ -837,7 +912,7 @@ fn kind_phrase(d: &mut Dice, kind: GearboxKind, odd: bool) -> String {
         (GearboxKind::Automatic, true) => ODD_AUTOMATIC_WORDS,
     };
     let word = d.one_of(words);
-    if !odd && !word.contains("trans") && d.chance(0.08) {
+    if !odd && !word.contains("trans") && d.chance(0.05) {
         format!("{word} {}", d.one_of(TRANS_WORDS))
     } else {
         word.to_owned()
@@ -883,11 +958,11 @@ const GEARBOX_ORDERS: [[usize; 5]; 4] = [[0, 1, 2, 3, 4], [1, 0, 2, 3, 4], [2, 0
 const SEPARATORS: &[&str] = &[" ", ", ", " - "];
 
 fn arrange_gearbox(d: &mut Dice, phrases: [Option<String>; 5]) -> String {
-    let mut order = GEARBOX_ORDERS[d.weighted(&[60, 20, 10, 10])];
+    let mut order = GEARBOX_ORDERS[d.weighted(&[70, 15, 8, 7])];
     if phrases[0].as_deref().is_some_and(|g| g.starts_with('(')) {
         order = GEARBOX_ORDERS[1];
     }
-    let sep = SEPARATORS[d.weighted(&[85, 10, 5])];
+    let sep = SEPARATORS[d.weighted(&[90, 7, 3])];
     let words: Vec<&str> = order.iter().filter_map(|&i| phrases[i].as_deref()).collect();
     words.join(sep)
 }
@@ -966,13 +1041,14 @@ const ENGINE_MODELS: &[EngineModel] = {
 const VOLTAGES: &[u32] = &[48, 80, 24, 36];
 
 /// 1 hp (550 ft·lbf/s) = 745.699 871 582 270 22 W exactly.
-const WATTS_PER_HP: f64 = 745.699_871_582_270_22;
+const WATTS_PER_HP: f64 = 745.699_871_582_270_2;
 /// 1 PS (75 kgf·m/s) = 735.498 75 W exactly.
 const WATTS_PER_PS: f64 = 735.498_75;
 /// 1 in³ = 16.387 064 cm³ exactly (1 in = 2.54 cm).
 const LITRES_PER_CUBIC_INCH: f64 = 0.016_387_064;
 
 /// The engine in the machine for sale.
+#[derive(Clone)]
 struct EngineSpec {
     model: &'static EngineModel,
     rating: u32,
@@ -1104,7 +1180,7 @@ impl Words {
 
     fn arrange(&self, d: &mut Dice, orders: &[&[EnginePart]], weights: &[u32]) -> String {
         let order = orders[d.weighted(weights)];
-        let sep = ENGINE_SEPARATORS[d.weighted(&[78, 14, 4, 4])];
+        let sep = ENGINE_SEPARATORS[d.weighted(&[82, 12, 3, 3])];
         let words: Vec<&str> =
             order.iter().filter_map(|p| self.0.iter().find(|(q, _)| q == p).map(|(_, w)| w.as_str())).collect();
         words.join(sep)
@@ -1334,14 +1410,6 @@ fn make_part(d: &mut Dice) -> PartCode {
     PartCode { family, size, grade, rev }
 }
 
-fn pick_part(d: &mut Dice, stock: &[PartCode]) -> PartCode {
-    if d.chance(STOCK_PART_SHARE) {
-        stock[d.habitual(stock.len())].clone()
-    } else {
-        make_part(d)
-    }
-}
-
 const PART_LABELS: &[&str] = &["P/N ", "PN: ", "pn ", "Part# ", "#"];
 
 fn write_part_number(d: &mut Dice, code: &PartCode, extended: bool) -> String {
@@ -1493,10 +1561,10 @@ impl FeatureColumns for PartFeatures {
 }
 
 /// `value,<features>,placeholder,rows`, one line per distinct value.
-fn write_vocabulary<F: FeatureColumns>(path: &Path, vocabulary: &Vocabulary<F>) -> io::Result<()> {
+fn write_truth_column<F: FeatureColumns>(path: &Path, column: &TruthColumn<F>) -> io::Result<()> {
     let mut out = BufWriter::new(File::create(path)?);
     writeln!(out, "value,{},placeholder,rows", F::HEADER.join(","))?;
-    for (raw, entry) in vocabulary {
+    for (raw, entry) in column {
         let cells = match &entry.features {
             Some(f) => f.cells(),
             None => vec![String::new(); F::HEADER.len()],
@@ -1591,7 +1659,7 @@ mod tests {
             for variants in [Variants::Standard, Variants::Extended] {
                 let mut rows = Listings::new(&opts(60_000, seed, variants));
                 rows.by_ref().for_each(drop);
-                assert_eq!(rows.truth().conflicts, 0, "seed {seed}, {variants:?}");
+                assert_eq!(rows.conflicts(), 0, "seed {seed}, {variants:?}");
             }
         }
     }
@@ -1638,7 +1706,7 @@ mod tests {
         }
         let truth = fs::read_to_string(dir.path().join("truth/engine.csv")).unwrap();
         let records = parse_csv(&truth);
-        assert!(records.iter().all(|r| r.len() == 9));
+        assert!(records.iter().all(|r| r.len() == 8));
         assert!(records.iter().any(|r| r[0].as_deref().is_some_and(|v| v.contains(','))));
     }
 
