@@ -220,3 +220,30 @@ fn numeric_column_of_a_typed_file_is_read_as_text_with_a_note() {
     let report: serde_json::Value = serde_json::from_str(&stdout(&out)).unwrap();
     assert_eq!(report["coverage"]["rows_covered"], 7);
 }
+
+#[test]
+fn streamed_output_is_identical_across_thread_counts_and_batch_sizes() {
+    let dir = TempDir::new().unwrap();
+    let mut outputs = Vec::new();
+    for (threads, batch) in [("1", "500"), ("2", "500"), ("2", "1000000")] {
+        let out_path = dir.path().join(format!("t{threads}-b{batch}.csv"));
+        let out = run(
+            &["--threads", threads, "apply", s(&sample_csv()), "-r", s(&ruleset("transmission.toml")),
+              "-r", s(&ruleset("engine.toml")), "-o", s(&out_path), "--batch-rows", batch, "--quiet"],
+            None,
+        );
+        assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+        outputs.push(std::fs::read(&out_path).unwrap());
+    }
+    assert_eq!(outputs[0], outputs[1], "--threads 1 and 2 differ");
+    assert_eq!(outputs[1], outputs[2], "batch size changes the output");
+    let parquet: Vec<Vec<u8>> = ["1", "2"]
+        .iter()
+        .map(|t| {
+            let p = dir.path().join(format!("p{t}.parquet"));
+            run(&["--threads", t, "apply", s(&sample_csv()), "-r", s(&ruleset("engine.toml")), "-o", s(&p), "--batch-rows", "700", "--quiet"], None);
+            std::fs::read(&p).unwrap()
+        })
+        .collect();
+    assert_eq!(parquet[0], parquet[1], "Parquet bytes differ between thread counts");
+}
