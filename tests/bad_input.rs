@@ -206,3 +206,36 @@ fn a_report_piped_into_a_reader_that_stops_early_is_not_a_crash() {
     assert_no_panic(&out);
     assert_eq!(String::from_utf8_lossy(&out.stdout).trim(), "0");
 }
+
+#[test]
+fn a_catastrophic_fancy_pattern_is_reported_and_the_run_goes_on() {
+    let c = case();
+    let rules = write(
+        c.dir.path(),
+        "evil.toml",
+        "column = \"transmission\"\n[[flag]]\nname = \"evil\"\nfancy = true\npattern = '(a+)+(?!x)$'\n\
+         [[count]]\nname = \"gears\"\npattern = '({int})\\s*spd'\n",
+    );
+    let long_a = format!("{}b", "a".repeat(5000));
+    let f = c.file("evil.csv", format!("id,transmission\n1,{long_a}\n2,6 spd\n").as_bytes());
+    let started = std::time::Instant::now();
+    let out = run(&["check", s(&f), "-r", s(&rules), "--format", "json"], None);
+    assert!(started.elapsed().as_secs() < 60, "finishes promptly");
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    let report: serde_json::Value = serde_json::from_str(&stdout(&out)).unwrap();
+    assert_eq!(report["issues"][0]["rule"], "evil");
+    assert_eq!(report["issues"][0]["issue"]["kind"], "backtrack_limit");
+    assert_eq!(report["coverage"]["rows_covered"], 1, "the other value is still evaluated");
+    let text = run(&["check", s(&f), "-r", s(&rules)], None);
+    assert!(stdout(&text).contains("backtrack limit reached"), "{}", stdout(&text));
+}
+
+#[test]
+fn terminal_escape_sequences_in_values_are_shown_inert() {
+    let c = case();
+    let f = c.file("esc.csv", b"id,transmission\n1,\x1b[31mred\x1b]0;title\x07\n2,<script>alert(1)</script>\n");
+    let (code, out, err) = c.check(&f, &[]);
+    assert_eq!(code, Some(0), "{err}");
+    assert!(!out.contains('\x1b') && !out.contains('\x07'), "raw control characters reached the terminal");
+    assert!(out.contains("\\u{1b}[31mred"), "{out}");
+}

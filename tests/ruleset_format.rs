@@ -123,3 +123,9 @@ fn label_not_in_declared_categories_is_refused() {
     let e = error("[[label]]\nname = \"k\"\ncategories = [\"a\"]\ndefault = \"b\"\n");
     shows(&e, &["label \"b\" is not in `categories`"]);
 }
+
+#[test]
+fn a_pattern_over_the_size_limit_is_an_error_naming_the_rule() {
+    let e = error("[[count]]\nname = \"huge\"\npattern = '(\\w{500}){10}({int})'\n");
+    shows(&e, &["bad.toml:2", "[[count]] \"huge\"", "limit"]);
+}
