@@ -247,3 +247,35 @@ fn streamed_output_is_identical_across_thread_counts_and_batch_sizes() {
         .collect();
     assert_eq!(parquet[0], parquet[1], "Parquet bytes differ between thread counts");
 }
+
+#[test]
+fn every_input_format_reads_the_same_vocabulary() {
+    let (dir, rules, table) = setup();
+    let coverage = |input: &std::path::Path, extra: &[&str]| {
+        let mut args = vec!["check", s(input), "-r", s(&rules), "--format", "json"];
+        args.extend_from_slice(extra);
+        let out = run(&args, None);
+        assert_eq!(out.status.code(), Some(0), "{}: {}", input.display(), stderr(&out));
+        let r: serde_json::Value = serde_json::from_str(&stdout(&out)).unwrap();
+        (r["rows"].as_u64().unwrap(), r["coverage"]["rows_covered"].as_u64().unwrap())
+    };
+    let expected = coverage(&table, &[]);
+    for ext in ["parquet", "arrow", "feather", "ipc"] {
+        let converted = dir.path().join(format!("t.{ext}"));
+        let out = run(&["apply", s(&table), "-r", s(&rules), "-o", s(&converted), "--quiet"], None);
+        assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+        assert_eq!(coverage(&converted, &[]), expected, "{ext}");
+    }
+    let tsv = write(dir.path(), "t.tsv", &TABLE.replace(',', "\t"));
+    assert_eq!(coverage(&tsv, &[]), expected, "tsv");
+    let semi = write(dir.path(), "t.txt", &TABLE.replace(',', ";"));
+    assert_eq!(coverage(&semi, &["--delimiter", ";"]), expected, "--delimiter");
+    let ndjson = write(
+        dir.path(),
+        "t.ndjson",
+        "{\"id\":1,\"transmission\":\"6 spd auto\"}\n{\"id\":2,\"transmission\":\"6 SPD Auto\"}\n\
+         {\"id\":3,\"transmission\":\"12-speed manual shuttle\"}\n{\"id\":4,\"transmission\":null}\n\
+         {\"id\":5,\"transmission\":\"\"}\n{\"id\":6,\"transmission\":\"hydrostatic\"}\n{\"id\":7,\"transmission\":\"6 spd auto\"}\n",
+    );
+    assert_eq!(coverage(&ndjson, &[]), expected, "ndjson");
+}
