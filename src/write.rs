@@ -5,7 +5,7 @@
 //! everything succeeded; the input is never opened for writing.
 
 use std::fs::File;
-use std::io::{BufWriter, Write};
+use std::io::Write;
 use std::path::{Path, PathBuf};
 
 use polars::prelude::*;
@@ -66,33 +66,11 @@ fn parent_folder(path: &Path) -> PathBuf {
     }
 }
 
-/// Write `frame` to `output` atomically.
+/// Write `frame` to `output` atomically (one batch of a [`TableSink`]).
 pub fn write_table(frame: &mut DataFrame, output: &Path, format: OutputFormat) -> Result<(), Error> {
-    let out_err = |message: String| Error::Output { path: output.to_owned(), message };
-    let folder = parent_folder(output);
-    let temp = tempfile::Builder::new()
-        .prefix(".descry-")
-        .suffix(".partial")
-        .tempfile_in(&folder)
-        .map_err(|e| out_err(format!("cannot create a temporary file in {}: {e}", folder.display())))?;
-    {
-        let file: &File = temp.as_file();
-        let mut buffered = BufWriter::with_capacity(1 << 20, file);
-        write_frame(frame, &mut buffered, format).map_err(|e| out_err(format!("cannot write: {e}")))?;
-        buffered.flush().map_err(|e| out_err(format!("cannot write: {e}")))?;
-    }
-    temp.as_file().sync_all().map_err(|e| out_err(format!("cannot flush to disk: {e}")))?;
-    temp.persist(output).map_err(|e| out_err(format!("cannot move the finished file into place: {}", e.error)))?;
-    sync_folder(&folder);
-    Ok(())
-}
-
-fn write_frame<W: Write>(frame: &mut DataFrame, w: &mut W, format: OutputFormat) -> PolarsResult<()> {
-    match format {
-        OutputFormat::Parquet => ParquetWriter::new(w).finish(frame).map(|_| ()),
-        OutputFormat::Ipc => IpcWriter::new(w).finish(frame),
-        OutputFormat::Csv { delimiter } => CsvWriter::new(w).with_separator(delimiter).finish(frame),
-    }
+    let mut sink = TableSink::create(output, format, &frame.schema().clone())?;
+    sink.write(frame)?;
+    sink.finish()
 }
 
 /// Make the rename itself durable; best effort (not every platform can).
