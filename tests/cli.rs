@@ -279,3 +279,13 @@ fn every_input_format_reads_the_same_vocabulary() {
     );
     assert_eq!(coverage(&ndjson, &[]), expected, "ndjson");
 }
+
+#[test]
+fn drop_source_leaves_the_described_column_out() {
+    let (dir, rules, table) = setup();
+    let out_path = dir.path().join("dropped.csv");
+    let out = run(&["apply", s(&table), "-r", s(&rules), "-o", s(&out_path), "--drop-source"], None);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    let text = std::fs::read_to_string(&out_path).unwrap();
+    assert_eq!(text.lines().next().unwrap(), "id,price,tx_gears,tx_shuttle,tx_kind");
+}
