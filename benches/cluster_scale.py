@@ -21,7 +21,7 @@ reference environment first. In one run it:
 The values are generated already normalized (lower case, single spaces), so
 descry and rapidfuzz compare exactly the same strings.
 
-usage: cluster_scale.py DESCRY [--values N] [--sample N] [--cdist-values N] [--seed S]
+usage: cluster_scale.py DESCRY [--values N] [--sample N] [--cdist-values N] [--seed S] [--only M1,M2]
 """
 import argparse
 import csv
@@ -44,7 +44,7 @@ METHODS = [
     ("levenshtein", "0.2", Levenshtein.normalized_distance, {}, 0.2),
     ("osa", "2", OSA.distance, {}, 2),
     ("osa", "0.2", OSA.normalized_distance, {}, 0.2),
-    ("jaro-winkler", "0.9", JaroWinkler.similarity, {"prefix_weight": 0.1}, 0.9),
+    ("jaro-winkler", "0.9", JaroWinkler.similarity, {"scorer_kwargs": {"prefix_weight": 0.1}}, 0.9),
     ("qgram", "0.7", None, {}, 0.7),
 ]
 
@@ -182,6 +182,7 @@ def main() -> int:
     ap.add_argument("--cdist-values", type=int, default=None,
                     help="time cdist on this many values and extrapolate quadratically (default: all values)")
     ap.add_argument("--seed", type=int, default=1)
+    ap.add_argument("--only", default="", help="comma-separated method names to run (default: all)")
     args = ap.parse_args()
 
     values = generate(args.values, args.seed)
@@ -204,6 +205,8 @@ def main() -> int:
     print("-" * len(header))
     results = []
     for method, threshold, scorer, kwargs, cutoff in METHODS:
+        if args.only and method not in args.only.split(","):
+            continue
         strict_s, _ = run_descry(args.descry, full_csv, method, threshold, "strict")
         loose_s, loose = run_descry(args.descry, full_csv, method, threshold, "loose")
         if scorer is not None:
