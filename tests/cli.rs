@@ -289,3 +289,13 @@ fn drop_source_leaves_the_described_column_out() {
     let text = std::fs::read_to_string(&out_path).unwrap();
     assert_eq!(text.lines().next().unwrap(), "id,price,tx_gears,tx_shuttle,tx_kind");
 }
+
+#[test]
+fn help_teaches_with_the_long_usage_text() {
+    for (command, phrase) in [("check", "Exit codes"), ("apply", "Enum (dictionary-encoded)"), ("explain", "debug a rule"), ("sample", "seeded")] {
+        let out = run(&[command, "--help"], None);
+        assert_eq!(out.status.code(), Some(0));
+        assert!(stdout(&out).contains(phrase), "descry {command} --help lacks {phrase:?}:\n{}", stdout(&out));
+        assert!(stdout(&out).contains("Memory") || command == "explain", "descry {command} --help states its memory cost");
+    }
+}

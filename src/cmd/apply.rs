@@ -16,7 +16,7 @@ use descry::Vocabulary;
 
 use super::common::{column_notes, load_ruleset, print_notes, source_column, InputArgs};
 
-const ABOUT: &str = "\
+pub const ABOUT: &str = "\
 Apply one or more rulesets to a table and write the features.
 
 Each ruleset describes one source column. Rules run once per distinct value
@@ -35,6 +35,7 @@ The output format follows the extension of -o: .parquet, .arrow/.ipc/.feather,
 into place at the end: an existing output is replaced only on success, and
 the input is never written to.
 
+Memory: one batch plus the vocabulary and each distinct value's features.
 Files in CSV, Parquet and Arrow IPC are read in batches (--batch-rows) and
 the output is written as they come: memory holds one batch plus the
 vocabulary and the per-value results, so files larger than memory work.

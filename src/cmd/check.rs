@@ -10,7 +10,7 @@ use descry::CoverageReport;
 
 use super::common::{column_notes, emit, json_out, load_ruleset, print_notes, source_column, vocabulary_of, Format, InputArgs};
 
-const ABOUT: &str = "\
+pub const ABOUT: &str = "\
 Test a ruleset on every distinct value of a column and report coverage.
 
 Prints the rows, distinct values, nulls and blanks; the share of non-blank
@@ -22,8 +22,9 @@ and the ruleset's [[example]] self-tests.
 Exit codes: 0 when all is well; 1 when an example fails, or when coverage
 of rows is below --min-coverage; 2 on any error (bad file, bad ruleset).
 
-Memory: the described column plus its vocabulary (proportional to the
-number of distinct values).
+Memory: proportional to the number of distinct values. CSV, Parquet and
+Arrow IPC files are read in batches and only the vocabulary is kept;
+standard input and NDJSON are read whole.
 
 Example:
   descry check samples/listings.csv --rules rulesets/engine.toml --min-coverage 0.95";

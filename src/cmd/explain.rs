@@ -10,7 +10,7 @@ use descry::report::cell_json;
 
 use super::common::{emit, json_out, load_ruleset, Format};
 
-const ABOUT: &str = "\
+pub const ABOUT: &str = "\
 Show what a ruleset does to one or more values: the normalized form, and for
 every rule (and every case of a label) whether it matched, the matched span
 (byte offsets in the normalized value), the captured groups, and the

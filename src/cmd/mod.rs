@@ -32,12 +32,16 @@ pub struct Cli {
 #[derive(Debug, Subcommand)]
 pub enum Command {
     /// Test a ruleset on every distinct value of a column; report coverage.
+    #[command(long_about = check::ABOUT)]
     Check(check::Args),
     /// Write a table's columns plus the features of one or more rulesets.
+    #[command(long_about = apply::ABOUT)]
     Apply(apply::Args),
     /// Show what every rule does to given values.
+    #[command(long_about = explain::ABOUT)]
     Explain(explain::Args),
     /// Write the demo marketplace listings and their true features.
+    #[command(long_about = sample::ABOUT)]
     Sample(sample::Args),
     /// Profile a column: counts, frequent values, shapes, anomalies, tokens.
     #[command(long_about = survey::ABOUT)]

@@ -6,7 +6,7 @@ use std::process::ExitCode;
 
 use clap::ValueEnum;
 
-const ABOUT: &str = "\
+pub const ABOUT: &str = "\
 Write the demo data set: listings of a used farm-and-construction equipment
 marketplace, with free-text `transmission`, `engine` and `part_no` columns,
 and the true features of every distinct value under OUT_DIR/truth/.
