@@ -12,7 +12,9 @@ marketplace, with free-text `transmission`, `engine` and `part_no` columns,
 and the true features of every distinct value under OUT_DIR/truth/.
 
 The generator is seeded: the same --rows, --seed and --variants always give
-byte-identical files. Rows are streamed to the file; memory grows with
+byte-identical files.
+
+Memory: rows are streamed to the file; memory grows with
 the number of distinct values (one truth entry each).";
 
 #[derive(Debug, clap::Args)]
