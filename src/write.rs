@@ -91,7 +91,13 @@ pub struct TableSink {
     temp: tempfile::NamedTempFile,
     write: BatchFn,
     rows: u64,
+    synced_bytes: u64,
 }
+
+/// Written-but-unsynced bytes allowed before the sink flushes them to disk.
+/// Dirty pages count against a memory-capped process, so a large output
+/// must not pile them up.
+const SYNC_EVERY_BYTES: u64 = 32 << 20;
 
 impl TableSink {
     pub fn create(output: &Path, format: OutputFormat, schema: &Schema) -> Result<TableSink, Error> {
@@ -106,12 +112,19 @@ impl TableSink {
         // Unbuffered: polars writes in large blocks, and an error on the last
         // flush must not be lost in a buffer's drop.
         let write = batch_writer(file, format, schema).map_err(|e| out_err(format!("cannot start writing: {e}")))?;
-        Ok(TableSink { output: output.to_owned(), temp, write, rows: 0 })
+        Ok(TableSink { output: output.to_owned(), temp, write, rows: 0, synced_bytes: 0 })
     }
 
     pub fn write(&mut self, batch: &mut DataFrame) -> Result<(), Error> {
+        let out_err = |message: String| Error::Output { path: self.output.clone(), message };
         self.rows += batch.height() as u64;
-        (self.write)(Some(batch)).map_err(|e| Error::Output { path: self.output.clone(), message: format!("cannot write: {e}") })
+        (self.write)(Some(batch)).map_err(|e| out_err(format!("cannot write: {e}")))?;
+        let written = self.temp.as_file().metadata().map(|m| m.len()).unwrap_or(0);
+        if written >= self.synced_bytes + SYNC_EVERY_BYTES {
+            self.temp.as_file().sync_data().map_err(|e| out_err(format!("cannot flush to disk: {e}")))?;
+            self.synced_bytes = written;
+        }
+        Ok(())
     }
 
     pub fn rows(&self) -> u64 {
