@@ -63,12 +63,16 @@ impl IntType {
 /// The integer type of a count: from its declared `range` (and `missing`),
 /// or else from the values observed in this vocabulary.
 pub fn count_type(feature_index: usize, feature: &Feature, eval: &Evaluation) -> IntType {
-    let Rule::Count(rule) = &feature.rule else { return IntType::Int64 };
+    let Rule::Count(rule) = &feature.rule else {
+        return IntType::Int64;
+    };
     let observed = || {
-        eval.outcomes.iter().filter_map(|o| match o[feature_index].cell {
-            Cell::Int(v) => Some(v),
-            _ => None,
-        })
+        eval.outcomes
+            .iter()
+            .filter_map(|o| match o[feature_index].cell {
+                Cell::Int(v) => Some(v),
+                _ => None,
+            })
     };
     let (mut lo, mut hi) = match rule.range {
         Some(range) => range,
@@ -110,13 +114,19 @@ impl Encoder {
             .enumerate()
             .map(|(i, f)| matches!(f.rule, Rule::Count(_)).then(|| count_type(i, f, eval)))
             .collect();
-        Encoder { count_types, slots: vec![Vec::new(); rules.features.len()] }
+        Encoder {
+            count_types,
+            slots: vec![Vec::new(); rules.features.len()],
+        }
     }
 
     /// Whether every type is fixed by the ruleset alone (no count without a
     /// `range`), so that a large file can be encoded in one pass.
     pub fn types_fixed_by_ruleset(rules: &Ruleset) -> bool {
-        rules.features.iter().all(|f| !matches!(&f.rule, Rule::Count(c) if c.range.is_none()))
+        rules
+            .features
+            .iter()
+            .all(|f| !matches!(&f.rule, Rule::Count(c) if c.range.is_none()))
     }
 
     /// Append the cells of values `from..` of `eval`.
@@ -141,16 +151,34 @@ impl Encoder {
         let slots = &self.slots[i];
         match &f.rule {
             Rule::Flag(_) => {
-                let rows = gather(codes, slots, |c| if let Cell::Bool(b) = c { Some(b) } else { None });
+                let rows = gather(codes, slots, |c| {
+                    if let Cell::Bool(b) = c {
+                        Some(b)
+                    } else {
+                        None
+                    }
+                });
                 Ok(BooleanChunked::from_iter_options(name, rows.into_iter()).into_series())
             }
             Rule::Count(_) => {
-                let rows = gather(codes, slots, |c| if let Cell::Int(x) = c { Some(x) } else { None });
+                let rows = gather(codes, slots, |c| {
+                    if let Cell::Int(x) = c {
+                        Some(x)
+                    } else {
+                        None
+                    }
+                });
                 let s = Int64Chunked::from_iter_options(name, rows.into_iter()).into_series();
                 s.strict_cast(&self.count_types[i].unwrap_or(IntType::Int64).dtype())
             }
             Rule::Measure(m) => {
-                let rows = gather(codes, slots, |c| if let Cell::Float(x) = c { Some(x) } else { None });
+                let rows = gather(codes, slots, |c| {
+                    if let Cell::Float(x) = c {
+                        Some(x)
+                    } else {
+                        None
+                    }
+                });
                 let s = Float64Chunked::from_iter_options(name, rows.into_iter()).into_series();
                 match m.precision {
                     Precision::F64 => Ok(s),
@@ -158,7 +186,13 @@ impl Encoder {
                 }
             }
             Rule::Label(l) => {
-                let rows = gather(codes, slots, |c| if let Cell::Label(x) = c { Some(x) } else { None });
+                let rows = gather(codes, slots, |c| {
+                    if let Cell::Label(x) = c {
+                        Some(x)
+                    } else {
+                        None
+                    }
+                });
                 label_series(name, &l.categories, rows)
             }
         }
@@ -166,26 +200,44 @@ impl Encoder {
 }
 
 /// Gather per-value cells to rows, in parallel chunks, in row order.
-fn gather<T: Copy + Send + Sync>(codes: &[u32], slots: &[Cell], get: impl Fn(Cell) -> Option<T> + Sync) -> Vec<Option<T>> {
+fn gather<T: Copy + Send + Sync>(
+    codes: &[u32],
+    slots: &[Cell],
+    get: impl Fn(Cell) -> Option<T> + Sync,
+) -> Vec<Option<T>> {
     codes
         .par_iter()
         .with_min_len(1 << 16)
-        .map(|&c| if c == NULL_CODE { None } else { get(slots[c as usize]) })
+        .map(|&c| {
+            if c == NULL_CODE {
+                None
+            } else {
+                get(slots[c as usize])
+            }
+        })
         .collect()
 }
 
 /// An Enum column: its categories are the ruleset's labels, in order, so
 /// that every data drop gets the same categories and codes.
-pub fn label_series(name: PlSmallStr, categories: &[String], rows: Vec<Option<u32>>) -> PolarsResult<Series> {
+pub fn label_series(
+    name: PlSmallStr,
+    categories: &[String],
+    rows: Vec<Option<u32>>,
+) -> PolarsResult<Series> {
     let frozen = FrozenCategories::new(categories.iter().map(String::as_str))?;
     let dtype = DataType::from_frozen_categories(frozen);
     let series = match dtype.cat_physical()? {
         CategoricalPhysical::U8 => {
-            let ids = UInt8Chunked::from_iter_options(name, rows.into_iter().map(|o| o.map(|x| x as u8)));
+            let ids =
+                UInt8Chunked::from_iter_options(name, rows.into_iter().map(|o| o.map(|x| x as u8)));
             CategoricalChunked::<Categorical8Type>::from_cats_and_dtype(ids, dtype).into_series()
         }
         CategoricalPhysical::U16 => {
-            let ids = UInt16Chunked::from_iter_options(name, rows.into_iter().map(|o| o.map(|x| x as u16)));
+            let ids = UInt16Chunked::from_iter_options(
+                name,
+                rows.into_iter().map(|o| o.map(|x| x as u16)),
+            );
             CategoricalChunked::<Categorical16Type>::from_cats_and_dtype(ids, dtype).into_series()
         }
         CategoricalPhysical::U32 => {
@@ -215,7 +267,10 @@ mod tests {
         assert_eq!(IntType::for_range(-32_768, 32_767), IntType::Int16);
         assert_eq!(IntType::for_range(-32_769, 0), IntType::Int32);
         assert_eq!(IntType::for_range(0, 65_536), IntType::Int32);
-        assert_eq!(IntType::for_range(-2_147_483_648, 2_147_483_647), IntType::Int32);
+        assert_eq!(
+            IntType::for_range(-2_147_483_648, 2_147_483_647),
+            IntType::Int32
+        );
         assert_eq!(IntType::for_range(0, 2_147_483_648), IntType::Int64);
     }
 

@@ -11,7 +11,11 @@ pub enum Error {
     #[error("{path}: {message}")]
     Input { path: PathBuf, message: String },
     #[error("{path}: no column named \"{column}\"; the columns are: {}", available.join(", "))]
-    MissingColumn { path: PathBuf, column: String, available: Vec<String> },
+    MissingColumn {
+        path: PathBuf,
+        column: String,
+        available: Vec<String>,
+    },
     #[error("{path}: {message}")]
     Output { path: PathBuf, message: String },
     #[error("{0}")]
@@ -81,7 +85,11 @@ impl fmt::Display for RulesetError {
         write!(f, ": {}", self.message)?;
         if let Some((pattern, offset)) = &self.pattern {
             let column = pattern[..*offset.min(&pattern.len())].chars().count();
-            write!(f, " (pattern position {offset})\n    {pattern}\n    {}^", " ".repeat(column))?;
+            write!(
+                f,
+                " (pattern position {offset})\n    {pattern}\n    {}^",
+                " ".repeat(column)
+            )?;
         }
         if let Some(hint) = &self.hint {
             write!(f, "\n  hint: {hint}")?;

@@ -28,14 +28,22 @@ pub enum Cell {
 #[serde(tag = "kind", rename_all = "snake_case")]
 pub enum Issue {
     /// A count or measure outside the rule's `range`.
-    OutOfRange { value: f64 },
+    OutOfRange {
+        value: f64,
+    },
     /// Captured text that is not a number (or not a whole number, for counts).
-    Unparsable { text: String },
+    Unparsable {
+        text: String,
+    },
     /// A measure's unit that is not in `units`.
-    UnknownUnit { unit: String },
+    UnknownUnit {
+        unit: String,
+    },
     /// A fancy pattern gave up; the feature is null for this value.
     BacktrackLimit,
-    MatchFailed { message: String },
+    MatchFailed {
+        message: String,
+    },
 }
 
 impl std::fmt::Display for Issue {
@@ -64,11 +72,21 @@ pub struct Outcome {
 
 impl Outcome {
     fn plain(cell: Cell, fired: bool) -> Self {
-        Outcome { cell, fired, issue: None, conflicts: Vec::new() }
+        Outcome {
+            cell,
+            fired,
+            issue: None,
+            conflicts: Vec::new(),
+        }
     }
 
     fn issue(cell: Cell, issue: Issue) -> Self {
-        Outcome { cell, fired: false, issue: Some(issue), conflicts: Vec::new() }
+        Outcome {
+            cell,
+            fired: false,
+            issue: Some(issue),
+            conflicts: Vec::new(),
+        }
     }
 }
 
@@ -96,7 +114,12 @@ impl Step {
             span: found.map(|f| f.span.clone()),
             text: found.map(|f| text[f.span.clone()].to_owned()),
             captures: found
-                .map(|f| f.groups.iter().map(|g| g.clone().map(|r| text[r].to_owned())).collect())
+                .map(|f| {
+                    f.groups
+                        .iter()
+                        .map(|g| g.clone().map(|r| text[r].to_owned()))
+                        .collect()
+                })
                 .unwrap_or_default(),
             error,
         }
@@ -113,7 +136,10 @@ pub struct Trace {
 impl Ruleset {
     /// Evaluate every feature on an already normalized value.
     pub fn evaluate(&self, normalized: &str) -> Vec<Outcome> {
-        self.features.iter().map(|f| evaluate_feature(f, self, normalized, None)).collect()
+        self.features
+            .iter()
+            .map(|f| evaluate_feature(f, self, normalized, None))
+            .collect()
     }
 
     /// Evaluate with every step recorded.
@@ -177,7 +203,11 @@ fn match_issue(e: MatchError) -> Issue {
     }
 }
 
-fn first_group<'t>(found: &Found, candidates: impl Iterator<Item = usize>, text: &'t str) -> Option<&'t str> {
+fn first_group<'t>(
+    found: &Found,
+    candidates: impl Iterator<Item = usize>,
+    text: &'t str,
+) -> Option<&'t str> {
     candidates
         .filter_map(|i| found.groups.get(i).cloned().flatten())
         .map(|r| &text[r])
@@ -186,7 +216,9 @@ fn first_group<'t>(found: &Found, candidates: impl Iterator<Item = usize>, text:
 
 fn evaluate_count(rule: &CountRule, rules: &Ruleset, text: &str, mut steps: Steps) -> Outcome {
     let result = rule.pattern.find(text);
-    record(&mut steps, || Step::from_match("rule".into(), text, &result));
+    record(&mut steps, || {
+        Step::from_match("rule".into(), text, &result)
+    });
     let missing = rule.missing.map_or(Cell::Null, Cell::Int);
     let found = match result {
         Ok(Some(found)) => found,
@@ -197,19 +229,29 @@ fn evaluate_count(rule: &CountRule, rules: &Ruleset, text: &str, mut steps: Step
         return Outcome::plain(missing, false);
     };
     let Some(value) = parse_integer(captured, rules.decimal) else {
-        return Outcome::issue(Cell::Null, Issue::Unparsable { text: captured.to_owned() });
+        return Outcome::issue(
+            Cell::Null,
+            Issue::Unparsable {
+                text: captured.to_owned(),
+            },
+        );
     };
     match rule.range {
-        Some((lo, hi)) if value < lo || value > hi => {
-            Outcome::issue(Cell::Null, Issue::OutOfRange { value: value as f64 })
-        }
+        Some((lo, hi)) if value < lo || value > hi => Outcome::issue(
+            Cell::Null,
+            Issue::OutOfRange {
+                value: value as f64,
+            },
+        ),
         _ => Outcome::plain(Cell::Int(value), true),
     }
 }
 
 fn evaluate_measure(rule: &MeasureRule, rules: &Ruleset, text: &str, mut steps: Steps) -> Outcome {
     let result = rule.pattern.find(text);
-    record(&mut steps, || Step::from_match("rule".into(), text, &result));
+    record(&mut steps, || {
+        Step::from_match("rule".into(), text, &result)
+    });
     let missing = rule.missing.map_or(Cell::Null, Cell::Float);
     let found = match result {
         Ok(Some(found)) => found,
@@ -220,18 +262,32 @@ fn evaluate_measure(rule: &MeasureRule, rules: &Ruleset, text: &str, mut steps: 
         return Outcome::plain(missing, false);
     };
     let Some(number) = parse_number(number_text, rules.decimal) else {
-        return Outcome::issue(Cell::Null, Issue::Unparsable { text: number_text.to_owned() });
+        return Outcome::issue(
+            Cell::Null,
+            Issue::Unparsable {
+                text: number_text.to_owned(),
+            },
+        );
     };
     let factor = match first_group(&found, rule.unit_groups.iter().copied(), text) {
         Some(unit) => match rule.factor(unit) {
             Some(f) => f,
-            None => return Outcome::issue(Cell::Null, Issue::UnknownUnit { unit: unit.to_owned() }),
+            None => {
+                return Outcome::issue(
+                    Cell::Null,
+                    Issue::UnknownUnit {
+                        unit: unit.to_owned(),
+                    },
+                )
+            }
         },
         None => 1.0,
     };
     let value = number * factor;
     match rule.range {
-        Some((lo, hi)) if value < lo || value > hi => Outcome::issue(Cell::Null, Issue::OutOfRange { value }),
+        Some((lo, hi)) if value < lo || value > hi => {
+            Outcome::issue(Cell::Null, Issue::OutOfRange { value })
+        }
         _ => Outcome::plain(Cell::Float(value), true),
     }
 }
@@ -266,7 +322,9 @@ fn evaluate_label(rule: &LabelRule, text: &str, mut steps: Steps) -> Outcome {
         match result {
             Ok(true) => match chosen {
                 None => chosen = Some(case.label),
-                Some(c) if c != case.label && !conflicts.contains(&case.label) => conflicts.push(case.label),
+                Some(c) if c != case.label && !conflicts.contains(&case.label) => {
+                    conflicts.push(case.label)
+                }
                 Some(_) => {}
             },
             Ok(false) => {}
@@ -274,10 +332,20 @@ fn evaluate_label(rule: &LabelRule, text: &str, mut steps: Steps) -> Outcome {
         }
     }
     match chosen {
-        Some(label) => Outcome { cell: Cell::Label(label), fired: true, issue, conflicts },
+        Some(label) => Outcome {
+            cell: Cell::Label(label),
+            fired: true,
+            issue,
+            conflicts,
+        },
         None => {
             let cell = rule.default.map_or(Cell::Null, Cell::Label);
-            Outcome { cell, fired: false, issue, conflicts }
+            Outcome {
+                cell,
+                fired: false,
+                issue,
+                conflicts,
+            }
         }
     }
 }
@@ -313,7 +381,10 @@ impl Ruleset {
                 (n, o)
             })
             .unzip();
-        Evaluation { normalized, outcomes }
+        Evaluation {
+            normalized,
+            outcomes,
+        }
     }
 }
 
@@ -327,15 +398,27 @@ mod tests {
     }
 
     fn cells(r: &Ruleset, value: &str) -> Vec<Cell> {
-        r.evaluate(&r.normalizer.apply(value)).into_iter().map(|o| o.cell).collect()
+        r.evaluate(&r.normalizer.apply(value))
+            .into_iter()
+            .map(|o| o.cell)
+            .collect()
     }
 
     #[test]
     fn flag_by_literals_or_pattern() {
         let r = rules("[[flag]]\nname='turbo'\nany=['turbo','T/C']\n[[flag]]\nname='auto'\npattern='auto(matic)?'");
-        assert_eq!(cells(&r, "4 cyl TURBO"), vec![Cell::Bool(true), Cell::Bool(false)]);
-        assert_eq!(cells(&r, "t/c automatic"), vec![Cell::Bool(true), Cell::Bool(true)]);
-        assert_eq!(cells(&r, "turbodiesel"), vec![Cell::Bool(false), Cell::Bool(false)]);
+        assert_eq!(
+            cells(&r, "4 cyl TURBO"),
+            vec![Cell::Bool(true), Cell::Bool(false)]
+        );
+        assert_eq!(
+            cells(&r, "t/c automatic"),
+            vec![Cell::Bool(true), Cell::Bool(true)]
+        );
+        assert_eq!(
+            cells(&r, "turbodiesel"),
+            vec![Cell::Bool(false), Cell::Bool(false)]
+        );
     }
 
     #[test]
@@ -343,7 +426,11 @@ mod tests {
         let r = rules("[[count]]\nname='cyl'\npattern='({int})\\s*-?\\s*cyl|v({int})'\nrange=[1,16]\nmissing=0");
         assert_eq!(cells(&r, "4-cyl"), vec![Cell::Int(4)]);
         assert_eq!(cells(&r, "V8 gas"), vec![Cell::Int(8)]);
-        assert_eq!(cells(&r, "electric"), vec![Cell::Int(0)], "missing applies when nothing matches");
+        assert_eq!(
+            cells(&r, "electric"),
+            vec![Cell::Int(0)],
+            "missing applies when nothing matches"
+        );
         let out = r.evaluate("40 cyl");
         assert_eq!(out[0].cell, Cell::Null, "out of range is null, not missing");
         assert_eq!(out[0].issue, Some(Issue::OutOfRange { value: 40.0 }));
@@ -365,7 +452,9 @@ mod tests {
         assert_eq!(cells(&r, "4500 cc"), vec![Cell::Float(4.5)]);
         assert_eq!(cells(&r, "1,800cc"), vec![Cell::Float(1.8)]);
         // 1 in³ = 16.387064 cm³ exactly (NIST SP 811, Appendix B.8).
-        let Cell::Float(v) = cells(&r, "100 ci")[0] else { panic!() };
+        let Cell::Float(v) = cells(&r, "100 ci")[0] else {
+            panic!()
+        };
         assert!((v - 1.6387064).abs() < 1e-12);
     }
 
@@ -398,10 +487,16 @@ mod tests {
             pattern = 'gas(oline)?|petrol'
             "#,
         );
-        let Rule::Label(l) = &r.features[0].rule else { panic!() };
+        let Rule::Label(l) = &r.features[0].rule else {
+            panic!()
+        };
         assert_eq!(l.categories, vec!["diesel", "gasoline", "unknown"]);
         assert_eq!(cells(&r, "DSL"), vec![Cell::Label(0)]);
-        assert_eq!(cells(&r, "Gas Diesel"), vec![Cell::Label(1)], "map wins over cases");
+        assert_eq!(
+            cells(&r, "Gas Diesel"),
+            vec![Cell::Label(1)],
+            "map wins over cases"
+        );
         let out = r.evaluate("diesel or gas");
         assert_eq!(out[0].cell, Cell::Label(0), "first matching case wins");
         assert_eq!(out[0].conflicts, vec![1], "and the other is reported");

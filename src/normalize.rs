@@ -105,7 +105,11 @@ impl Normalizer {
     }
 
     fn tidy_space(&self, s: &str) -> String {
-        let s = if self.collapse_space { collapse_white_space(s) } else { s.to_owned() };
+        let s = if self.collapse_space {
+            collapse_white_space(s)
+        } else {
+            s.to_owned()
+        };
         if self.trim {
             s.trim_matches(char::is_whitespace).to_owned()
         } else {
@@ -169,7 +173,10 @@ mod tests {
         assert_eq!(n.apply("\u{fb01}lter"), "filter");
         assert_eq!(n.apply("\u{ff16} spd"), "6 spd");
         // NFC keeps compatibility characters as they are (UAX #15, Figure 6).
-        let nfc = Normalizer { unicode: UnicodeForm::Nfc, ..Normalizer::default() };
+        let nfc = Normalizer {
+            unicode: UnicodeForm::Nfc,
+            ..Normalizer::default()
+        };
         assert_eq!(nfc.apply("\u{ff16}"), "\u{ff16}");
         // Canonical composition: "e" + U+0301 combining acute -> U+00E9 (UAX #15, Figure 3).
         assert_eq!(nfc.apply("e\u{301}"), "\u{e9}");
@@ -179,7 +186,10 @@ mod tests {
     fn accents_stripped_only_when_asked() {
         let keep = Normalizer::default();
         assert_eq!(keep.apply("Écrou"), "écrou");
-        let strip = Normalizer { strip_accents: true, ..Normalizer::default() };
+        let strip = Normalizer {
+            strip_accents: true,
+            ..Normalizer::default()
+        };
         assert_eq!(strip.apply("Écrou Crémaillère"), "ecrou cremaillere");
     }
 
@@ -190,7 +200,10 @@ mod tests {
 
     #[test]
     fn case_kept_when_asked() {
-        let n = Normalizer { case: CaseFold::None, ..Normalizer::default() };
+        let n = Normalizer {
+            case: CaseFold::None,
+            ..Normalizer::default()
+        };
         assert_eq!(n.apply(" PMP-0750 "), "PMP-0750");
     }
 }

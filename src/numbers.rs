@@ -127,7 +127,11 @@ fn parse_decimal(text: &str, mark: DecimalMark) -> Option<f64> {
         None => (text, None),
     };
     let int_digits = strip_thousands(int_part, mark.thousands())?;
-    let mut plain = if int_digits.is_empty() { "0".to_owned() } else { int_digits };
+    let mut plain = if int_digits.is_empty() {
+        "0".to_owned()
+    } else {
+        int_digits
+    };
     if let Some(frac) = frac_part {
         if frac.is_empty() || !frac.bytes().all(|b| b.is_ascii_digit()) {
             return None;
@@ -172,7 +176,11 @@ mod tests {
         assert_eq!(parse_number("1,234,567", P), Some(1_234_567.0));
         assert_eq!(parse_number("1.800", C), Some(1800.0));
         assert_eq!(parse_number("1 800", P), Some(1800.0));
-        assert_eq!(parse_number("1,80", P), None, "a group of two is not a thousands group");
+        assert_eq!(
+            parse_number("1,80", P),
+            None,
+            "a group of two is not a thousands group"
+        );
     }
 
     #[test]
@@ -207,14 +215,25 @@ mod tests {
     #[test]
     fn expansions_match_what_the_parser_reads() {
         for text in ["6", "1,800", "1,234,567"] {
-            assert!(whole_match(Macro::Int, P, text), "{{int}} should match {text}");
+            assert!(
+                whole_match(Macro::Int, P, text),
+                "{{int}} should match {text}"
+            );
         }
-        for text in ["6", "4.5", ".75", "1,800", "1/2", "7-1/2", "7 1/2", "1,234.5"] {
-            assert!(whole_match(Macro::Num, P, text), "{{num}} should match {text}");
+        for text in [
+            "6", "4.5", ".75", "1,800", "1/2", "7-1/2", "7 1/2", "1,234.5",
+        ] {
+            assert!(
+                whole_match(Macro::Num, P, text),
+                "{{num}} should match {text}"
+            );
             assert!(parse_number(text, P).is_some(), "parser should read {text}");
         }
         for text in ["4,5", ",75", "1.800", "1.234,5"] {
-            assert!(whole_match(Macro::Num, C, text), "{{num}} with comma should match {text}");
+            assert!(
+                whole_match(Macro::Num, C, text),
+                "{{num}} with comma should match {text}"
+            );
         }
     }
 

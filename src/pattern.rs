@@ -88,7 +88,13 @@ impl Pattern {
             Engine::Plain(build_plain(source, &expanded)?)
         };
         let groups = scan_groups(source, &macros);
-        Ok(Pattern { source: source.to_owned(), expanded, engine, groups, macros })
+        Ok(Pattern {
+            source: source.to_owned(),
+            expanded,
+            engine,
+            groups,
+            macros,
+        })
     }
 
     pub fn source(&self) -> &str {
@@ -117,7 +123,9 @@ impl Pattern {
 
     pub fn find(&self, text: &str) -> Result<Option<Found>, MatchError> {
         match &self.engine {
-            Engine::Plain(re) => Ok(re.captures(text).map(|c| found_from(c.len(), |i| c.get(i).map(|m| m.range())))),
+            Engine::Plain(re) => Ok(re
+                .captures(text)
+                .map(|c| found_from(c.len(), |i| c.get(i).map(|m| m.range())))),
             Engine::Fancy(re) => match re.captures(text) {
                 Ok(Some(c)) => Ok(Some(found_from(c.len(), |i| c.get(i).map(|m| m.range())))),
                 Ok(None) => Ok(None),
@@ -135,7 +143,10 @@ impl Pattern {
 }
 
 fn found_from(len: usize, get: impl Fn(usize) -> Option<Range<usize>>) -> Found {
-    Found { span: get(0).unwrap_or(0..0), groups: (1..len).map(get).collect() }
+    Found {
+        span: get(0).unwrap_or(0..0),
+        groups: (1..len).map(get).collect(),
+    }
 }
 
 fn fancy_runtime_error(e: fancy_regex::Error) -> MatchError {
@@ -154,7 +165,9 @@ fn expand_macros(source: &str, mark: DecimalMark) -> (String, String, Vec<usize>
     let mut offsets = Vec::new();
     let mut rest = 0;
     while rest < source.len() {
-        let hit = Macro::ALL.iter().find(|(_, name)| source[rest..].starts_with(name) && !escaped(source, rest));
+        let hit = Macro::ALL
+            .iter()
+            .find(|(_, name)| source[rest..].starts_with(name) && !escaped(source, rest));
         match hit {
             Some((m, name)) => {
                 offsets.push(rest);
@@ -175,7 +188,13 @@ fn expand_macros(source: &str, mark: DecimalMark) -> (String, String, Vec<usize>
 
 /// Is the byte at `at` preceded by an odd number of backslashes?
 fn escaped(source: &str, at: usize) -> bool {
-    source[..at].bytes().rev().take_while(|b| *b == b'\\').count() % 2 == 1
+    source[..at]
+        .bytes()
+        .rev()
+        .take_while(|b| *b == b'\\')
+        .count()
+        % 2
+        == 1
 }
 
 fn check_plain_syntax(source: &str, placeholder: &str) -> Result<(), RulesetError> {
@@ -192,13 +211,17 @@ fn check_plain_syntax(source: &str, placeholder: &str) -> Result<(), RulesetErro
             } else {
                 "patterns use the regex crate's syntax; escape literal ( ) [ ] { } . + * ? | with a backslash"
             };
-            Err(RulesetError::new("", format!("invalid pattern: {kind}")).at(source, offset).hint(hint))
+            Err(RulesetError::new("", format!("invalid pattern: {kind}"))
+                .at(source, offset)
+                .hint(hint))
         }
     }
 }
 
 fn looks_fancy(source: &str) -> bool {
-    ["(?=", "(?!", "(?<=", "(?<!", "\\1", "\\2", "(?>"].iter().any(|s| source.contains(s))
+    ["(?=", "(?!", "(?<=", "(?<!", "\\1", "\\2", "(?>"]
+        .iter()
+        .any(|s| source.contains(s))
 }
 
 fn check_fancy_syntax(source: &str, placeholder: &str) -> Result<(), RulesetError> {
@@ -207,7 +230,9 @@ fn check_fancy_syntax(source: &str, placeholder: &str) -> Result<(), RulesetErro
         Err(fancy_regex::Error::ParseError(offset, kind)) => {
             Err(RulesetError::new("", format!("invalid fancy pattern: {kind}")).at(source, offset))
         }
-        Err(other) => Err(RulesetError::new("", format!("invalid fancy pattern: {other}")).at(source, 0)),
+        Err(other) => {
+            Err(RulesetError::new("", format!("invalid fancy pattern: {other}")).at(source, 0))
+        }
     }
 }
 
@@ -252,7 +277,10 @@ fn scan_groups(source: &str, macros: &[usize]) -> Vec<Group> {
             b']' if class_depth > 0 => class_depth -= 1,
             b'(' if class_depth == 0 => {
                 if opens_capture(&source[i..]) {
-                    groups.push(Group { span: i..i, has_macro: false });
+                    groups.push(Group {
+                        span: i..i,
+                        has_macro: false,
+                    });
                     open.push(Some(groups.len() - 1));
                 } else {
                     open.push(None);
@@ -268,7 +296,11 @@ fn scan_groups(source: &str, macros: &[usize]) -> Vec<Group> {
         i += 1;
     }
     for &m in macros {
-        let innermost = groups.iter().enumerate().filter(|(_, g)| g.span.contains(&m)).max_by_key(|(_, g)| g.span.start);
+        let innermost = groups
+            .iter()
+            .enumerate()
+            .filter(|(_, g)| g.span.contains(&m))
+            .max_by_key(|(_, g)| g.span.start);
         if let Some((idx, _)) = innermost {
             groups[idx].has_macro = true;
         }
@@ -281,7 +313,8 @@ fn opens_capture(rest: &str) -> bool {
         return true;
     }
     let after = &rest[2..];
-    after.starts_with("P<") || (after.starts_with('<') && !after.starts_with("<=") && !after.starts_with("<!"))
+    after.starts_with("P<")
+        || (after.starts_with('<') && !after.starts_with("<=") && !after.starts_with("<!"))
 }
 
 /// A list of literals matched as whole words: the characters just before and
@@ -340,7 +373,10 @@ pub enum Matcher {
 impl Matcher {
     pub fn find(&self, text: &str) -> Result<Option<Found>, MatchError> {
         match self {
-            Matcher::Literals(l) => Ok(l.find(text).map(|span| Found { span, groups: Vec::new() })),
+            Matcher::Literals(l) => Ok(l.find(text).map(|span| Found {
+                span,
+                groups: Vec::new(),
+            })),
             Matcher::Pattern(p) => p.find(text),
         }
     }

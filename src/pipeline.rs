@@ -39,7 +39,10 @@ impl Describer {
     /// `full_vocabularies[i]`, when given, is the complete vocabulary of
     /// column `i` (from a first pass over the file): it fixes the types of
     /// counts that have no `range`, and its values are evaluated up front.
-    pub fn new(descriptions: Vec<Description>, full_vocabularies: Vec<Option<GrowingVocabulary>>) -> Describer {
+    pub fn new(
+        descriptions: Vec<Description>,
+        full_vocabularies: Vec<Option<GrowingVocabulary>>,
+    ) -> Describer {
         let columns = descriptions
             .into_iter()
             .zip(full_vocabularies.into_iter().chain(std::iter::repeat(None)))
@@ -49,7 +52,12 @@ impl Describer {
                 let eval = description.rules.evaluate_all(&vocab.values);
                 let mut encoder = Encoder::new(&description.rules, &eval);
                 encoder.add_values(&eval, 0);
-                ColumnState { description, evaluated: vocab.distinct(), vocab, encoder }
+                ColumnState {
+                    description,
+                    evaluated: vocab.distinct(),
+                    vocab,
+                    encoder,
+                }
             })
             .collect();
         Describer { columns }
@@ -58,7 +66,9 @@ impl Describer {
     /// Whether the rulesets fix every output type, so that one pass over
     /// the file is enough.
     pub fn one_pass(descriptions: &[Description]) -> bool {
-        descriptions.iter().all(|d| Encoder::types_fixed_by_ruleset(&d.rules))
+        descriptions
+            .iter()
+            .all(|d| Encoder::types_fixed_by_ruleset(&d.rules))
     }
 
     /// The feature columns for one batch (its described columns must be text).
@@ -69,7 +79,10 @@ impl Describer {
             let rows: Vec<Option<&str>> = text.iter().collect();
             let codes = state.vocab.codes_for(&rows);
             if state.vocab.distinct() > state.evaluated {
-                let fresh = state.description.rules.evaluate_all(&state.vocab.values[state.evaluated..]);
+                let fresh = state
+                    .description
+                    .rules
+                    .evaluate_all(&state.vocab.values[state.evaluated..]);
                 state.encoder.add_values(&fresh, 0);
                 state.evaluated = state.vocab.distinct();
             }
@@ -86,6 +99,8 @@ impl Describer {
     /// Per column: its description and its vocabulary so far (without row
     /// codes).
     pub fn results(&self) -> impl Iterator<Item = (&Description, Vocabulary)> {
-        self.columns.iter().map(|s| (&s.description, s.vocab.to_vocabulary()))
+        self.columns
+            .iter()
+            .map(|s| (&s.description, s.vocab.to_vocabulary()))
     }
 }

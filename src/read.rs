@@ -26,9 +26,15 @@ impl TableFormat {
     /// The format of a path, by extension; `-` is CSV on standard input.
     pub fn of(path: &Path, delimiter: Option<u8>) -> Result<TableFormat, Error> {
         if path.as_os_str() == "-" {
-            return Ok(TableFormat::Csv { delimiter: delimiter.unwrap_or(b',') });
+            return Ok(TableFormat::Csv {
+                delimiter: delimiter.unwrap_or(b','),
+            });
         }
-        let ext = path.extension().and_then(|e| e.to_str()).unwrap_or("").to_ascii_lowercase();
+        let ext = path
+            .extension()
+            .and_then(|e| e.to_str())
+            .unwrap_or("")
+            .to_ascii_lowercase();
         let format = match ext.as_str() {
             "csv" | "txt" => TableFormat::Csv { delimiter: delimiter.unwrap_or(b',') },
             "tsv" | "tab" => TableFormat::Csv { delimiter: delimiter.unwrap_or(b'\t') },
@@ -89,9 +95,14 @@ impl Table {
     ) -> Result<Table, Error> {
         let format = TableFormat::of(path, opts.delimiter)?;
         let source = Source::open(path)?;
-        let names = column_names(&source, format, opts).map_err(|e| read_error(path, &source, format, opts, e))?;
+        let names = column_names(&source, format, opts)
+            .map_err(|e| read_error(path, &source, format, opts, e))?;
         if let Some(missing) = text_columns.iter().find(|c| !names.iter().any(|n| n == *c)) {
-            return Err(Error::MissingColumn { path: path.to_owned(), column: missing.to_string(), available: names });
+            return Err(Error::MissingColumn {
+                path: path.to_owned(),
+                column: missing.to_string(),
+                available: names,
+            });
         }
         let frame = read_frame(&source, format, text_columns, projection, opts)
             .map_err(|e| read_error(path, &source, format, opts, e))?;
@@ -106,24 +117,41 @@ impl Table {
             };
             let dtype = col.dtype().clone();
             if dtype != DataType::String {
-                let text = col.cast(&DataType::String).map_err(|e| input_error(path, e))?;
-                frame.replace(name, text).map_err(|e| input_error(path, e))?;
+                let text = col
+                    .cast(&DataType::String)
+                    .map_err(|e| input_error(path, e))?;
+                frame
+                    .replace(name, text)
+                    .map_err(|e| input_error(path, e))?;
                 if dtype != DataType::Null {
-                    notes.push(format!("column \"{name}\" holds {dtype} values; they were read as text"));
+                    notes.push(format!(
+                        "column \"{name}\" holds {dtype} values; they were read as text"
+                    ));
                 }
             }
         }
-        Ok(Table { path: path.to_owned(), frame, notes })
+        Ok(Table {
+            path: path.to_owned(),
+            frame,
+            notes,
+        })
     }
 
     /// The text values of a column (which `read` made a string column).
     pub fn text(&self, column: &str) -> Result<&StringChunked, Error> {
-        let col = self.frame.column(column).map_err(|_| missing_column(&self.path, &self.frame, column))?;
+        let col = self
+            .frame
+            .column(column)
+            .map_err(|_| missing_column(&self.path, &self.frame, column))?;
         col.str().map_err(|e| input_error(&self.path, e))
     }
 
     pub fn column_names(&self) -> Vec<String> {
-        self.frame.get_column_names().iter().map(|s| s.to_string()).collect()
+        self.frame
+            .get_column_names()
+            .iter()
+            .map(|s| s.to_string())
+            .collect()
     }
 }
 
@@ -142,9 +170,15 @@ impl Source {
         let mut buf = Vec::new();
         std::io::stdin()
             .read_to_end(&mut buf)
-            .map_err(|e| Error::Input { path: path.to_owned(), message: format!("cannot read standard input: {e}") })?;
+            .map_err(|e| Error::Input {
+                path: path.to_owned(),
+                message: format!("cannot read standard input: {e}"),
+            })?;
         if buf.is_empty() {
-            return Err(Error::Input { path: path.to_owned(), message: "standard input is empty".to_owned() });
+            return Err(Error::Input {
+                path: path.to_owned(),
+                message: "standard input is empty".to_owned(),
+            });
         }
         Ok(Source::Bytes(buf))
     }
@@ -158,15 +192,27 @@ impl Source {
 }
 
 /// The names of every column of the table, read from its header or schema.
-fn column_names(source: &Source, format: TableFormat, opts: &ReadOptions) -> PolarsResult<Vec<String>> {
+fn column_names(
+    source: &Source,
+    format: TableFormat,
+    opts: &ReadOptions,
+) -> PolarsResult<Vec<String>> {
     let names = match format {
         TableFormat::Csv { delimiter } => {
             let options = CsvReadOptions::default()
                 .with_has_header(true)
                 .with_n_rows(Some(0))
-                .with_parse_options(CsvParseOptions::default().with_separator(delimiter).with_encoding(encoding(opts)));
+                .with_parse_options(
+                    CsvParseOptions::default()
+                        .with_separator(delimiter)
+                        .with_encoding(encoding(opts)),
+                );
             let frame = csv_reader(source, options)?;
-            frame.get_column_names().iter().map(|s| s.to_string()).collect()
+            frame
+                .get_column_names()
+                .iter()
+                .map(|s| s.to_string())
+                .collect()
         }
         TableFormat::Parquet => arrow_names(ParquetReader::new(source.file()?).schema()?.as_ref()),
         TableFormat::Ipc => arrow_names(IpcReader::new(source.file()?).schema()?.as_ref()),
@@ -175,7 +221,11 @@ fn column_names(source: &Source, format: TableFormat, opts: &ReadOptions) -> Pol
                 .with_json_format(JsonFormat::JsonLines)
                 .infer_schema_len(std::num::NonZeroUsize::new(1000))
                 .finish()?;
-            frame.get_column_names().iter().map(|s| s.to_string()).collect()
+            frame
+                .get_column_names()
+                .iter()
+                .map(|s| s.to_string())
+                .collect()
         }
     };
     Ok(names)
@@ -183,8 +233,12 @@ fn column_names(source: &Source, format: TableFormat, opts: &ReadOptions) -> Pol
 
 fn csv_reader(source: &Source, options: CsvReadOptions) -> PolarsResult<DataFrame> {
     match source {
-        Source::File(p) => options.try_into_reader_with_file_path(Some(p.clone()))?.finish(),
-        Source::Bytes(b) => options.into_reader_with_file_handle(Cursor::new(b.as_slice())).finish(),
+        Source::File(p) => options
+            .try_into_reader_with_file_path(Some(p.clone()))?
+            .finish(),
+        Source::Bytes(b) => options
+            .into_reader_with_file_handle(Cursor::new(b.as_slice()))
+            .finish(),
     }
 }
 
@@ -192,7 +246,11 @@ fn missing_column(path: &Path, frame: &DataFrame, name: &str) -> Error {
     Error::MissingColumn {
         path: path.to_owned(),
         column: name.to_owned(),
-        available: frame.get_column_names().iter().map(|s| s.to_string()).collect(),
+        available: frame
+            .get_column_names()
+            .iter()
+            .map(|s| s.to_string())
+            .collect(),
     }
 }
 
@@ -201,7 +259,10 @@ fn input_error(path: &Path, e: PolarsError) -> Error {
         PolarsError::NoData(_) => "the file is empty: there is no header and no rows".to_owned(),
         other => format!("cannot read the table: {}", first_line(&other.to_string())),
     };
-    Error::Input { path: path.to_owned(), message }
+    Error::Input {
+        path: path.to_owned(),
+        message,
+    }
 }
 
 fn first_line(s: &str) -> &str {
@@ -218,7 +279,10 @@ fn check_readable(path: &Path) -> Result<(), Error> {
         },
     })?;
     if meta.is_dir() {
-        return Err(Error::Input { path: path.to_owned(), message: "is a folder, not a table file".to_owned() });
+        return Err(Error::Input {
+            path: path.to_owned(),
+            message: "is a folder, not a table file".to_owned(),
+        });
     }
     if meta.len() == 0 {
         return Err(Error::Input {
@@ -238,11 +302,19 @@ fn read_frame(
 ) -> PolarsResult<DataFrame> {
     let owned = |cols: &[&str]| cols.iter().map(|s| s.to_string()).collect::<Vec<_>>();
     match format {
-        TableFormat::Csv { delimiter } => read_csv(source, delimiter, text_columns, projection, opts),
-        TableFormat::Parquet => ParquetReader::new(source.file()?).with_columns(projection.map(owned)).finish(),
-        TableFormat::Ipc => IpcReader::new(source.file()?).with_columns(projection.map(owned)).finish(),
+        TableFormat::Csv { delimiter } => {
+            read_csv(source, delimiter, text_columns, projection, opts)
+        }
+        TableFormat::Parquet => ParquetReader::new(source.file()?)
+            .with_columns(projection.map(owned))
+            .finish(),
+        TableFormat::Ipc => IpcReader::new(source.file()?)
+            .with_columns(projection.map(owned))
+            .finish(),
         TableFormat::NdJson => {
-            let frame = JsonReader::new(source.file()?).with_json_format(JsonFormat::JsonLines).finish()?;
+            let frame = JsonReader::new(source.file()?)
+                .with_json_format(JsonFormat::JsonLines)
+                .finish()?;
             match projection {
                 Some(cols) => frame.select(owned(cols)),
                 None => Ok(frame),
@@ -262,13 +334,24 @@ fn read_csv(
     projection: Option<&[&str]>,
     opts: &ReadOptions,
 ) -> PolarsResult<DataFrame> {
-    let overwrite: Schema = text_columns.iter().map(|c| Field::new((*c).into(), DataType::String)).collect();
-    let columns = projection.map(|p| p.iter().map(|s| PlSmallStr::from(*s)).collect::<Arc<[PlSmallStr]>>());
+    let overwrite: Schema = text_columns
+        .iter()
+        .map(|c| Field::new((*c).into(), DataType::String))
+        .collect();
+    let columns = projection.map(|p| {
+        p.iter()
+            .map(|s| PlSmallStr::from(*s))
+            .collect::<Arc<[PlSmallStr]>>()
+    });
     let options = CsvReadOptions::default()
         .with_has_header(true)
         .with_columns(columns)
         .with_schema_overwrite(Some(Arc::new(overwrite)))
-        .with_parse_options(CsvParseOptions::default().with_separator(delimiter).with_encoding(encoding(opts)));
+        .with_parse_options(
+            CsvParseOptions::default()
+                .with_separator(delimiter)
+                .with_encoding(encoding(opts)),
+        );
     csv_reader(source, options)
 }
 
@@ -284,13 +367,20 @@ fn diagnose_csv(source: &Source, delimiter: u8, lossy_utf8: bool) -> Option<Stri
             "line {line}: a quoted field opens here and is never closed; close the quote or double the \" inside it"
         ));
     }
-    let mut reader = csv::ReaderBuilder::new().delimiter(delimiter).has_headers(true).from_reader(&bytes[..]);
+    let mut reader = csv::ReaderBuilder::new()
+        .delimiter(delimiter)
+        .has_headers(true)
+        .from_reader(&bytes[..]);
     let header = reader.byte_headers().ok()?.clone();
     for (i, record) in reader.byte_records().enumerate() {
         let row = i + 1;
         match record {
             Err(e) => match e.kind() {
-                csv::ErrorKind::UnequalLengths { pos, expected_len, len } => {
+                csv::ErrorKind::UnequalLengths {
+                    pos,
+                    expected_len,
+                    len,
+                } => {
                     let line = pos.as_ref().map_or(0, |p| p.line());
                     return Some(format!(
                         "row {row} (line {line}) has {len} fields but the header has {expected_len}; \
@@ -302,7 +392,10 @@ fn diagnose_csv(source: &Source, delimiter: u8, lossy_utf8: bool) -> Option<Stri
             Ok(record) if !lossy_utf8 => {
                 if let Some(field) = record.iter().position(|f| std::str::from_utf8(f).is_err()) {
                     let line = record.position().map_or(0, |p| p.line());
-                    let column = header.get(field).map(String::from_utf8_lossy).unwrap_or_default();
+                    let column = header
+                        .get(field)
+                        .map(String::from_utf8_lossy)
+                        .unwrap_or_default();
                     return Some(format!(
                         "row {row} (line {line}), column \"{column}\": invalid UTF-8; re-encode the file \
                          as UTF-8, or pass --lossy-utf8 to replace bad bytes with U+FFFD"
@@ -364,7 +457,11 @@ pub fn for_each_batch(
     let fail = |e| read_error(path, &source, format, opts, e);
     let names = column_names(&source, format, opts).map_err(fail)?;
     if let Some(missing) = text_columns.iter().find(|c| !names.iter().any(|n| n == *c)) {
-        return Err(Error::MissingColumn { path: path.to_owned(), column: missing.to_string(), available: names });
+        return Err(Error::MissingColumn {
+            path: path.to_owned(),
+            column: missing.to_string(),
+            available: names,
+        });
     }
     let mut lazy = scan(path, format, text_columns, opts).map_err(fail)?;
     if let Some(cols) = projection {
@@ -373,10 +470,18 @@ pub fn for_each_batch(
     let schema = lazy.collect_schema().map_err(fail)?;
     let notes = text_columns
         .iter()
-        .filter_map(|c| schema.get(c).filter(|t| !matches!(t, DataType::String | DataType::Null)).map(|t| (c, t)))
+        .filter_map(|c| {
+            schema
+                .get(c)
+                .filter(|t| !matches!(t, DataType::String | DataType::Null))
+                .map(|t| (c, t))
+        })
         .map(|(c, t)| format!("column \"{c}\" holds {t} values; they were read as text"))
         .collect();
-    let casts: Vec<Expr> = text_columns.iter().map(|c| col(*c).cast(DataType::String)).collect();
+    let casts: Vec<Expr> = text_columns
+        .iter()
+        .map(|c| col(*c).cast(DataType::String))
+        .collect();
     lazy = lazy.with_columns(casts);
     let (send, receive) = std::sync::mpsc::sync_channel::<DataFrame>(2);
     let sink = lazy
@@ -386,7 +491,8 @@ pub fn for_each_batch(
             std::num::NonZeroUsize::new(batch_rows.max(1)),
         )
         .map_err(fail)?;
-    let runner = std::thread::spawn(move || sink.collect_with_engine(Engine::Streaming).map(|_| ()));
+    let runner =
+        std::thread::spawn(move || sink.collect_with_engine(Engine::Streaming).map(|_| ()));
     let mut failure = None;
     for batch in receive.iter() {
         if let Err(e) = each(batch) {
@@ -395,7 +501,9 @@ pub fn for_each_batch(
         }
     }
     drop(receive);
-    let read_result = runner.join().unwrap_or_else(|_| Err(polars_err!(ComputeError: "the reader stopped unexpectedly")));
+    let read_result = runner
+        .join()
+        .unwrap_or_else(|_| Err(polars_err!(ComputeError: "the reader stopped unexpectedly")));
     if let Some(e) = failure {
         return Err(e);
     }
@@ -411,21 +519,38 @@ fn encoding(opts: &ReadOptions) -> CsvEncoding {
 }
 
 /// A read error, located in the file when it is a CSV the reader rejected.
-fn read_error(path: &Path, source: &Source, format: TableFormat, opts: &ReadOptions, e: PolarsError) -> Error {
+fn read_error(
+    path: &Path,
+    source: &Source,
+    format: TableFormat,
+    opts: &ReadOptions,
+    e: PolarsError,
+) -> Error {
     match format {
         TableFormat::Csv { delimiter } => match diagnose_csv(source, delimiter, opts.lossy_utf8) {
-            Some(place) => Error::Input { path: path.to_owned(), message: format!("cannot read the table: {place}") },
+            Some(place) => Error::Input {
+                path: path.to_owned(),
+                message: format!("cannot read the table: {place}"),
+            },
             None => input_error(path, e),
         },
         _ => input_error(path, e),
     }
 }
 
-fn scan(path: &Path, format: TableFormat, text_columns: &[&str], opts: &ReadOptions) -> PolarsResult<LazyFrame> {
+fn scan(
+    path: &Path,
+    format: TableFormat,
+    text_columns: &[&str],
+    opts: &ReadOptions,
+) -> PolarsResult<LazyFrame> {
     let p = PlRefPath::new(path.to_string_lossy().as_ref());
     match format {
         TableFormat::Csv { delimiter } => {
-            let overwrite: Schema = text_columns.iter().map(|c| Field::new((*c).into(), DataType::String)).collect();
+            let overwrite: Schema = text_columns
+                .iter()
+                .map(|c| Field::new((*c).into(), DataType::String))
+                .collect();
             LazyCsvReader::new(p)
                 .with_has_header(true)
                 .with_separator(delimiter)

@@ -33,7 +33,11 @@ pub fn shown(value: &str) -> String {
     }
     out.push('"');
     if total > SHOWN_MAX_CHARS {
-        let _ = write!(out, "... ({} more characters)", thousands((total - SHOWN_MAX_CHARS) as u64));
+        let _ = write!(
+            out,
+            "... ({} more characters)",
+            thousands((total - SHOWN_MAX_CHARS) as u64)
+        );
     }
     out
 }
@@ -62,7 +66,9 @@ fn percent(share: f64) -> String {
 
 fn table(header: &[&str]) -> Table {
     let mut t = Table::new();
-    t.load_preset(presets::NOTHING).set_content_arrangement(ContentArrangement::Disabled).set_header(header.to_vec());
+    t.load_preset(presets::NOTHING)
+        .set_content_arrangement(ContentArrangement::Disabled)
+        .set_header(header.to_vec());
     t
 }
 
@@ -103,14 +109,29 @@ pub fn check_text(r: &CoverageReport, top: usize) -> String {
     issues_section(&mut out, r, top);
     conflicts_section(&mut out, r, top);
     if !r.silent_rules.is_empty() {
-        let _ = writeln!(out, "\nrules that hit nothing: {}", r.silent_rules.join(", "));
+        let _ = writeln!(
+            out,
+            "\nrules that hit nothing: {}",
+            r.silent_rules.join(", ")
+        );
     }
     examples_section(&mut out, r);
     out
 }
 
 fn rules_table(r: &CoverageReport) -> String {
-    let mut t = table(&["rule", "kind", "line", "distinct", "rows", "rows %", "out of range", "unparsable", "unknown unit", "backtrack"]);
+    let mut t = table(&[
+        "rule",
+        "kind",
+        "line",
+        "distinct",
+        "rows",
+        "rows %",
+        "out of range",
+        "unparsable",
+        "unknown unit",
+        "backtrack",
+    ]);
     let considered = r.coverage.rows_considered.max(1) as f64;
     for rule in &r.rules {
         t.add_row(vec![
@@ -132,11 +153,19 @@ fn rules_table(r: &CoverageReport) -> String {
 
 fn unmatched_section(out: &mut String, r: &CoverageReport, top: usize) {
     if r.unmatched.is_empty() {
-        let _ = writeln!(out, "\nevery non-blank value is matched by at least one rule");
+        let _ = writeln!(
+            out,
+            "\nevery non-blank value is matched by at least one rule"
+        );
         return;
     }
     let shown_n = top.min(r.unmatched.len());
-    let _ = writeln!(out, "\nunmatched values: {} distinct; top {} by rows", thousands(r.unmatched.len() as u64), shown_n);
+    let _ = writeln!(
+        out,
+        "\nunmatched values: {} distinct; top {} by rows",
+        thousands(r.unmatched.len() as u64),
+        shown_n
+    );
     let mut t = table(&["rows", "value"]);
     for v in r.unmatched.iter().take(top) {
         t.add_row(vec![thousands(v.rows), shown(&v.value)]);
@@ -149,10 +178,19 @@ fn issues_section(out: &mut String, r: &CoverageReport, top: usize) {
     if r.issues.is_empty() {
         return;
     }
-    let _ = writeln!(out, "\nvalues a rule could not turn into a feature (written as null): {}", r.issues.len());
+    let _ = writeln!(
+        out,
+        "\nvalues a rule could not turn into a feature (written as null): {}",
+        r.issues.len()
+    );
     let mut t = table(&["rows", "rule", "value", "why"]);
     for i in r.issues.iter().take(top) {
-        t.add_row(vec![thousands(i.rows), i.rule.clone(), shown(&i.value), i.issue.to_string()]);
+        t.add_row(vec![
+            thousands(i.rows),
+            i.rule.clone(),
+            shown(&i.value),
+            i.issue.to_string(),
+        ]);
     }
     right_align(&mut t, 0..1);
     let _ = writeln!(out, "{}", t.trim_fmt());
@@ -162,10 +200,20 @@ fn conflicts_section(out: &mut String, r: &CoverageReport, top: usize) {
     if r.conflicts.is_empty() {
         return;
     }
-    let _ = writeln!(out, "\nconflicts (several cases matched; the first wins): {}", r.conflicts.len());
+    let _ = writeln!(
+        out,
+        "\nconflicts (several cases matched; the first wins): {}",
+        r.conflicts.len()
+    );
     let mut t = table(&["rows", "rule", "value", "chosen", "also matched"]);
     for c in r.conflicts.iter().take(top) {
-        t.add_row(vec![thousands(c.rows), c.rule.clone(), shown(&c.value), c.chosen.clone(), c.also.join(", ")]);
+        t.add_row(vec![
+            thousands(c.rows),
+            c.rule.clone(),
+            shown(&c.value),
+            c.chosen.clone(),
+            c.also.join(", "),
+        ]);
     }
     right_align(&mut t, 0..1);
     let _ = writeln!(out, "{}", t.trim_fmt());
@@ -176,11 +224,19 @@ fn examples_section(out: &mut String, r: &CoverageReport) {
         return;
     }
     let passed = r.examples.len() - r.examples_failed;
-    let _ = writeln!(out, "\nexamples: {passed} passed, {} failed", r.examples_failed);
+    let _ = writeln!(
+        out,
+        "\nexamples: {passed} passed, {} failed",
+        r.examples_failed
+    );
     for e in r.examples.iter().filter(|e| !e.passed) {
         let _ = writeln!(out, "  FAILED line {} {}", e.line, shown(&e.value));
         for m in &e.mismatches {
-            let _ = writeln!(out, "    {}: expected {}, got {}", m.feature, m.expected, m.got);
+            let _ = writeln!(
+                out,
+                "    {}: expected {}, got {}",
+                m.feature, m.expected, m.got
+            );
         }
     }
 }
@@ -195,18 +251,36 @@ pub fn explain_text(rules: &Ruleset, value: &str, normalized: &str, traces: &[Tr
             Cell::Null => "null".to_owned(),
             cell => cell_json(feature, cell).to_string(),
         };
-        let fired = if trace.outcome.fired { "fired" } else { "did not fire" };
-        let _ = writeln!(out, "  {} [{}] {fired} -> {result}", feature.output, feature.rule.kind());
+        let fired = if trace.outcome.fired {
+            "fired"
+        } else {
+            "did not fire"
+        };
+        let _ = writeln!(
+            out,
+            "  {} [{}] {fired} -> {result}",
+            feature.output,
+            feature.rule.kind()
+        );
         for step in &trace.steps {
             let _ = write!(out, "      {:<18} ", step.what);
             match (&step.span, &step.text) {
                 (Some(span), Some(text)) => {
-                    let _ = write!(out, "matched {} at {}..{}", shown(text), span.start, span.end);
+                    let _ = write!(
+                        out,
+                        "matched {} at {}..{}",
+                        shown(text),
+                        span.start,
+                        span.end
+                    );
                 }
                 _ => out.push_str("no match"),
             }
-            let caps: Vec<String> =
-                step.captures.iter().map(|c| c.as_deref().map_or("-".to_owned(), shown)).collect();
+            let caps: Vec<String> = step
+                .captures
+                .iter()
+                .map(|c| c.as_deref().map_or("-".to_owned(), shown))
+                .collect();
             if !caps.is_empty() {
                 let _ = write!(out, "  groups [{}]", caps.join(", "));
             }

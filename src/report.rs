@@ -116,7 +116,12 @@ pub struct Mismatch {
 
 impl CoverageReport {
     /// Build the report of `rules` on `vocab`, given their evaluation.
-    pub fn build(rules: &Ruleset, column: &str, vocab: &Vocabulary, eval: &Evaluation) -> CoverageReport {
+    pub fn build(
+        rules: &Ruleset,
+        column: &str,
+        vocab: &Vocabulary,
+        eval: &Evaluation,
+    ) -> CoverageReport {
         let mut report = CoverageReport {
             schema: CHECK_SCHEMA,
             ruleset: rules.file.clone(),
@@ -136,13 +141,26 @@ impl CoverageReport {
             examples_failed: 0,
         };
         for (i, value) in vocab.values.iter().enumerate() {
-            report.add_value(rules, value, &eval.normalized[i], vocab.counts[i], &eval.outcomes[i]);
+            report.add_value(
+                rules,
+                value,
+                &eval.normalized[i],
+                vocab.counts[i],
+                &eval.outcomes[i],
+            );
         }
         report.finish();
         report
     }
 
-    fn add_value(&mut self, rules: &Ruleset, value: &str, normalized: &str, rows: u64, outcomes: &[Outcome]) {
+    fn add_value(
+        &mut self,
+        rules: &Ruleset,
+        value: &str,
+        normalized: &str,
+        rows: u64,
+        outcomes: &[Outcome],
+    ) {
         if normalized.is_empty() {
             self.blank_rows += rows;
             self.blank_distinct += 1;
@@ -151,7 +169,8 @@ impl CoverageReport {
         self.coverage.rows_considered += rows;
         self.coverage.distinct_considered += 1;
         let mut any_fired = false;
-        for ((feature, stats), outcome) in rules.features.iter().zip(&mut self.rules).zip(outcomes) {
+        for ((feature, stats), outcome) in rules.features.iter().zip(&mut self.rules).zip(outcomes)
+        {
             if outcome.fired {
                 any_fired = true;
                 stats.distinct_hit += 1;
@@ -173,7 +192,11 @@ impl CoverageReport {
                         rows,
                         rule: feature.output.clone(),
                         chosen: l.categories[chosen as usize].clone(),
-                        also: outcome.conflicts.iter().map(|&c| l.categories[c as usize].clone()).collect(),
+                        also: outcome
+                            .conflicts
+                            .iter()
+                            .map(|&c| l.categories[c as usize].clone())
+                            .collect(),
                     });
                 }
             }
@@ -182,7 +205,11 @@ impl CoverageReport {
             self.coverage.rows_covered += rows;
             self.coverage.distinct_covered += 1;
         } else {
-            self.unmatched.push(ValueRows { value: value.to_owned(), normalized: normalized.to_owned(), rows });
+            self.unmatched.push(ValueRows {
+                value: value.to_owned(),
+                normalized: normalized.to_owned(),
+                rows,
+            });
         }
     }
 
@@ -190,10 +217,18 @@ impl CoverageReport {
         let c = &mut self.coverage;
         c.row_share = share(c.rows_covered, c.rows_considered);
         c.distinct_share = share(c.distinct_covered, c.distinct_considered);
-        self.unmatched.sort_by(|a, b| b.rows.cmp(&a.rows).then_with(|| a.value.cmp(&b.value)));
-        self.conflicts.sort_by(|a, b| b.rows.cmp(&a.rows).then_with(|| a.value.cmp(&b.value)));
-        self.issues.sort_by(|a, b| b.rows.cmp(&a.rows).then_with(|| a.value.cmp(&b.value)));
-        self.silent_rules = self.rules.iter().filter(|r| r.distinct_hit == 0).map(|r| r.output.clone()).collect();
+        self.unmatched
+            .sort_by(|a, b| b.rows.cmp(&a.rows).then_with(|| a.value.cmp(&b.value)));
+        self.conflicts
+            .sort_by(|a, b| b.rows.cmp(&a.rows).then_with(|| a.value.cmp(&b.value)));
+        self.issues
+            .sort_by(|a, b| b.rows.cmp(&a.rows).then_with(|| a.value.cmp(&b.value)));
+        self.silent_rules = self
+            .rules
+            .iter()
+            .filter(|r| r.distinct_hit == 0)
+            .map(|r| r.output.clone())
+            .collect();
         self.examples_failed = self.examples.iter().filter(|e| !e.passed).count();
     }
 
@@ -274,14 +309,21 @@ fn check_examples(rules: &Ruleset) -> Vec<ExampleResult> {
             let mismatches: Vec<Mismatch> = ex
                 .expect
                 .iter()
-                .filter(|(idx, expected)| !agrees(&rules.features[*idx], outcomes[*idx].cell, expected))
+                .filter(|(idx, expected)| {
+                    !agrees(&rules.features[*idx], outcomes[*idx].cell, expected)
+                })
                 .map(|(idx, expected)| Mismatch {
                     feature: rules.features[*idx].name.clone(),
                     expected: serde_json::to_value(expected).unwrap_or_default(),
                     got: cell_json(&rules.features[*idx], outcomes[*idx].cell),
                 })
                 .collect();
-            ExampleResult { value: ex.value.clone(), line: ex.line, passed: mismatches.is_empty(), mismatches }
+            ExampleResult {
+                value: ex.value.clone(),
+                line: ex.line,
+                passed: mismatches.is_empty(),
+                mismatches,
+            }
         })
         .collect()
 }

@@ -90,7 +90,11 @@ pub struct SampleOptions {
 impl Default for SampleOptions {
     /// The committed sample: 4000 rows, seed 7, standard spellings.
     fn default() -> Self {
-        SampleOptions { rows: 4000, seed: 7, variants: Variants::Standard }
+        SampleOptions {
+            rows: 4000,
+            seed: 7,
+            variants: Variants::Standard,
+        }
     }
 }
 
@@ -264,7 +268,10 @@ pub fn write_sample(out_dir: &Path, opts: &SampleOptions) -> io::Result<()> {
 pub fn generate(opts: &SampleOptions) -> Sample {
     let mut rows = Listings::new(opts);
     let listings = rows.by_ref().collect();
-    Sample { listings, truth: rows.into_truth() }
+    Sample {
+        listings,
+        truth: rows.into_truth(),
+    }
 }
 
 /// Stream the listings table as CSV into `out`, one row at a time, and hand
@@ -345,7 +352,11 @@ impl Stock {
             })
             .collect();
         let parts = (0..STOCK_PARTS).map(|_| make_part(d)).collect();
-        Stock { gearboxes, engines, parts }
+        Stock {
+            gearboxes,
+            engines,
+            parts,
+        }
     }
 }
 
@@ -362,7 +373,13 @@ impl Listings {
     pub fn new(opts: &SampleOptions) -> Self {
         let mut dice = Dice::new(opts.seed);
         let stock = Stock::lay_in(&mut dice, opts);
-        Listings { dice, opts: opts.clone(), row: 0, stock, tally: Tally::default() }
+        Listings {
+            dice,
+            opts: opts.clone(),
+            row: 0,
+            stock,
+            tally: Tally::default(),
+        }
     }
 
     /// Times a raw string was drawn with two different truths so far
@@ -385,14 +402,21 @@ impl Listings {
         let gearbox = stock_gearbox.map_or_else(|| fit_gearbox(d), |s| s.0.clone());
         let stock_engine = from_stock(d, &self.stock.engines, STOCK_DESCRIPTION_SHARE);
         let engine = stock_engine.map_or_else(|| fit_engine(d), |s| s.0.clone());
-        let part = from_stock(d, &self.stock.parts, STOCK_PART_SHARE).cloned().unwrap_or_else(|| make_part(d));
-        let transmission = fill(d, &mut t.transmission, &mut t.conflicts, |d| match stock_gearbox {
-            Some((_, text, features)) => (text.clone(), features.clone()),
-            None => {
-                let (clean, features) = describe_gearbox(d, &gearbox, extended);
-                (smudge(d, clean, seed), features)
-            }
-        });
+        let part = from_stock(d, &self.stock.parts, STOCK_PART_SHARE)
+            .cloned()
+            .unwrap_or_else(|| make_part(d));
+        let transmission = fill(
+            d,
+            &mut t.transmission,
+            &mut t.conflicts,
+            |d| match stock_gearbox {
+                Some((_, text, features)) => (text.clone(), features.clone()),
+                None => {
+                    let (clean, features) = describe_gearbox(d, &gearbox, extended);
+                    (smudge(d, clean, seed), features)
+                }
+            },
+        );
         let engine_text = fill(d, &mut t.engine, &mut t.conflicts, |d| match stock_engine {
             Some((_, text, features)) => (text.clone(), features.clone()),
             None => {
@@ -490,15 +514,36 @@ fn spell_pair(template: &str, n: u32, r: u32) -> String {
 
 fn number_word(n: u32) -> Option<String> {
     const ONES: [&str; 20] = [
-        "zero", "one", "two", "three", "four", "five", "six", "seven", "eight", "nine", "ten",
-        "eleven", "twelve", "thirteen", "fourteen", "fifteen", "sixteen", "seventeen", "eighteen",
+        "zero",
+        "one",
+        "two",
+        "three",
+        "four",
+        "five",
+        "six",
+        "seven",
+        "eight",
+        "nine",
+        "ten",
+        "eleven",
+        "twelve",
+        "thirteen",
+        "fourteen",
+        "fifteen",
+        "sixteen",
+        "seventeen",
+        "eighteen",
         "nineteen",
     ];
     const TENS: [&str; 5] = ["", "", "twenty", "thirty", "forty"];
     match n {
         0..=19 => Some(ONES[n as usize].to_owned()),
         20 | 30 | 40 => Some(TENS[n as usize / 10].to_owned()),
-        21..=49 => Some(format!("{}-{}", TENS[n as usize / 10], ONES[n as usize % 10])),
+        21..=49 => Some(format!(
+            "{}-{}",
+            TENS[n as usize / 10],
+            ONES[n as usize % 10]
+        )),
         _ => None,
     }
 }
@@ -512,7 +557,9 @@ const BLANK_RATE: f64 = 0.01;
 const PLACEHOLDER_RATE: f64 = 0.015;
 
 const BLANKS: &[&str] = &[" ", "  ", "\u{a0}", "   "];
-const PLACEHOLDERS: &[&str] = &["n/a", "-", "N/A", "?", "unknown", "--", "tbd", "Unknown", "TBD"];
+const PLACEHOLDERS: &[&str] = &[
+    "n/a", "-", "N/A", "?", "unknown", "--", "tbd", "Unknown", "TBD",
+];
 
 enum Gap {
     Null,
@@ -554,7 +601,12 @@ fn fill<F: PartialEq>(
     Some(raw)
 }
 
-fn enter<F: PartialEq>(vocabulary: &mut HashMap<String, Entry<F>>, conflicts: &mut u64, raw: String, features: Option<F>) {
+fn enter<F: PartialEq>(
+    vocabulary: &mut HashMap<String, Entry<F>>,
+    conflicts: &mut u64,
+    raw: String,
+    features: Option<F>,
+) {
     match vocabulary.get_mut(&raw) {
         Some(entry) => {
             entry.rows += 1;
@@ -587,7 +639,8 @@ const EXTENDED_RATE: f64 = 0.3;
 /// A clean description as a seller would type it: sometimes misspelt, cased
 /// to taste, spaced carelessly.
 fn smudge(d: &mut Dice, clean: String, seed: u64) -> String {
-    let typed = if spelling_hash(&clean, seed) % MISSPELT_ONE_IN == 0 && d.chance(MISSPELT_ROW_RATE) {
+    let typed = if spelling_hash(&clean, seed) % MISSPELT_ONE_IN == 0 && d.chance(MISSPELT_ROW_RATE)
+    {
         misspell(&clean, seed).unwrap_or(clean)
     } else {
         clean
@@ -613,7 +666,9 @@ fn misspell(s: &str, seed: u64) -> Option<String> {
     let words = letter_runs(s, 4);
     let (start, len) = *words.get((h % words.len().max(1) as u64) as usize)?;
     let b = s.as_bytes();
-    let spots: Vec<usize> = (start..start + len - 1).filter(|&i| !b[i].eq_ignore_ascii_case(&b[i + 1])).collect();
+    let spots: Vec<usize> = (start..start + len - 1)
+        .filter(|&i| !b[i].eq_ignore_ascii_case(&b[i + 1]))
+        .collect();
     let i = *spots.get(((h >> 16) % spots.len().max(1) as u64) as usize)?;
     let mut typed = b.to_vec();
     if (h >> 40) & 1 == 0 {
@@ -753,12 +808,34 @@ const KIND_WEIGHTS: [u32; 5] = [36, 24, 18, 9, 13];
 
 /// (forward, reverse, weight)
 const MANUAL_LAYOUTS: &[(u32, u32, u32)] = &[
-    (4, 1, 8), (5, 1, 10), (6, 2, 8), (8, 2, 14), (8, 8, 8), (9, 3, 6), (10, 2, 4), (12, 4, 6),
-    (12, 12, 10), (16, 16, 5), (20, 20, 3), (24, 24, 2),
+    (4, 1, 8),
+    (5, 1, 10),
+    (6, 2, 8),
+    (8, 2, 14),
+    (8, 8, 8),
+    (9, 3, 6),
+    (10, 2, 4),
+    (12, 4, 6),
+    (12, 12, 10),
+    (16, 16, 5),
+    (20, 20, 3),
+    (24, 24, 2),
 ];
 const POWERSHIFT_LAYOUTS: &[(u32, u32, u32)] = &[
-    (3, 3, 4), (4, 4, 6), (8, 4, 3), (12, 4, 4), (16, 16, 10), (16, 4, 4), (18, 6, 6), (19, 6, 3),
-    (20, 20, 4), (23, 11, 2), (24, 24, 5), (30, 15, 2), (32, 32, 3), (40, 40, 1),
+    (3, 3, 4),
+    (4, 4, 6),
+    (8, 4, 3),
+    (12, 4, 4),
+    (16, 16, 10),
+    (16, 4, 4),
+    (18, 6, 6),
+    (19, 6, 3),
+    (20, 20, 4),
+    (23, 11, 2),
+    (24, 24, 5),
+    (30, 15, 2),
+    (32, 32, 3),
+    (40, 40, 1),
 ];
 const AUTOMATIC_LAYOUTS: &[(u32, u32, u32)] = &[(4, 1, 5), (5, 1, 6), (6, 1, 8), (8, 2, 3)];
 
@@ -787,7 +864,14 @@ fn fit_gearbox(d: &mut Dice) -> Gearbox {
         GearboxKind::Manual => 0.04,
         _ => 0.0,
     });
-    Gearbox { kind, forward, reverse, shuttle, creeper, top_speed: top_speed.then(|| road_speed(d)) }
+    Gearbox {
+        kind,
+        forward,
+        reverse,
+        shuttle,
+        creeper,
+        top_speed: top_speed.then(|| road_speed(d)),
+    }
 }
 
 fn pick_layout(d: &mut Dice, layouts: &[(u32, u32, u32)]) -> (u32, u32) {
@@ -816,12 +900,18 @@ enum GearboxPart {
 fn describe_gearbox(d: &mut Dice, g: &Gearbox, extended: bool) -> (String, GearboxFeatures) {
     let gears_shown = !g.kind.is_stepless() && !d.chance(gear_count_omitted(g.kind));
     let kind_shown = !(gears_shown && g.kind == GearboxKind::Manual && d.chance(0.3));
-    let odd = if extended && d.chance(EXTENDED_RATE) { odd_gearbox_part(d, g, gears_shown, kind_shown) } else { None };
+    let odd = if extended && d.chance(EXTENDED_RATE) {
+        odd_gearbox_part(d, g, gears_shown, kind_shown)
+    } else {
+        None
+    };
     let phrases = [
         gears_shown.then(|| gear_phrase(d, g, odd == Some(GearboxPart::Gears))),
         kind_shown.then(|| kind_phrase(d, g.kind, odd == Some(GearboxPart::Kind))),
-        g.shuttle.then(|| shuttle_phrase(d, g.kind, odd == Some(GearboxPart::Shuttle))),
-        g.creeper.then(|| creeper_phrase(d, odd == Some(GearboxPart::Creeper))),
+        g.shuttle
+            .then(|| shuttle_phrase(d, g.kind, odd == Some(GearboxPart::Shuttle))),
+        g.creeper
+            .then(|| creeper_phrase(d, odd == Some(GearboxPart::Creeper))),
         g.top_speed.map(|s| speed_phrase(d, s)),
     ];
     let features = GearboxFeatures {
@@ -843,9 +933,17 @@ fn gear_count_omitted(kind: GearboxKind) -> f64 {
     }
 }
 
-fn odd_gearbox_part(d: &mut Dice, g: &Gearbox, gears_shown: bool, kind_shown: bool) -> Option<GearboxPart> {
+fn odd_gearbox_part(
+    d: &mut Dice,
+    g: &Gearbox,
+    gears_shown: bool,
+    kind_shown: bool,
+) -> Option<GearboxPart> {
     let candidates: Vec<GearboxPart> = [
-        (gears_shown && number_word(g.forward).is_some(), GearboxPart::Gears),
+        (
+            gears_shown && number_word(g.forward).is_some(),
+            GearboxPart::Gears,
+        ),
         (kind_shown, GearboxPart::Kind),
         (g.shuttle, GearboxPart::Shuttle),
         (g.creeper, GearboxPart::Creeper),
@@ -856,13 +954,37 @@ fn odd_gearbox_part(d: &mut Dice, g: &Gearbox, gears_shown: bool, kind_shown: bo
     (!candidates.is_empty()).then(|| candidates[d.below(candidates.len())])
 }
 
-const SPEED_COUNTS: &[&str] =
-    &["{n} spd", "{n}-speed", "{n} speed", "{n}spd", "{n}-spd", "{n}sp", "{n} sp", "{n} SPD", "{n}-Speed"];
-const FORWARD_REVERSE: &[&str] = &[
-    "{n}x{r}", "{n}F/{r}R", "{n} x {r}", "{n} fwd {r} rev", "{n}/{r}", "{n}F x {r}R", "{n} fwd/{r} rev",
-    "{n}F-{r}R", "{n} forward {r} reverse",
+const SPEED_COUNTS: &[&str] = &[
+    "{n} spd",
+    "{n}-speed",
+    "{n} speed",
+    "{n}spd",
+    "{n}-spd",
+    "{n}sp",
+    "{n} sp",
+    "{n} SPD",
+    "{n}-Speed",
 ];
-const ODD_GEAR_COUNTS: &[&str] = &["{w}-speed", "{w} speed", "({n})", "{n} gears", "{n}-gear", "{n} ratios", "F{n}/R{r}"];
+const FORWARD_REVERSE: &[&str] = &[
+    "{n}x{r}",
+    "{n}F/{r}R",
+    "{n} x {r}",
+    "{n} fwd {r} rev",
+    "{n}/{r}",
+    "{n}F x {r}R",
+    "{n} fwd/{r} rev",
+    "{n}F-{r}R",
+    "{n} forward {r} reverse",
+];
+const ODD_GEAR_COUNTS: &[&str] = &[
+    "{w}-speed",
+    "{w} speed",
+    "({n})",
+    "{n} gears",
+    "{n}-gear",
+    "{n} ratios",
+    "F{n}/R{r}",
+];
 
 fn gear_phrase(d: &mut Dice, g: &Gearbox, odd: bool) -> String {
     if odd {
@@ -877,19 +999,59 @@ fn gear_phrase(d: &mut Dice, g: &Gearbox, odd: bool) -> String {
     }
 }
 
-const MANUAL_WORDS: &[&str] =
-    &["manual", "Manual", "man.", "std", "standard", "mechanical", "synchro", "synchromesh", "collar shift", "MANUAL"];
+const MANUAL_WORDS: &[&str] = &[
+    "manual",
+    "Manual",
+    "man.",
+    "std",
+    "standard",
+    "mechanical",
+    "synchro",
+    "synchromesh",
+    "collar shift",
+    "MANUAL",
+];
 const POWERSHIFT_WORDS: &[&str] = &[
-    "powershift", "Powershift", "power shift", "p/shift", "full powershift", "semi-powershift", "Power Shift",
-    "pwr shift", "partial powershift", "power-shift",
+    "powershift",
+    "Powershift",
+    "power shift",
+    "p/shift",
+    "full powershift",
+    "semi-powershift",
+    "Power Shift",
+    "pwr shift",
+    "partial powershift",
+    "power-shift",
 ];
 const HYDROSTATIC_WORDS: &[&str] = &[
-    "hydrostatic", "Hydrostatic", "hydro", "HST", "hydrostatic drive", "Hydro", "hydrostat", "hydro drive",
+    "hydrostatic",
+    "Hydrostatic",
+    "hydro",
+    "HST",
+    "hydrostatic drive",
+    "Hydro",
+    "hydrostat",
+    "hydro drive",
     "hydrostatic trans",
 ];
-const CVT_WORDS: &[&str] =
-    &["CVT", "cvt", "infinitely variable (CVT)", "IVT", "stepless", "continuously variable", "CVT stepless"];
-const AUTOMATIC_WORDS: &[&str] = &["automatic", "auto", "Automatic", "auto trans", "a/t", "full auto", "AUTO"];
+const CVT_WORDS: &[&str] = &[
+    "CVT",
+    "cvt",
+    "infinitely variable (CVT)",
+    "IVT",
+    "stepless",
+    "continuously variable",
+    "CVT stepless",
+];
+const AUTOMATIC_WORDS: &[&str] = &[
+    "automatic",
+    "auto",
+    "Automatic",
+    "auto trans",
+    "a/t",
+    "full auto",
+    "AUTO",
+];
 const TRANS_WORDS: &[&str] = &["trans", "transmission", "trans."];
 
 const ODD_MANUAL_WORDS: &[&str] = &["stick", "mech.", "crash box", "constant mesh"];
@@ -920,10 +1082,24 @@ fn kind_phrase(d: &mut Dice, kind: GearboxKind, odd: bool) -> String {
 }
 
 const MANUAL_SHUTTLES: &[&str] = &[
-    "shuttle", "power shuttle", "synchro shuttle", "w/ shuttle", "shuttle shift", "hydraulic shuttle",
-    "power reverser", "pwr shuttle", "reverser", "powershuttle",
+    "shuttle",
+    "power shuttle",
+    "synchro shuttle",
+    "w/ shuttle",
+    "shuttle shift",
+    "hydraulic shuttle",
+    "power reverser",
+    "pwr shuttle",
+    "reverser",
+    "powershuttle",
 ];
-const POWER_SHUTTLES: &[&str] = &["power shuttle", "w/ reverser", "power reverser", "shuttle", "pwr shuttle"];
+const POWER_SHUTTLES: &[&str] = &[
+    "power shuttle",
+    "w/ reverser",
+    "power reverser",
+    "shuttle",
+    "pwr shuttle",
+];
 const ODD_SHUTTLES: &[&str] = &["F/R lever", "forward-reverse lever", "rev. lever"];
 
 fn shuttle_phrase(d: &mut Dice, kind: GearboxKind, odd: bool) -> String {
@@ -935,12 +1111,21 @@ fn shuttle_phrase(d: &mut Dice, kind: GearboxKind, odd: bool) -> String {
     d.one_of(words).to_owned()
 }
 
-const CREEPERS: &[&str] =
-    &["w/ creeper", "creeper", "w/creeper", "+ creeper", "with creeper", "creeper gears", "crawler gears", "& creeper"];
+const CREEPERS: &[&str] = &[
+    "w/ creeper",
+    "creeper",
+    "w/creeper",
+    "+ creeper",
+    "with creeper",
+    "creeper gears",
+    "crawler gears",
+    "& creeper",
+];
 const ODD_CREEPERS: &[&str] = &["ultra-low gears", "super-low range", "creep speed"];
 
 fn creeper_phrase(d: &mut Dice, odd: bool) -> String {
-    d.one_of(if odd { ODD_CREEPERS } else { CREEPERS }).to_owned()
+    d.one_of(if odd { ODD_CREEPERS } else { CREEPERS })
+        .to_owned()
 }
 
 const KMH_SPELLINGS: &[&str] = &["{n} km/h", "{n}km/h", "{n} kph", "{n}kph", "{n} kmh"];
@@ -954,7 +1139,12 @@ fn speed_phrase(d: &mut Dice, speed: TopSpeed) -> String {
 }
 
 /// Word orders, as indices into [gears, kind, shuttle, creeper, speed].
-const GEARBOX_ORDERS: [[usize; 5]; 4] = [[0, 1, 2, 3, 4], [1, 0, 2, 3, 4], [2, 0, 1, 3, 4], [0, 2, 1, 3, 4]];
+const GEARBOX_ORDERS: [[usize; 5]; 4] = [
+    [0, 1, 2, 3, 4],
+    [1, 0, 2, 3, 4],
+    [2, 0, 1, 3, 4],
+    [0, 2, 1, 3, 4],
+];
 const SEPARATORS: &[&str] = &[" ", ", ", " - "];
 
 fn arrange_gearbox(d: &mut Dice, phrases: [Option<String>; 5]) -> String {
@@ -963,7 +1153,10 @@ fn arrange_gearbox(d: &mut Dice, phrases: [Option<String>; 5]) -> String {
         order = GEARBOX_ORDERS[1];
     }
     let sep = SEPARATORS[d.weighted(&[90, 7, 3])];
-    let words: Vec<&str> = order.iter().filter_map(|&i| phrases[i].as_deref()).collect();
+    let words: Vec<&str> = order
+        .iter()
+        .filter_map(|&i| phrases[i].as_deref())
+        .collect();
     words.join(sep)
 }
 
@@ -983,58 +1176,72 @@ struct EngineModel {
     weight: u32,
 }
 
-const fn model(cylinders: u32, tenths: u32, fuel: Fuel, turbo: bool, ratings: &'static [u32], weight: u32) -> EngineModel {
-    EngineModel { cylinders, tenths, fuel, turbo, ratings, weight }
+const fn model(
+    cylinders: u32,
+    tenths: u32,
+    fuel: Fuel,
+    turbo: bool,
+    ratings: &'static [u32],
+    weight: u32,
+) -> EngineModel {
+    EngineModel {
+        cylinders,
+        tenths,
+        fuel,
+        turbo,
+        ratings,
+        weight,
+    }
 }
 
 const ENGINE_MODELS: &[EngineModel] = {
     use Fuel::{Diesel, Electric, Gasoline, Lpg};
     &[
-    // compact tractors, mowers, mini excavators
-    model(2, 9, Diesel, false, &[18, 20, 22], 3),
-    model(3, 11, Diesel, false, &[21, 24, 25], 4),
-    model(3, 15, Diesel, false, &[28, 31, 33], 5),
-    model(3, 18, Diesel, false, &[33, 37], 4),
-    model(3, 22, Diesel, true, &[45, 49], 3),
-    model(3, 29, Diesel, false, &[45, 50, 55], 5),
-    model(3, 33, Diesel, true, &[60, 66], 3),
-    // utility tractors, backhoes, skid steers
-    model(4, 22, Diesel, false, &[38, 44], 3),
-    model(4, 24, Diesel, false, &[49, 55], 4),
-    model(4, 33, Diesel, true, &[65, 74, 84], 5),
-    model(4, 34, Diesel, true, &[75, 90], 4),
-    model(4, 44, Diesel, true, &[99, 105, 115], 5),
-    model(4, 45, Diesel, true, &[100, 110, 120, 125], 9),
-    model(4, 45, Diesel, false, &[80, 85], 4),
-    model(4, 48, Diesel, true, &[115, 130], 3),
-    model(4, 50, Diesel, true, &[125, 140], 2),
-    // row-crop tractors, loaders, graders
-    model(6, 60, Diesel, true, &[140, 155, 170], 4),
-    model(6, 67, Diesel, true, &[165, 180, 200], 5),
-    model(6, 68, Diesel, true, &[150, 175, 195, 225], 8),
-    model(6, 68, Diesel, false, &[120, 135], 3),
-    model(6, 71, Diesel, true, &[190, 215], 2),
-    model(6, 74, Diesel, true, &[210, 235], 2),
-    model(6, 83, Diesel, true, &[240, 260], 3),
-    model(6, 90, Diesel, true, &[275, 300, 325], 3),
-    model(6, 125, Diesel, true, &[370, 400, 430], 2),
-    model(6, 135, Diesel, true, &[450, 480, 520], 1),
-    // large dozers and haul trucks
-    model(8, 152, Diesel, true, &[560, 620], 1),
-    model(12, 270, Diesel, true, &[850, 1000], 1),
-    // small engines, utility vehicles
-    model(1, 4, Gasoline, false, &[12, 14, 16], 3),
-    model(2, 7, Gasoline, false, &[22, 25, 27], 4),
-    model(4, 20, Gasoline, false, &[50, 60], 2),
-    model(6, 43, Gasoline, false, &[150, 190], 2),
-    model(8, 50, Gasoline, false, &[220], 1),
-    model(8, 57, Gasoline, false, &[250, 300], 2),
-    // forklifts
-    model(4, 20, Lpg, false, &[45], 2),
-    model(4, 24, Lpg, false, &[50, 55], 3),
-    model(6, 43, Lpg, false, &[85, 100], 2),
-    // battery machines (ratings in kW)
-    model(0, 0, Electric, false, &[10, 15, 20, 30, 45], 5),
+        // compact tractors, mowers, mini excavators
+        model(2, 9, Diesel, false, &[18, 20, 22], 3),
+        model(3, 11, Diesel, false, &[21, 24, 25], 4),
+        model(3, 15, Diesel, false, &[28, 31, 33], 5),
+        model(3, 18, Diesel, false, &[33, 37], 4),
+        model(3, 22, Diesel, true, &[45, 49], 3),
+        model(3, 29, Diesel, false, &[45, 50, 55], 5),
+        model(3, 33, Diesel, true, &[60, 66], 3),
+        // utility tractors, backhoes, skid steers
+        model(4, 22, Diesel, false, &[38, 44], 3),
+        model(4, 24, Diesel, false, &[49, 55], 4),
+        model(4, 33, Diesel, true, &[65, 74, 84], 5),
+        model(4, 34, Diesel, true, &[75, 90], 4),
+        model(4, 44, Diesel, true, &[99, 105, 115], 5),
+        model(4, 45, Diesel, true, &[100, 110, 120, 125], 9),
+        model(4, 45, Diesel, false, &[80, 85], 4),
+        model(4, 48, Diesel, true, &[115, 130], 3),
+        model(4, 50, Diesel, true, &[125, 140], 2),
+        // row-crop tractors, loaders, graders
+        model(6, 60, Diesel, true, &[140, 155, 170], 4),
+        model(6, 67, Diesel, true, &[165, 180, 200], 5),
+        model(6, 68, Diesel, true, &[150, 175, 195, 225], 8),
+        model(6, 68, Diesel, false, &[120, 135], 3),
+        model(6, 71, Diesel, true, &[190, 215], 2),
+        model(6, 74, Diesel, true, &[210, 235], 2),
+        model(6, 83, Diesel, true, &[240, 260], 3),
+        model(6, 90, Diesel, true, &[275, 300, 325], 3),
+        model(6, 125, Diesel, true, &[370, 400, 430], 2),
+        model(6, 135, Diesel, true, &[450, 480, 520], 1),
+        // large dozers and haul trucks
+        model(8, 152, Diesel, true, &[560, 620], 1),
+        model(12, 270, Diesel, true, &[850, 1000], 1),
+        // small engines, utility vehicles
+        model(1, 4, Gasoline, false, &[12, 14, 16], 3),
+        model(2, 7, Gasoline, false, &[22, 25, 27], 4),
+        model(4, 20, Gasoline, false, &[50, 60], 2),
+        model(6, 43, Gasoline, false, &[150, 190], 2),
+        model(8, 50, Gasoline, false, &[220], 1),
+        model(8, 57, Gasoline, false, &[250, 300], 2),
+        // forklifts
+        model(4, 20, Lpg, false, &[45], 2),
+        model(4, 24, Lpg, false, &[50, 55], 3),
+        model(6, 43, Lpg, false, &[85, 100], 2),
+        // battery machines (ratings in kW)
+        model(0, 0, Electric, false, &[10, 15, 20, 30, 45], 5),
     ]
 };
 
@@ -1080,7 +1287,11 @@ fn fit_engine(d: &mut Dice) -> EngineSpec {
     let model = &ENGINE_MODELS[d.weighted(&weights)];
     let rating = model.ratings[d.habitual(model.ratings.len())];
     let volts = VOLTAGES[d.habitual(VOLTAGES.len())];
-    EngineSpec { model, rating, volts }
+    EngineSpec {
+        model,
+        rating,
+        volts,
+    }
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -1103,10 +1314,20 @@ fn describe_engine(d: &mut Dice, e: &EngineSpec, extended: bool) -> (String, Eng
     let disp = d.chance(0.7);
     let power = d.chance(0.6);
     let fuel = d.chance(0.88) || !(cyl || disp || power);
-    let odd = if extended && d.chance(EXTENDED_RATE) { odd_engine_part(d, [cyl, disp, power, fuel]) } else { None };
+    let odd = if extended && d.chance(EXTENDED_RATE) {
+        odd_engine_part(d, [cyl, disp, power, fuel])
+    } else {
+        None
+    };
     let is_odd = |p: EnginePart| odd == Some(p);
     let mut text = Words::default();
-    let mut features = EngineFeatures { cylinders: None, displacement_l: None, power_hp: None, turbo: false, fuel: None };
+    let mut features = EngineFeatures {
+        cylinders: None,
+        displacement_l: None,
+        power_hp: None,
+        turbo: false,
+        fuel: None,
+    };
     if cyl {
         let phrase = cylinder_phrase(d, m, is_odd(EnginePart::Cylinders));
         cyl = phrase.is_some();
@@ -1123,12 +1344,21 @@ fn describe_engine(d: &mut Dice, e: &EngineSpec, extended: bool) -> (String, Eng
         text.put(EnginePart::Power, Some(phrase));
         features.power_hp = Some(hp);
     }
-    let (turbo_text, fuel_text, turbo) = turbo_and_fuel(d, m, fuel, is_odd(EnginePart::Turbo), is_odd(EnginePart::Fuel));
+    let (turbo_text, fuel_text, turbo) = turbo_and_fuel(
+        d,
+        m,
+        fuel,
+        is_odd(EnginePart::Turbo),
+        is_odd(EnginePart::Fuel),
+    );
     text.put(EnginePart::Turbo, turbo_text);
     text.put(EnginePart::Fuel, fuel_text);
     features.turbo = turbo;
     features.fuel = fuel.then_some(m.fuel);
-    (text.arrange(d, ENGINE_ORDERS, &[45, 15, 12, 10, 10, 8]), features)
+    (
+        text.arrange(d, ENGINE_ORDERS, &[45, 15, 12, 10, 10, 8]),
+        features,
+    )
 }
 
 /// Battery machines: "electric 48V 20kW".
@@ -1137,10 +1367,17 @@ fn describe_motor(d: &mut Dice, e: &EngineSpec, extended: bool) -> (String, Engi
     let power = d.chance(0.8);
     let odd = extended && d.chance(EXTENDED_RATE);
     let mut text = Words::default();
-    let fuel_words = if odd && !power { ODD_MOTOR_WORDS } else { MOTOR_WORDS };
+    let fuel_words = if odd && !power {
+        ODD_MOTOR_WORDS
+    } else {
+        MOTOR_WORDS
+    };
     text.put(EnginePart::Fuel, Some(d.one_of(fuel_words).to_owned()));
     if volts {
-        text.put(EnginePart::Volts, Some(spell(d.one_of(VOLT_SPELLINGS), e.volts)));
+        text.put(
+            EnginePart::Volts,
+            Some(spell(d.one_of(VOLT_SPELLINGS), e.volts)),
+        );
     }
     let mut power_hp = None;
     if power {
@@ -1148,8 +1385,13 @@ fn describe_motor(d: &mut Dice, e: &EngineSpec, extended: bool) -> (String, Engi
         text.put(EnginePart::Power, Some(phrase));
         power_hp = Some(hp);
     }
-    let features =
-        EngineFeatures { cylinders: None, displacement_l: None, power_hp, turbo: false, fuel: Some(Fuel::Electric) };
+    let features = EngineFeatures {
+        cylinders: None,
+        displacement_l: None,
+        power_hp,
+        turbo: false,
+        fuel: Some(Fuel::Electric),
+    };
     (text.arrange(d, MOTOR_ORDERS, &[40, 25, 20, 15]), features)
 }
 
@@ -1181,15 +1423,24 @@ impl Words {
     fn arrange(&self, d: &mut Dice, orders: &[&[EnginePart]], weights: &[u32]) -> String {
         let order = orders[d.weighted(weights)];
         let sep = ENGINE_SEPARATORS[d.weighted(&[82, 12, 3, 3])];
-        let words: Vec<&str> =
-            order.iter().filter_map(|p| self.0.iter().find(|(q, _)| q == p).map(|(_, w)| w.as_str())).collect();
+        let words: Vec<&str> = order
+            .iter()
+            .filter_map(|p| self.0.iter().find(|(q, _)| q == p).map(|(_, w)| w.as_str()))
+            .collect();
         words.join(sep)
     }
 }
 
 const ENGINE_ORDERS: &[&[EnginePart]] = {
     use EnginePart::{Cylinders as C, Displacement as D, Fuel as F, Power as P, Turbo as T};
-    &[&[C, T, F, D, P], &[D, C, T, F, P], &[F, C, T, D, P], &[C, D, T, F, P], &[P, T, F, C, D], &[T, F, D, C, P]]
+    &[
+        &[C, T, F, D, P],
+        &[D, C, T, F, P],
+        &[F, C, T, D, P],
+        &[C, D, T, F, P],
+        &[P, T, F, C, D],
+        &[T, F, D, C, P],
+    ]
 };
 const MOTOR_ORDERS: &[&[EnginePart]] = {
     use EnginePart::{Fuel as F, Power as P, Volts as V};
@@ -1197,10 +1448,24 @@ const MOTOR_ORDERS: &[&[EnginePart]] = {
 };
 const ENGINE_SEPARATORS: &[&str] = &[" ", ", ", " / ", " - "];
 
-const CYLINDER_SPELLINGS: &[&str] =
-    &["{n} cyl", "{n}-cyl", "{n}cyl", "{n} cyl.", "{n} cylinder", "{n}-cylinder", "{n} Cyl.", "{n}-cyl."];
+const CYLINDER_SPELLINGS: &[&str] = &[
+    "{n} cyl",
+    "{n}-cyl",
+    "{n}cyl",
+    "{n} cyl.",
+    "{n} cylinder",
+    "{n}-cylinder",
+    "{n} Cyl.",
+    "{n}-cyl.",
+];
 const INLINE_SPELLINGS: &[&str] = &["inline {n}", "inline-{n}"];
-const ODD_CYLINDER_SPELLINGS: &[&str] = &["cyl x{n}", "{w}-cylinder", "{w} cyl", "straight-{n}", "{n} pot"];
+const ODD_CYLINDER_SPELLINGS: &[&str] = &[
+    "cyl x{n}",
+    "{w}-cylinder",
+    "{w} cyl",
+    "straight-{n}",
+    "{n} pot",
+];
 
 /// `None` when the cylinder count has no odd spelling to offer.
 fn cylinder_phrase(d: &mut Dice, m: &EngineModel, odd: bool) -> Option<String> {
@@ -1222,13 +1487,29 @@ fn odd_cylinders(d: &mut Dice, n: u32) -> String {
     match n {
         1 => "single cyl".to_owned(),
         2 if d.chance(0.5) => "twin cyl".to_owned(),
-        _ => spell(d.one_of(ODD_CYLINDER_SPELLINGS), n).replace("{w}", &number_word(n).unwrap_or_default()),
+        _ => spell(d.one_of(ODD_CYLINDER_SPELLINGS), n)
+            .replace("{w}", &number_word(n).unwrap_or_default()),
     }
 }
 
-const LITRE_SPELLINGS: &[&str] = &["{n}L", "{n} L", "{n}l", "{n} litre", "{n} liter", "{n}-litre", "{n} Liter"];
+const LITRE_SPELLINGS: &[&str] = &[
+    "{n}L",
+    "{n} L",
+    "{n}l",
+    "{n} litre",
+    "{n} liter",
+    "{n}-litre",
+    "{n} Liter",
+];
 const CC_SPELLINGS: &[&str] = &["{n}cc", "{n} cc", "{n} CC"];
-const CUBIC_INCH_SPELLINGS: &[&str] = &["{n} ci", "{n}ci", "{n} cu in", "{n} cid", "{n} cu. in.", "{n} CID"];
+const CUBIC_INCH_SPELLINGS: &[&str] = &[
+    "{n} ci",
+    "{n}ci",
+    "{n} cu in",
+    "{n} cid",
+    "{n} cu. in.",
+    "{n} CID",
+];
 
 /// Displacement as written, and the litres it states.
 fn displacement_phrase(d: &mut Dice, tenths: u32, odd: bool) -> (String, f64) {
@@ -1238,12 +1519,21 @@ fn displacement_phrase(d: &mut Dice, tenths: u32, odd: bool) -> (String, f64) {
     let cc_share = if tenths <= 25 { 0.35 } else { 0.06 };
     let x = d.fraction();
     if x < cc_share {
-        (spell(d.one_of(CC_SPELLINGS), tenths * 100), f64::from(tenths) / 10.0)
+        (
+            spell(d.one_of(CC_SPELLINGS), tenths * 100),
+            f64::from(tenths) / 10.0,
+        )
     } else if x < cc_share + 0.12 {
         let ci = cubic_inches(tenths);
-        (spell(d.one_of(CUBIC_INCH_SPELLINGS), ci), f64::from(ci) * LITRES_PER_CUBIC_INCH)
+        (
+            spell(d.one_of(CUBIC_INCH_SPELLINGS), ci),
+            f64::from(ci) * LITRES_PER_CUBIC_INCH,
+        )
     } else {
-        (spell(d.one_of(LITRE_SPELLINGS), litres_text(d, tenths)), f64::from(tenths) / 10.0)
+        (
+            spell(d.one_of(LITRE_SPELLINGS), litres_text(d, tenths)),
+            f64::from(tenths) / 10.0,
+        )
     }
 }
 
@@ -1267,19 +1557,43 @@ fn odd_displacement(d: &mut Dice, tenths: u32) -> (String, f64) {
     let (whole, tenth) = (tenths / 10, tenths % 10);
     match d.below(4) {
         0 if tenth == 5 && whole > 0 => {
-            let mixed = if d.chance(0.5) { format!("{whole} 1/2") } else { format!("{whole}-1/2") };
+            let mixed = if d.chance(0.5) {
+                format!("{whole} 1/2")
+            } else {
+                format!("{whole}-1/2")
+            };
             (format!("{mixed} {}", d.one_of(&["L", "litre"])), litres)
         }
-        1 if tenths >= 10 => (format!("{},{:03} {}", tenths / 10, tenth * 100, d.one_of(&["cc", "CC"])), litres),
+        1 if tenths >= 10 => (
+            format!(
+                "{},{:03} {}",
+                tenths / 10,
+                tenth * 100,
+                d.one_of(&["cc", "CC"])
+            ),
+            litres,
+        ),
         2 => {
             let ci = cubic_inches(tenths);
-            (format!("{ci} {}", d.one_of(&["cubic inch", "cu.inch"])), f64::from(ci) * LITRES_PER_CUBIC_INCH)
+            (
+                format!("{ci} {}", d.one_of(&["cubic inch", "cu.inch"])),
+                f64::from(ci) * LITRES_PER_CUBIC_INCH,
+            )
         }
-        _ => (format!("{}{}", litres_text(d, tenths), d.one_of(&[" ltr", "ltr", " lts", "-ltr"])), litres),
+        _ => (
+            format!(
+                "{}{}",
+                litres_text(d, tenths),
+                d.one_of(&[" ltr", "ltr", " lts", "-ltr"])
+            ),
+            litres,
+        ),
     }
 }
 
-const HP_SPELLINGS: &[&str] = &["{n}hp", "{n} hp", "{n} HP", "{n}HP", "{n} Hp", "{n}-hp", "{n} bhp"];
+const HP_SPELLINGS: &[&str] = &[
+    "{n}hp", "{n} hp", "{n} HP", "{n}HP", "{n} Hp", "{n}-hp", "{n} bhp",
+];
 const KW_SPELLINGS: &[&str] = &["{n} kW", "{n}kW", "{n} kw", "{n}kw", "{n} KW"];
 
 /// Power as written, and the horsepower it states.
@@ -1287,7 +1601,11 @@ fn power_phrase(d: &mut Dice, e: &EngineSpec, odd: bool) -> (String, f64) {
     if odd {
         return odd_power(d, e);
     }
-    let in_kw = d.chance(if e.model.fuel == Fuel::Electric { 0.75 } else { 0.15 });
+    let in_kw = d.chance(if e.model.fuel == Fuel::Electric {
+        0.75
+    } else {
+        0.15
+    });
     if in_kw {
         (spell(d.one_of(KW_SPELLINGS), e.kw()), kw_in_hp(e.kw()))
     } else {
@@ -1306,18 +1624,43 @@ fn odd_power(d: &mut Dice, e: &EngineSpec) -> (String, f64) {
         1 => (format!("{hp}hp/{kw}kw"), f64::from(hp)),
         2 => {
             let ps = (f64::from(hp) * WATTS_PER_HP / WATTS_PER_PS).round() as u32;
-            (spell(d.one_of(&["{n} PS", "{n}ps", "{n} PS (metric)"]), ps), f64::from(ps) * WATTS_PER_PS / WATTS_PER_HP)
+            (
+                spell(d.one_of(&["{n} PS", "{n}ps", "{n} PS (metric)"]), ps),
+                f64::from(ps) * WATTS_PER_PS / WATTS_PER_HP,
+            )
         }
-        _ => (spell(d.one_of(&["{n} horsepower", "{n} h.p.", "{n} horse"]), hp), f64::from(hp)),
+        _ => (
+            spell(d.one_of(&["{n} horsepower", "{n} h.p.", "{n} horse"]), hp),
+            f64::from(hp),
+        ),
     }
 }
 
-const TURBO_WORDS: &[&str] = &["turbo", "Turbo", "turbocharged", "T/C", "turbo-charged", "TURBO"];
-const TURBO_DIESEL_WORDS: &[&str] = &["turbo diesel", "Turbo Diesel", "turbodiesel", "TD", "turbo-diesel"];
+const TURBO_WORDS: &[&str] = &[
+    "turbo",
+    "Turbo",
+    "turbocharged",
+    "T/C",
+    "turbo-charged",
+    "TURBO",
+];
+const TURBO_DIESEL_WORDS: &[&str] = &[
+    "turbo diesel",
+    "Turbo Diesel",
+    "turbodiesel",
+    "TD",
+    "turbo-diesel",
+];
 const DIESEL_WORDS: &[&str] = &["diesel", "Diesel", "dsl", "DIESEL", "dsl.", "diesel eng."];
 const GASOLINE_WORDS: &[&str] = &["gas", "gasoline", "petrol", "Gas", "gas eng."];
 const LPG_WORDS: &[&str] = &["LPG", "propane", "LP gas", "lpg", "LP"];
-const MOTOR_WORDS: &[&str] = &["electric", "battery electric", "Electric", "elec.", "electric motor"];
+const MOTOR_WORDS: &[&str] = &[
+    "electric",
+    "battery electric",
+    "Electric",
+    "elec.",
+    "electric motor",
+];
 const VOLT_SPELLINGS: &[&str] = &["{n}V", "{n} V", "{n}-volt", "{n} volt", "{n}v"];
 
 const ODD_TURBO_WORDS: &[&str] = &["twin turbo", "turbo'd", "turbo intercooled"];
@@ -1338,7 +1681,11 @@ fn turbo_and_fuel(
 ) -> (Option<String>, Option<String>, bool) {
     let fuel = fuel_shown.then(|| fuel_word(d, m.fuel, odd_fuel));
     if odd_turbo {
-        let words = if m.turbo { ODD_TURBO_WORDS } else { ODD_ASPIRATED_WORDS };
+        let words = if m.turbo {
+            ODD_TURBO_WORDS
+        } else {
+            ODD_ASPIRATED_WORDS
+        };
         return (Some(d.one_of(words).to_owned()), fuel, m.turbo);
     }
     let turbo = m.turbo && d.chance(0.75);
@@ -1373,8 +1720,14 @@ fn fuel_word(d: &mut Dice, fuel: Fuel, odd: bool) -> String {
 const STOCK_PARTS: usize = 150;
 const STOCK_PART_SHARE: f64 = 0.25;
 
-const FAMILIES: [PartFamily; 6] =
-    [PartFamily::Filter, PartFamily::Seal, PartFamily::Hose, PartFamily::Bearing, PartFamily::Valve, PartFamily::Pump];
+const FAMILIES: [PartFamily; 6] = [
+    PartFamily::Filter,
+    PartFamily::Seal,
+    PartFamily::Hose,
+    PartFamily::Bearing,
+    PartFamily::Valve,
+    PartFamily::Pump,
+];
 const FAMILY_WEIGHTS: [u32; 6] = [30, 18, 15, 15, 12, 10];
 /// Grade letters: no I, O, Q (read as digits) and no R (marks a revision).
 const GRADE_LETTERS: &[u8] = b"ABCDEFGHJKLMNPSTUVWXYZ";
@@ -1390,12 +1743,20 @@ struct PartCode {
 
 impl PartCode {
     fn features(&self) -> PartFeatures {
-        PartFeatures { family: self.family, size: self.size, rev: self.rev }
+        PartFeatures {
+            family: self.family,
+            size: self.size,
+            rev: self.rev,
+        }
     }
 
     /// The pieces in order: family, size (4 digits), grade, revision.
     fn pieces(&self) -> Vec<String> {
-        let mut p = vec![self.family.prefix().to_owned(), format!("{:04}", self.size), self.grade.clone()];
+        let mut p = vec![
+            self.family.prefix().to_owned(),
+            format!("{:04}", self.size),
+            self.grade.clone(),
+        ];
         p.extend(self.rev.map(|r| format!("R{r}")));
         p
     }
@@ -1405,16 +1766,33 @@ fn make_part(d: &mut Dice) -> PartCode {
     let family = FAMILIES[d.weighted(&FAMILY_WEIGHTS)];
     let size = 10 + d.below(9990) as u32;
     let letter = char::from(GRADE_LETTERS[d.below(GRADE_LETTERS.len())]);
-    let grade = if d.chance(0.6) { format!("{}{letter}", 1 + d.below(9)) } else { letter.to_string() };
+    let grade = if d.chance(0.6) {
+        format!("{}{letter}", 1 + d.below(9))
+    } else {
+        letter.to_string()
+    };
     let rev = d.chance(0.25).then(|| 1 + d.below(5) as u32);
-    PartCode { family, size, grade, rev }
+    PartCode {
+        family,
+        size,
+        grade,
+        rev,
+    }
 }
 
 const PART_LABELS: &[&str] = &["P/N ", "PN: ", "pn ", "Part# ", "#"];
 
 fn write_part_number(d: &mut Dice, code: &PartCode, extended: bool) -> String {
-    let typed = if extended && d.chance(EXTENDED_RATE) { odd_part_number(d, code) } else { usual_part_number(d, code) };
-    let cased = if d.chance(0.2) { typed.to_lowercase() } else { typed };
+    let typed = if extended && d.chance(EXTENDED_RATE) {
+        odd_part_number(d, code)
+    } else {
+        usual_part_number(d, code)
+    };
+    let cased = if d.chance(0.2) {
+        typed.to_lowercase()
+    } else {
+        typed
+    };
     let mut s = cased;
     if d.chance(0.003) {
         s = replace_a_space(d, &s, "\u{a0}");
@@ -1452,7 +1830,11 @@ fn odd_part_number(d: &mut Dice, code: &PartCode) -> String {
             q.join("-")
         }
         _ => match code.rev {
-            Some(r) => format!("{} {}", p[..3].join("-"), spell(d.one_of(&["rev {n}", "rev.{n}", "Rev. {n}"]), r)),
+            Some(r) => format!(
+                "{} {}",
+                p[..3].join("-"),
+                spell(d.one_of(&["rev {n}", "rev.{n}", "Rev. {n}"]), r)
+            ),
             None => p.join("."),
         },
     }
@@ -1528,7 +1910,8 @@ trait FeatureColumns {
 }
 
 impl FeatureColumns for GearboxFeatures {
-    const HEADER: &'static [&'static str] = &["gears", "kind", "shuttle", "creeper", "max_speed_kmh"];
+    const HEADER: &'static [&'static str] =
+        &["gears", "kind", "shuttle", "creeper", "max_speed_kmh"];
     fn cells(&self) -> Vec<String> {
         vec![
             opt(self.gears),
@@ -1541,7 +1924,8 @@ impl FeatureColumns for GearboxFeatures {
 }
 
 impl FeatureColumns for EngineFeatures {
-    const HEADER: &'static [&'static str] = &["cylinders", "displacement_l", "power_hp", "turbo", "fuel"];
+    const HEADER: &'static [&'static str] =
+        &["cylinders", "displacement_l", "power_hp", "turbo", "fuel"];
     fn cells(&self) -> Vec<String> {
         vec![
             opt(self.cylinders),
@@ -1556,7 +1940,11 @@ impl FeatureColumns for EngineFeatures {
 impl FeatureColumns for PartFeatures {
     const HEADER: &'static [&'static str] = &["family", "size", "rev"];
     fn cells(&self) -> Vec<String> {
-        vec![self.family.label().to_owned(), self.size.to_string(), opt(self.rev)]
+        vec![
+            self.family.label().to_owned(),
+            self.size.to_string(),
+            opt(self.rev),
+        ]
     }
 }
 
@@ -1570,7 +1958,13 @@ fn write_truth_column<F: FeatureColumns>(path: &Path, column: &TruthColumn<F>) -
             None => vec![String::new(); F::HEADER.len()],
         };
         let placeholder = entry.features.is_none();
-        writeln!(out, "{},{},{placeholder},{}", csv_field(raw), cells.join(","), entry.rows)?;
+        writeln!(
+            out,
+            "{},{},{placeholder},{}",
+            csv_field(raw),
+            cells.join(","),
+            entry.rows
+        )?;
     }
     out.flush()
 }
@@ -1584,14 +1978,23 @@ mod tests {
     use super::*;
 
     fn opts(rows: usize, seed: u64, variants: Variants) -> SampleOptions {
-        SampleOptions { rows, seed, variants }
+        SampleOptions {
+            rows,
+            seed,
+            variants,
+        }
     }
 
     fn read_all(dir: &Path) -> Vec<(String, Vec<u8>)> {
-        ["listings.csv", "truth/transmission.csv", "truth/engine.csv", "truth/part_no.csv"]
-            .iter()
-            .map(|f| (f.to_string(), fs::read(dir.join(f)).unwrap()))
-            .collect()
+        [
+            "listings.csv",
+            "truth/transmission.csv",
+            "truth/engine.csv",
+            "truth/part_no.csv",
+        ]
+        .iter()
+        .map(|f| (f.to_string(), fs::read(dir.join(f)).unwrap()))
+        .collect()
     }
 
     /// A strict RFC 4180 reader: records of fields, `None` for an unquoted
@@ -1624,7 +2027,11 @@ mod tests {
                 field.push(c);
                 chars.next();
             }
-            record.push(if field.is_empty() && !quoted { None } else { Some(field) });
+            record.push(if field.is_empty() && !quoted {
+                None
+            } else {
+                Some(field)
+            });
             match chars.next() {
                 Some(',') => continue,
                 Some('\n') => records.push(std::mem::take(&mut record)),
@@ -1669,7 +2076,9 @@ mod tests {
         let s = generate(&opts(5000, 3, Variants::Extended));
         let mut counts: BTreeMap<&str, u64> = BTreeMap::new();
         for l in &s.listings {
-            *counts.entry(l.engine.as_deref().unwrap_or("\0null")).or_default() += 1;
+            *counts
+                .entry(l.engine.as_deref().unwrap_or("\0null"))
+                .or_default() += 1;
         }
         for (raw, n) in &counts {
             if *raw != "\0null" {
@@ -1683,11 +2092,25 @@ mod tests {
     fn gaps_come_at_their_rates() {
         let s = generate(&opts(40_000, 5, Variants::Standard));
         let n = s.listings.len() as f64;
-        let nulls = s.listings.iter().filter(|l| l.transmission.is_none()).count() as f64 / n;
-        let gaps: u64 = s.truth.transmission.values().filter(|e| e.features.is_none()).map(|e| e.rows).sum();
+        let nulls = s
+            .listings
+            .iter()
+            .filter(|l| l.transmission.is_none())
+            .count() as f64
+            / n;
+        let gaps: u64 = s
+            .truth
+            .transmission
+            .values()
+            .filter(|e| e.features.is_none())
+            .map(|e| e.rows)
+            .sum();
         let gaps = gaps as f64 / n;
         assert!((0.015..0.025).contains(&nulls), "nulls {nulls}");
-        assert!((0.022..0.030).contains(&gaps), "blanks and placeholders {gaps}");
+        assert!(
+            (0.022..0.030).contains(&gaps),
+            "blanks and placeholders {gaps}"
+        );
     }
 
     #[test]
@@ -1700,14 +2123,21 @@ mod tests {
         let listings = generate(&o).listings;
         assert_eq!(records.len(), listings.len() + 1);
         for (r, l) in records[1..].iter().zip(&listings) {
-            let want = [Some(l.listing_id.clone()), l.transmission.clone(), l.engine.clone(), l.part_no.clone()];
+            let want = [
+                Some(l.listing_id.clone()),
+                l.transmission.clone(),
+                l.engine.clone(),
+                l.part_no.clone(),
+            ];
             assert_eq!(r[..4], want);
             assert_eq!(r[4].as_deref(), Some(l.price_usd.to_string().as_str()));
         }
         let truth = fs::read_to_string(dir.path().join("truth/engine.csv")).unwrap();
         let records = parse_csv(&truth);
         assert!(records.iter().all(|r| r.len() == 8));
-        assert!(records.iter().any(|r| r[0].as_deref().is_some_and(|v| v.contains(','))));
+        assert!(records
+            .iter()
+            .any(|r| r[0].as_deref().is_some_and(|v| v.contains(','))));
     }
 
     #[test]
@@ -1745,7 +2175,11 @@ mod tests {
         let has_odd = |l: &Listing| {
             let e = l.engine.as_deref().unwrap_or("").to_lowercase();
             let p = l.part_no.as_deref().unwrap_or("");
-            e.contains("ltr") || e.contains("cyl x") || e.contains("non-turbo") || p.contains('_') || p.contains('.')
+            e.contains("ltr")
+                || e.contains("cyl x")
+                || e.contains("non-turbo")
+                || p.contains('_')
+                || p.contains('.')
         };
         let std = generate(&opts(20_000, 8, Variants::Standard));
         assert!(!std.listings.iter().any(has_odd));
@@ -1773,8 +2207,14 @@ mod tests {
 
     #[test]
     fn title_case_leaves_units_after_digits_alone() {
-        assert_eq!(title_case("4 cyl turbo diesel 4.5L"), "4 Cyl Turbo Diesel 4.5l");
-        assert_eq!(title_case("infinitely variable (CVT)"), "Infinitely Variable (Cvt)");
+        assert_eq!(
+            title_case("4 cyl turbo diesel 4.5L"),
+            "4 Cyl Turbo Diesel 4.5l"
+        );
+        assert_eq!(
+            title_case("infinitely variable (CVT)"),
+            "Infinitely Variable (Cvt)"
+        );
     }
 
     #[test]

@@ -121,7 +121,10 @@ pub fn runs(value: &str) -> impl Iterator<Item = Run<'_>> {
         }
         let (text, tail) = rest.split_at(end);
         rest = tail;
-        Some(Run { class: class_of_run, text })
+        Some(Run {
+            class: class_of_run,
+            text,
+        })
     })
 }
 
@@ -134,13 +137,18 @@ pub fn runs(value: &str) -> impl Iterator<Item = Run<'_>> {
 /// assert_eq!(t, ["4", "cyl", "turbo", "4", "5", "l"]);
 /// ```
 pub fn tokens(value: &str) -> impl Iterator<Item = &str> {
-    runs(value).filter(|r| matches!(r.class, CharClass::Letter | CharClass::Digit)).map(|r| r.text)
+    runs(value)
+        .filter(|r| matches!(r.class, CharClass::Letter | CharClass::Digit))
+        .map(|r| r.text)
 }
 
 /// A value's letters and digits alone: punctuation, symbols and white space
 /// dropped (`"4-cyl."` gives `"4cyl"`).
 pub fn letters_and_digits(value: &str) -> String {
-    value.chars().filter(|&c| matches!(class(c), CharClass::Letter | CharClass::Digit)).collect()
+    value
+        .chars()
+        .filter(|&c| matches!(class(c), CharClass::Letter | CharClass::Digit))
+        .collect()
 }
 
 /// The digit runs of a value joined by single spaces: two values whose

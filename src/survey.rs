@@ -38,8 +38,27 @@ pub const SURVEY_SCHEMA: &str = "descry.survey/1";
 /// (NFKC, lower case, trimmed). A non-blank value made only of punctuation
 /// and symbols (`-`, `--`, `?`, `...`, `/`) also counts as a placeholder.
 pub const DEFAULT_PLACEHOLDERS: &[&str] = &[
-    "n/a", "na", "n.a.", "n.a", "none", "null", "nil", "nan", "unknown", "unk", "tbd", "tba", "tbc", "not available",
-    "not applicable", "not known", "missing", "no data", "-", "--", "?",
+    "n/a",
+    "na",
+    "n.a.",
+    "n.a",
+    "none",
+    "null",
+    "nil",
+    "nan",
+    "unknown",
+    "unk",
+    "tbd",
+    "tba",
+    "tbc",
+    "not available",
+    "not applicable",
+    "not known",
+    "missing",
+    "no data",
+    "-",
+    "--",
+    "?",
 ];
 
 /// Values longer than this many characters are reported as very long.
@@ -173,7 +192,10 @@ impl AnomalyKind {
     }
 
     fn is_group(self) -> bool {
-        matches!(self, AnomalyKind::CaseVariants | AnomalyKind::PunctuationVariants)
+        matches!(
+            self,
+            AnomalyKind::CaseVariants | AnomalyKind::PunctuationVariants
+        )
     }
 
     fn bit(self) -> u16 {
@@ -252,15 +274,32 @@ struct Profile {
 
 /// Survey a column's vocabulary.
 pub fn survey(vocab: &Vocabulary, column: &str, opts: &SurveyOptions) -> SurveyReport {
-    let placeholders: HashSet<String> = opts.placeholders.iter().map(|p| opts.normalizer.apply(p)).collect();
-    let profiles: Vec<Profile> =
-        vocab.values.par_iter().map(|v| profile(v, &opts.normalizer, &placeholders, opts.long)).collect();
+    let placeholders: HashSet<String> = opts
+        .placeholders
+        .iter()
+        .map(|p| opts.normalizer.apply(p))
+        .collect();
+    let profiles: Vec<Profile> = vocab
+        .values
+        .par_iter()
+        .map(|v| profile(v, &opts.normalizer, &placeholders, opts.long))
+        .collect();
     let non_null_rows: u64 = vocab.counts.iter().sum();
     let by_rows = order_by_rows(vocab);
-    let row_share = |rows: u64| if non_null_rows == 0 { 0.0 } else { rows as f64 / non_null_rows as f64 };
+    let row_share = |rows: u64| {
+        if non_null_rows == 0 {
+            0.0
+        } else {
+            rows as f64 / non_null_rows as f64
+        }
+    };
 
     let mut blank = Tally::default();
-    let mut ph = Placeholders { distinct: 0, rows: 0, values: Vec::new() };
+    let mut ph = Placeholders {
+        distinct: 0,
+        rows: 0,
+        values: Vec::new(),
+    };
     for &i in &by_rows {
         let (p, rows) = (&profiles[i], vocab.counts[i]);
         if p.normalized.is_empty() {
@@ -270,20 +309,32 @@ pub fn survey(vocab: &Vocabulary, column: &str, opts: &SurveyOptions) -> SurveyR
             ph.distinct += 1;
             ph.rows += rows;
             if ph.values.len() < opts.top {
-                ph.values.push(ValueRows { value: vocab.values[i].clone(), rows });
+                ph.values.push(ValueRows {
+                    value: vocab.values[i].clone(),
+                    rows,
+                });
             }
         }
     }
     let top_values = by_rows
         .iter()
         .take(opts.top)
-        .map(|&i| TopValue { value: vocab.values[i].clone(), rows: vocab.counts[i], share: row_share(vocab.counts[i]) })
+        .map(|&i| TopValue {
+            value: vocab.values[i].clone(),
+            rows: vocab.counts[i],
+            share: row_share(vocab.counts[i]),
+        })
         .collect();
     let top_shares = TOP_SHARES
         .iter()
         .map(|&top| {
             let rows: u64 = by_rows.iter().take(top).map(|&i| vocab.counts[i]).sum();
-            TopShare { top, values: by_rows.len().min(top) as u64, rows, share: row_share(rows) }
+            TopShare {
+                top,
+                values: by_rows.len().min(top) as u64,
+                rows,
+                share: row_share(rows),
+            }
         })
         .collect();
     let (shape_count, shapes) = shapes(vocab, &profiles, &by_rows, opts.top, row_share);
@@ -310,18 +361,31 @@ pub fn survey(vocab: &Vocabulary, column: &str, opts: &SurveyOptions) -> SurveyR
 fn order_by_rows(vocab: &Vocabulary) -> Vec<usize> {
     let mut order: Vec<usize> = (0..vocab.distinct()).collect();
     order.par_sort_unstable_by(|&a, &b| {
-        (Reverse(vocab.counts[a]), vocab.values[a].as_bytes()).cmp(&(Reverse(vocab.counts[b]), vocab.values[b].as_bytes()))
+        (Reverse(vocab.counts[a]), vocab.values[a].as_bytes())
+            .cmp(&(Reverse(vocab.counts[b]), vocab.values[b].as_bytes()))
     });
     order
 }
 
-fn profile(value: &str, normalizer: &Normalizer, placeholders: &HashSet<String>, long: usize) -> Profile {
+fn profile(
+    value: &str,
+    normalizer: &Normalizer,
+    placeholders: &HashSet<String>,
+    long: usize,
+) -> Profile {
     let normalized = normalizer.apply(value);
     let blank = normalized.is_empty();
     let placeholder = !blank
-        && (placeholders.contains(&normalized) || normalized.chars().all(|c| matches!(class(c), CharClass::Other | CharClass::Space)));
+        && (placeholders.contains(&normalized)
+            || normalized
+                .chars()
+                .all(|c| matches!(class(c), CharClass::Other | CharClass::Space)));
     Profile {
-        anomalies: if blank { 0 } else { value_anomalies(value, long) },
+        anomalies: if blank {
+            0
+        } else {
+            value_anomalies(value, long)
+        },
         shape: shape(value),
         normalized,
         placeholder,
@@ -329,11 +393,16 @@ fn profile(value: &str, normalizer: &Normalizer, placeholders: &HashSet<String>,
 }
 
 fn is_unusual_space(c: char) -> bool {
-    (c.is_whitespace() && c != ' ' && !c.is_control()) || matches!(c, '\u{200b}' | '\u{200c}' | '\u{200d}' | '\u{2060}' | '\u{feff}')
+    (c.is_whitespace() && c != ' ' && !c.is_control())
+        || matches!(
+            c,
+            '\u{200b}' | '\u{200c}' | '\u{200d}' | '\u{2060}' | '\u{feff}'
+        )
 }
 
 fn is_control(c: char) -> bool {
-    c.is_control() || matches!(c, '\u{200e}' | '\u{200f}' | '\u{202a}'..='\u{202e}' | '\u{2066}'..='\u{2069}')
+    c.is_control()
+        || matches!(c, '\u{200e}' | '\u{200f}' | '\u{202a}'..='\u{202e}' | '\u{2066}'..='\u{2069}')
 }
 
 /// The per-value anomalies of a non-blank value, as a bit set.
@@ -366,7 +435,10 @@ fn value_anomalies(value: &str, long: usize) -> u16 {
     }
     if !value.is_ascii() {
         // Spaces are reported above; NFKC would also turn them into U+0020.
-        let spaced: String = value.chars().map(|c| if c.is_whitespace() { ' ' } else { c }).collect();
+        let spaced: String = value
+            .chars()
+            .map(|c| if c.is_whitespace() { ' ' } else { c })
+            .collect();
         if spaced.nfkc().ne(spaced.chars()) {
             set(AnomalyKind::Compatibility);
         }
@@ -390,13 +462,25 @@ fn shapes(
     for &i in by_rows {
         let s = profiles[i].shape.as_str();
         let at = *index.entry(s).or_insert_with(|| {
-            out.push(ShapeCount { shape: s.to_owned(), distinct: 0, rows: 0, share: 0.0, example: vocab.values[i].clone() });
+            out.push(ShapeCount {
+                shape: s.to_owned(),
+                distinct: 0,
+                rows: 0,
+                share: 0.0,
+                example: vocab.values[i].clone(),
+            });
             out.len() - 1
         });
         out[at].distinct += 1;
         out[at].rows += vocab.counts[i];
     }
-    out.sort_by(|a, b| (Reverse(a.rows), Reverse(a.distinct), &a.shape).cmp(&(Reverse(b.rows), Reverse(b.distinct), &b.shape)));
+    out.sort_by(|a, b| {
+        (Reverse(a.rows), Reverse(a.distinct), &a.shape).cmp(&(
+            Reverse(b.rows),
+            Reverse(b.distinct),
+            &b.shape,
+        ))
+    });
     let count = out.len() as u64;
     out.truncate(top);
     for s in &mut out {
@@ -440,13 +524,24 @@ fn token_counts(vocab: &Vocabulary, profiles: &[Profile], top: usize) -> (u64, V
             row_share: rows as f64 / rows_total,
         })
         .collect();
-    out.sort_by(|a, b| (Reverse(a.rows), Reverse(a.distinct), &a.token).cmp(&(Reverse(b.rows), Reverse(b.distinct), &b.token)));
+    out.sort_by(|a, b| {
+        (Reverse(a.rows), Reverse(a.distinct), &a.token).cmp(&(
+            Reverse(b.rows),
+            Reverse(b.distinct),
+            &b.token,
+        ))
+    });
     let count = out.len() as u64;
     out.truncate(top);
     (count, out)
 }
 
-fn anomalies(vocab: &Vocabulary, profiles: &[Profile], by_rows: &[usize], examples: usize) -> Vec<Anomaly> {
+fn anomalies(
+    vocab: &Vocabulary,
+    profiles: &[Profile],
+    by_rows: &[usize],
+    examples: usize,
+) -> Vec<Anomaly> {
     let mut out: Vec<Anomaly> = AnomalyKind::ALL
         .iter()
         .map(|&kind| Anomaly {
@@ -464,15 +559,37 @@ fn anomalies(vocab: &Vocabulary, profiles: &[Profile], by_rows: &[usize], exampl
             a.distinct += 1;
             a.rows += vocab.counts[i];
             if a.examples.len() < examples {
-                a.examples.push(AnomalyExample { value: vocab.values[i].clone(), rows: vocab.counts[i], variants: Vec::new() });
+                a.examples.push(AnomalyExample {
+                    value: vocab.values[i].clone(),
+                    rows: vocab.counts[i],
+                    variants: Vec::new(),
+                });
             }
         }
     }
     // Case variants: same normalized value, different letter case once
     // white space and compatibility forms are set aside.
-    let cased = |i: usize| -> String { vocab.values[i].nfkc().collect::<String>().split_whitespace().collect::<Vec<_>>().join(" ") };
-    let case_groups = variant_groups(vocab, profiles, by_rows, |i| profiles[i].normalized.clone(), cased);
-    fill_groups(&mut out[AnomalyKind::ALL.len() - 2], vocab, &case_groups, examples);
+    let cased = |i: usize| -> String {
+        vocab.values[i]
+            .nfkc()
+            .collect::<String>()
+            .split_whitespace()
+            .collect::<Vec<_>>()
+            .join(" ")
+    };
+    let case_groups = variant_groups(
+        vocab,
+        profiles,
+        by_rows,
+        |i| profiles[i].normalized.clone(),
+        cased,
+    );
+    fill_groups(
+        &mut out[AnomalyKind::ALL.len() - 2],
+        vocab,
+        &case_groups,
+        examples,
+    );
     // Punctuation variants: same letters and digits, different normalized values.
     let punct_groups = variant_groups(
         vocab,
@@ -481,7 +598,12 @@ fn anomalies(vocab: &Vocabulary, profiles: &[Profile], by_rows: &[usize], exampl
         |i| letters_and_digits(&profiles[i].normalized),
         |i| profiles[i].normalized.clone(),
     );
-    fill_groups(&mut out[AnomalyKind::ALL.len() - 1], vocab, &punct_groups, examples);
+    fill_groups(
+        &mut out[AnomalyKind::ALL.len() - 1],
+        vocab,
+        &punct_groups,
+        examples,
+    );
     out
 }
 
@@ -496,7 +618,13 @@ fn variant_groups(
 ) -> Vec<Vec<usize>> {
     let keyed: Vec<(String, String)> = by_rows
         .par_iter()
-        .map(|&i| if profiles[i].normalized.is_empty() { (String::new(), String::new()) } else { (key(i), form(i)) })
+        .map(|&i| {
+            if profiles[i].normalized.is_empty() {
+                (String::new(), String::new())
+            } else {
+                (key(i), form(i))
+            }
+        })
         .collect();
     let mut groups: HashMap<&str, (Vec<usize>, HashSet<&str>)> = HashMap::new();
     let mut order: Vec<&str> = Vec::new();
@@ -512,7 +640,12 @@ fn variant_groups(
         g.1.insert(f.as_str());
     }
     let _ = vocab;
-    order.into_iter().filter_map(|k| groups.remove(k)).filter(|(_, forms)| forms.len() > 1).map(|(values, _)| values).collect()
+    order
+        .into_iter()
+        .filter_map(|k| groups.remove(k))
+        .filter(|(_, forms)| forms.len() > 1)
+        .map(|(values, _)| values)
+        .collect()
 }
 
 fn fill_groups(a: &mut Anomaly, vocab: &Vocabulary, groups: &[Vec<usize>], examples: usize) {
@@ -527,7 +660,14 @@ fn fill_groups(a: &mut Anomaly, vocab: &Vocabulary, groups: &[Vec<usize>], examp
         .map(|g| AnomalyExample {
             value: vocab.values[g[0]].clone(),
             rows: vocab.counts[g[0]],
-            variants: g[1..].iter().take(4).map(|&i| ValueRows { value: vocab.values[i].clone(), rows: vocab.counts[i] }).collect(),
+            variants: g[1..]
+                .iter()
+                .take(4)
+                .map(|&i| ValueRows {
+                    value: vocab.values[i].clone(),
+                    rows: vocab.counts[i],
+                })
+                .collect(),
         })
         .collect();
 }
@@ -557,7 +697,12 @@ pub fn survey_text(r: &SurveyReport) -> String {
         thousands(r.placeholders.distinct),
     );
     if !r.placeholders.values.is_empty() {
-        let list: Vec<String> = r.placeholders.values.iter().map(|v| format!("{} {}", shown(&v.value), thousands(v.rows))).collect();
+        let list: Vec<String> = r
+            .placeholders
+            .values
+            .iter()
+            .map(|v| format!("{} {}", shown(&v.value), thousands(v.rows)))
+            .collect();
         let _ = writeln!(out, "placeholders: {}", list.join(", "));
     }
     let shares: Vec<String> = r
@@ -565,15 +710,41 @@ pub fn survey_text(r: &SurveyReport) -> String {
         .iter()
         .map(|t| format!("top {} {}", thousands(t.top as u64), percent(t.share)))
         .collect();
-    let _ = writeln!(out, "share of non-null rows ({}) covered by the most frequent values: {}", thousands(non_null), shares.join("  "));
+    let _ = writeln!(
+        out,
+        "share of non-null rows ({}) covered by the most frequent values: {}",
+        thousands(non_null),
+        shares.join("  ")
+    );
 
-    let _ = writeln!(out, "\nmost frequent values ({} of {})", r.top_values.len(), thousands(r.distinct));
+    let _ = writeln!(
+        out,
+        "\nmost frequent values ({} of {})",
+        r.top_values.len(),
+        thousands(r.distinct)
+    );
     for v in &r.top_values {
-        let _ = writeln!(out, "  {:>9}  {:>6}  {}", thousands(v.rows), percent(v.share), shown(&v.value));
+        let _ = writeln!(
+            out,
+            "  {:>9}  {:>6}  {}",
+            thousands(v.rows),
+            percent(v.share),
+            shown(&v.value)
+        );
     }
 
-    let _ = writeln!(out, "\nshapes ({} of {}; 9 digit, a/A/Aa/aA letters by case, space any white space)", r.shapes.len(), thousands(r.shape_count));
-    let width = r.shapes.iter().map(|s| shown(&s.shape).chars().count()).max().unwrap_or(0);
+    let _ = writeln!(
+        out,
+        "\nshapes ({} of {}; 9 digit, a/A/Aa/aA letters by case, space any white space)",
+        r.shapes.len(),
+        thousands(r.shape_count)
+    );
+    let width = r
+        .shapes
+        .iter()
+        .map(|s| shown(&s.shape).chars().count())
+        .max()
+        .unwrap_or(0);
     for s in &r.shapes {
         let _ = writeln!(
             out,
@@ -593,11 +764,17 @@ pub fn survey_text(r: &SurveyReport) -> String {
         let _ = writeln!(out, "\nanomalies");
     }
     for a in found {
-        let groups = a.groups.map(|g| format!(" in {} groups", thousands(g))).unwrap_or_default();
+        let groups = a
+            .groups
+            .map(|g| format!(" in {} groups", thousands(g)))
+            .unwrap_or_default();
         let _ = writeln!(
             out,
             "  {}: {} distinct{groups}, {} rows ({})",
-            serde_json::to_value(a.kind).ok().and_then(|v| v.as_str().map(str::to_owned)).unwrap_or_default(),
+            serde_json::to_value(a.kind)
+                .ok()
+                .and_then(|v| v.as_str().map(str::to_owned))
+                .unwrap_or_default(),
             thousands(a.distinct),
             thousands(a.rows),
             a.description
@@ -611,7 +788,12 @@ pub fn survey_text(r: &SurveyReport) -> String {
         }
     }
 
-    let _ = writeln!(out, "\ntokens ({} of {}; after normalization, split at letter/digit/punctuation boundaries)", r.tokens.len(), thousands(r.token_count));
+    let _ = writeln!(
+        out,
+        "\ntokens ({} of {}; after normalization, split at letter/digit/punctuation boundaries)",
+        r.tokens.len(),
+        thousands(r.token_count)
+    );
     for t in &r.tokens {
         let _ = writeln!(
             out,
@@ -631,7 +813,11 @@ mod tests {
     use super::*;
 
     fn run(rows: &[Option<&str>]) -> SurveyReport {
-        survey(&Vocabulary::build(rows.iter().copied()), "c", &SurveyOptions::default())
+        survey(
+            &Vocabulary::build(rows.iter().copied()),
+            "c",
+            &SurveyOptions::default(),
+        )
     }
 
     fn anomaly(r: &SurveyReport, kind: AnomalyKind) -> &Anomaly {
@@ -640,9 +826,25 @@ mod tests {
 
     #[test]
     fn counts_rows_nulls_blanks_and_placeholders() {
-        let r = run(&[Some("a"), None, Some(""), Some("  "), Some("N/A"), Some("n/a"), Some("---"), Some("?"), Some("unknown")]);
+        let r = run(&[
+            Some("a"),
+            None,
+            Some(""),
+            Some("  "),
+            Some("N/A"),
+            Some("n/a"),
+            Some("---"),
+            Some("?"),
+            Some("unknown"),
+        ]);
         assert_eq!((r.rows, r.null_rows, r.distinct), (9, 1, 8));
-        assert_eq!(r.blank, Tally { distinct: 2, rows: 2 });
+        assert_eq!(
+            r.blank,
+            Tally {
+                distinct: 2,
+                rows: 2
+            }
+        );
         // N/A, n/a, unknown from the list; --- and ? are punctuation only.
         assert_eq!((r.placeholders.distinct, r.placeholders.rows), (5, 5));
     }
@@ -663,11 +865,26 @@ mod tests {
 
     #[test]
     fn space_anomalies() {
-        let r = run(&[Some(" lead"), Some("trail "), Some("dou  bled"), Some("no\u{a0}break"), Some("ok value")]);
+        let r = run(&[
+            Some(" lead"),
+            Some("trail "),
+            Some("dou  bled"),
+            Some("no\u{a0}break"),
+            Some("ok value"),
+        ]);
         assert_eq!(anomaly(&r, AnomalyKind::LeadingSpace).distinct, 1);
-        assert_eq!(anomaly(&r, AnomalyKind::TrailingSpace).examples[0].value, "trail ");
-        assert_eq!(anomaly(&r, AnomalyKind::DoubledSpace).examples[0].value, "dou  bled");
-        assert_eq!(anomaly(&r, AnomalyKind::UnusualSpace).examples[0].value, "no\u{a0}break");
+        assert_eq!(
+            anomaly(&r, AnomalyKind::TrailingSpace).examples[0].value,
+            "trail "
+        );
+        assert_eq!(
+            anomaly(&r, AnomalyKind::DoubledSpace).examples[0].value,
+            "dou  bled"
+        );
+        assert_eq!(
+            anomaly(&r, AnomalyKind::UnusualSpace).examples[0].value,
+            "no\u{a0}break"
+        );
         // A no-break space is an unusual space, not a compatibility character.
         assert_eq!(anomaly(&r, AnomalyKind::Compatibility).distinct, 0);
     }
@@ -675,7 +892,14 @@ mod tests {
     #[test]
     fn compatibility_control_replacement_long() {
         let long = "x".repeat(81);
-        let r = run(&[Some("\u{ff16} spd"), Some("\u{fb01}lter"), Some("a\tb"), Some("bad \u{fffd}"), Some(&long), Some("plain")]);
+        let r = run(&[
+            Some("\u{ff16} spd"),
+            Some("\u{fb01}lter"),
+            Some("a\tb"),
+            Some("bad \u{fffd}"),
+            Some(&long),
+            Some("plain"),
+        ]);
         // UAX #15: U+FF16 FULLWIDTH DIGIT SIX and U+FB01 LATIN SMALL LIGATURE FI
         // have compatibility decompositions, so NFKC changes them.
         assert_eq!(anomaly(&r, AnomalyKind::Compatibility).distinct, 2);
@@ -686,7 +910,16 @@ mod tests {
 
     #[test]
     fn case_and_punctuation_variants() {
-        let r = run(&[Some("6 spd auto"), Some("6 spd auto"), Some("6 SPD Auto"), Some("6 spd  auto"), Some("4-cyl"), Some("4 cyl"), Some("4cyl"), Some("cvt")]);
+        let r = run(&[
+            Some("6 spd auto"),
+            Some("6 spd auto"),
+            Some("6 SPD Auto"),
+            Some("6 spd  auto"),
+            Some("4-cyl"),
+            Some("4 cyl"),
+            Some("4cyl"),
+            Some("cvt"),
+        ]);
         let case = anomaly(&r, AnomalyKind::CaseVariants);
         assert_eq!((case.groups, case.distinct, case.rows), (Some(1), 3, 4));
         assert_eq!(case.examples[0].value, "6 spd auto");
@@ -697,7 +930,13 @@ mod tests {
 
     #[test]
     fn tokens_count_values_and_rows() {
-        let r = run(&[Some("6 spd auto"), Some("6 spd auto"), Some("6-SPD manual"), Some("cvt"), None]);
+        let r = run(&[
+            Some("6 spd auto"),
+            Some("6 spd auto"),
+            Some("6-SPD manual"),
+            Some("cvt"),
+            None,
+        ]);
         let spd = r.tokens.iter().find(|t| t.token == "spd").unwrap();
         assert_eq!((spd.distinct, spd.rows), (2, 3));
         assert!((spd.distinct_share - 2.0 / 3.0).abs() < 1e-12);
@@ -707,7 +946,12 @@ mod tests {
 
     #[test]
     fn shapes_with_examples() {
-        let r = run(&[Some("PMP-0750-3T"), Some("FLT-1204-3T"), Some("FLT-1204-3T"), Some("pmp 0750 3t")]);
+        let r = run(&[
+            Some("PMP-0750-3T"),
+            Some("FLT-1204-3T"),
+            Some("FLT-1204-3T"),
+            Some("pmp 0750 3t"),
+        ]);
         assert_eq!(r.shapes[0].shape, "A-9999-9A");
         assert_eq!((r.shapes[0].distinct, r.shapes[0].rows), (2, 3));
         assert_eq!(r.shapes[0].example, "FLT-1204-3T");

@@ -89,7 +89,12 @@ impl VocabularyBuilder {
     }
 
     pub fn finish(self) -> Vocabulary {
-        Vocabulary { values: self.values, counts: self.counts, null_rows: self.null_rows, codes: self.codes }
+        Vocabulary {
+            values: self.values,
+            counts: self.counts,
+            null_rows: self.null_rows,
+            codes: self.codes,
+        }
     }
 }
 
@@ -161,6 +166,11 @@ impl GrowingVocabulary {
 
     /// The same numbers as a [`Vocabulary`], without row codes.
     pub fn to_vocabulary(&self) -> Vocabulary {
-        Vocabulary { values: self.values.clone(), counts: self.counts.clone(), null_rows: self.null_rows, codes: Vec::new() }
+        Vocabulary {
+            values: self.values.clone(),
+            counts: self.counts.clone(),
+            null_rows: self.null_rows,
+            codes: Vec::new(),
+        }
     }
 }

@@ -22,7 +22,11 @@ pub enum OutputFormat {
 
 impl OutputFormat {
     pub fn of(path: &Path) -> Result<OutputFormat, Error> {
-        let ext = path.extension().and_then(|e| e.to_str()).unwrap_or("").to_ascii_lowercase();
+        let ext = path
+            .extension()
+            .and_then(|e| e.to_str())
+            .unwrap_or("")
+            .to_ascii_lowercase();
         match ext.as_str() {
             "parquet" | "pq" => Ok(OutputFormat::Parquet),
             "arrow" | "ipc" | "feather" => Ok(OutputFormat::Ipc),
@@ -30,7 +34,8 @@ impl OutputFormat {
             "tsv" => Ok(OutputFormat::Csv { delimiter: b'\t' }),
             _ => Err(Error::Output {
                 path: path.to_owned(),
-                message: "unknown output format; use .parquet, .arrow/.ipc/.feather, .csv or .tsv".to_owned(),
+                message: "unknown output format; use .parquet, .arrow/.ipc/.feather, .csv or .tsv"
+                    .to_owned(),
             }),
         }
     }
@@ -43,7 +48,10 @@ pub fn check_output_path(output: &Path, inputs: &[&Path]) -> Result<OutputFormat
     if !folder.is_dir() {
         return Err(Error::Output {
             path: output.to_owned(),
-            message: format!("the folder {} does not exist; create it first", folder.display()),
+            message: format!(
+                "the folder {} does not exist; create it first",
+                folder.display()
+            ),
         });
     }
     let out_id = std::fs::canonicalize(output).ok();
@@ -52,7 +60,8 @@ pub fn check_output_path(output: &Path, inputs: &[&Path]) -> Result<OutputFormat
         if same {
             return Err(Error::Output {
                 path: output.to_owned(),
-                message: "is also the input; descry never overwrites its input, choose another -o".to_owned(),
+                message: "is also the input; descry never overwrites its input, choose another -o"
+                    .to_owned(),
             });
         }
     }
@@ -67,7 +76,11 @@ fn parent_folder(path: &Path) -> PathBuf {
 }
 
 /// Write `frame` to `output` atomically (one batch of a [`TableSink`]).
-pub fn write_table(frame: &mut DataFrame, output: &Path, format: OutputFormat) -> Result<(), Error> {
+pub fn write_table(
+    frame: &mut DataFrame,
+    output: &Path,
+    format: OutputFormat,
+) -> Result<(), Error> {
     let mut sink = TableSink::create(output, format, &frame.schema().clone())?;
     sink.write(frame)?;
     sink.finish()
@@ -100,28 +113,55 @@ pub struct TableSink {
 const SYNC_EVERY_BYTES: u64 = 32 << 20;
 
 impl TableSink {
-    pub fn create(output: &Path, format: OutputFormat, schema: &Schema) -> Result<TableSink, Error> {
-        let out_err = |message: String| Error::Output { path: output.to_owned(), message };
+    pub fn create(
+        output: &Path,
+        format: OutputFormat,
+        schema: &Schema,
+    ) -> Result<TableSink, Error> {
+        let out_err = |message: String| Error::Output {
+            path: output.to_owned(),
+            message,
+        };
         let folder = parent_folder(output);
         let temp = tempfile::Builder::new()
             .prefix(".descry-")
             .suffix(".partial")
             .tempfile_in(&folder)
-            .map_err(|e| out_err(format!("cannot create a temporary file in {}: {e}", folder.display())))?;
-        let file = temp.reopen().map_err(|e| out_err(format!("cannot open the temporary file: {e}")))?;
+            .map_err(|e| {
+                out_err(format!(
+                    "cannot create a temporary file in {}: {e}",
+                    folder.display()
+                ))
+            })?;
+        let file = temp
+            .reopen()
+            .map_err(|e| out_err(format!("cannot open the temporary file: {e}")))?;
         // Unbuffered: polars writes in large blocks, and an error on the last
         // flush must not be lost in a buffer's drop.
-        let write = batch_writer(file, format, schema).map_err(|e| out_err(format!("cannot start writing: {e}")))?;
-        Ok(TableSink { output: output.to_owned(), temp, write, rows: 0, synced_bytes: 0 })
+        let write = batch_writer(file, format, schema)
+            .map_err(|e| out_err(format!("cannot start writing: {e}")))?;
+        Ok(TableSink {
+            output: output.to_owned(),
+            temp,
+            write,
+            rows: 0,
+            synced_bytes: 0,
+        })
     }
 
     pub fn write(&mut self, batch: &mut DataFrame) -> Result<(), Error> {
-        let out_err = |message: String| Error::Output { path: self.output.clone(), message };
+        let out_err = |message: String| Error::Output {
+            path: self.output.clone(),
+            message,
+        };
         self.rows += batch.height() as u64;
         (self.write)(Some(batch)).map_err(|e| out_err(format!("cannot write: {e}")))?;
         let written = self.temp.as_file().metadata().map(|m| m.len()).unwrap_or(0);
         if written >= self.synced_bytes + SYNC_EVERY_BYTES {
-            self.temp.as_file().sync_data().map_err(|e| out_err(format!("cannot flush to disk: {e}")))?;
+            self.temp
+                .as_file()
+                .sync_data()
+                .map_err(|e| out_err(format!("cannot flush to disk: {e}")))?;
             self.synced_bytes = written;
         }
         Ok(())
@@ -133,13 +173,22 @@ impl TableSink {
 
     /// Finish the file, flush it to disk and move it into place.
     pub fn finish(mut self) -> Result<(), Error> {
-        let out_err = |message: String| Error::Output { path: self.output.clone(), message };
+        let out_err = |message: String| Error::Output {
+            path: self.output.clone(),
+            message,
+        };
         (self.write)(None).map_err(|e| out_err(format!("cannot finish writing: {e}")))?;
-        self.temp.as_file().sync_all().map_err(|e| out_err(format!("cannot flush to disk: {e}")))?;
-        let folder = parent_folder(&self.output);
         self.temp
-            .persist(&self.output)
-            .map_err(|e| out_err(format!("cannot move the finished file into place: {}", e.error)))?;
+            .as_file()
+            .sync_all()
+            .map_err(|e| out_err(format!("cannot flush to disk: {e}")))?;
+        let folder = parent_folder(&self.output);
+        self.temp.persist(&self.output).map_err(|e| {
+            out_err(format!(
+                "cannot move the finished file into place: {}",
+                e.error
+            ))
+        })?;
         sync_folder(&folder);
         Ok(())
     }
@@ -158,7 +207,9 @@ fn batch_writer(w: File, format: OutputFormat, schema: &Schema) -> PolarsResult<
             })
         }
         OutputFormat::Csv { delimiter } => {
-            let mut writer = CsvWriter::new(w).with_separator(delimiter).batched(schema)?;
+            let mut writer = CsvWriter::new(w)
+                .with_separator(delimiter)
+                .batched(schema)?;
             Box::new(move |batch: Option<&mut DataFrame>| match batch {
                 Some(df) => writer.write_batch(df),
                 None => writer.finish(),

@@ -9,7 +9,8 @@ use std::path::{Path, PathBuf};
 use common::*;
 use tempfile::TempDir;
 
-const RULES: &str = "column = \"transmission\"\n[[count]]\nname = \"gears\"\npattern = '({int})\\s*spd'\n";
+const RULES: &str =
+    "column = \"transmission\"\n[[count]]\nname = \"gears\"\npattern = '({int})\\s*spd'\n";
 
 struct Case {
     dir: TempDir,
@@ -48,7 +49,10 @@ fn assert_error(got: (Option<i32>, String, String), parts: &[&str]) {
 #[test]
 fn file_that_does_not_exist() {
     let c = case();
-    assert_error(c.check(&c.dir.path().join("nope.csv"), &[]), &["nope.csv", "no such file"]);
+    assert_error(
+        c.check(&c.dir.path().join("nope.csv"), &[]),
+        &["nope.csv", "no such file"],
+    );
 }
 
 #[test]
@@ -81,7 +85,14 @@ fn a_file_with_only_a_header_is_zero_rows_not_an_error() {
 fn an_unknown_extension() {
     let c = case();
     let f = c.file("table.xlsx", b"id,transmission\n1,6 spd\n");
-    assert_error(c.check(&f, &[]), &["table.xlsx", "unknown table format \".xlsx\"", "--delimiter"]);
+    assert_error(
+        c.check(&f, &[]),
+        &[
+            "table.xlsx",
+            "unknown table format \".xlsx\"",
+            "--delimiter",
+        ],
+    );
     // --delimiter reads any file as CSV.
     let (code, _, err) = c.check(&f, &["--delimiter", ","]);
     assert_eq!(code, Some(0), "{err}");
@@ -91,21 +102,40 @@ fn an_unknown_extension() {
 fn csv_with_ragged_rows_names_the_row() {
     let c = case();
     let f = c.file("ragged.csv", b"id,transmission\n1,6 spd\n2,a,b,c\n3,x\n");
-    assert_error(c.check(&f, &[]), &["ragged.csv", "row 2 (line 3) has 4 fields but the header has 2"]);
+    assert_error(
+        c.check(&f, &[]),
+        &[
+            "ragged.csv",
+            "row 2 (line 3) has 4 fields but the header has 2",
+        ],
+    );
 }
 
 #[test]
 fn csv_with_an_unclosed_quote_names_the_line() {
     let c = case();
     let f = c.file("quote.csv", b"id,transmission\n1,6 spd\n2,\"x\n3,y\n");
-    assert_error(c.check(&f, &[]), &["quote.csv", "line 3: a quoted field opens here and is never closed"]);
+    assert_error(
+        c.check(&f, &[]),
+        &[
+            "quote.csv",
+            "line 3: a quoted field opens here and is never closed",
+        ],
+    );
 }
 
 #[test]
 fn invalid_utf8_names_the_row_or_is_replaced_when_asked() {
     let c = case();
     let f = c.file("latin1.csv", b"id,transmission\n1,6 spd\n2,caf\xe9 auto\n");
-    assert_error(c.check(&f, &[]), &["latin1.csv", "row 2 (line 3), column \"transmission\": invalid UTF-8", "--lossy-utf8"]);
+    assert_error(
+        c.check(&f, &[]),
+        &[
+            "latin1.csv",
+            "row 2 (line 3), column \"transmission\": invalid UTF-8",
+            "--lossy-utf8",
+        ],
+    );
     let (code, out, err) = c.check(&f, &["--lossy-utf8", "--format", "json"]);
     assert_eq!(code, Some(0), "{err}");
     assert!(out.contains("caf\u{fffd} auto"), "{out}");
@@ -120,18 +150,27 @@ fn a_ten_megabyte_field_is_read_and_shown_cut() {
     let f = c.file("big.csv", &bytes);
     let (code, out, err) = c.check(&f, &[]);
     assert_eq!(code, Some(0), "{err}");
-    assert!(out.contains("more characters)"), "the text report cuts the value");
+    assert!(
+        out.contains("more characters)"),
+        "the text report cuts the value"
+    );
     assert!(out.len() < 10_000, "the text report does not print 10 MB");
 }
 
 #[test]
 fn bom_and_crlf_are_handled() {
     let c = case();
-    let f = c.file("bom.csv", b"\xef\xbb\xbfid,transmission\r\n1,6 spd\r\n2,x\r\n");
+    let f = c.file(
+        "bom.csv",
+        b"\xef\xbb\xbfid,transmission\r\n1,6 spd\r\n2,x\r\n",
+    );
     let (code, out, err) = c.check(&f, &["--format", "json"]);
     assert_eq!(code, Some(0), "{err}");
     let report: serde_json::Value = serde_json::from_str(&out).unwrap();
-    assert_eq!(report["coverage"]["rows_covered"], 1, "the BOM does not hide the column; CR is not part of values");
+    assert_eq!(
+        report["coverage"]["rows_covered"], 1,
+        "the BOM does not hide the column; CR is not part of values"
+    );
     assert_eq!(report["unmatched"][0]["value"], "x");
 }
 
@@ -144,7 +183,10 @@ fn a_truncated_parquet_file() {
     assert_eq!(out.status.code(), Some(0));
     let full = std::fs::read(&pq).unwrap();
     let cut = c.file("cut.parquet", &full[..full.len() / 2]);
-    assert_error(c.check(&cut, &[]), &["cut.parquet", "cannot read the table"]);
+    assert_error(
+        c.check(&cut, &[]),
+        &["cut.parquet", "cannot read the table"],
+    );
 }
 
 #[test]
@@ -170,26 +212,63 @@ fn an_unwritable_output() {
     let c = case();
     let csv = c.file("t.csv", b"id,transmission\n1,6 spd\n");
     // /proc exists but no file can be created in it, not even by root.
-    let out = run(&["apply", s(&csv), "-r", s(&c.rules), "-o", "/proc/descry-out.parquet"], None);
+    let out = run(
+        &[
+            "apply",
+            s(&csv),
+            "-r",
+            s(&c.rules),
+            "-o",
+            "/proc/descry-out.parquet",
+        ],
+        None,
+    );
     assert_eq!(out.status.code(), Some(2));
-    assert!(stderr(&out).contains("/proc/descry-out.parquet"), "{}", stderr(&out));
-    assert!(stderr(&out).contains("cannot create a temporary file"), "{}", stderr(&out));
+    assert!(
+        stderr(&out).contains("/proc/descry-out.parquet"),
+        "{}",
+        stderr(&out)
+    );
+    assert!(
+        stderr(&out).contains("cannot create a temporary file"),
+        "{}",
+        stderr(&out)
+    );
 }
 
 #[test]
 fn ruleset_that_does_not_exist() {
     let c = case();
     let csv = c.file("t.csv", b"id,transmission\n1,6 spd\n");
-    let out = run(&["check", s(&csv), "-r", s(&c.dir.path().join("missing.toml"))], None);
+    let out = run(
+        &[
+            "check",
+            s(&csv),
+            "-r",
+            s(&c.dir.path().join("missing.toml")),
+        ],
+        None,
+    );
     assert_eq!(out.status.code(), Some(2));
-    assert!(stderr(&out).contains("missing.toml: cannot read the ruleset"), "{}", stderr(&out));
+    assert!(
+        stderr(&out).contains("missing.toml: cannot read the ruleset"),
+        "{}",
+        stderr(&out)
+    );
 }
 
 #[test]
 fn bad_arguments_exit_two() {
-    let out = run(&["check", "x.csv", "-r", "r.toml", "--min-coverage", "95"], None);
+    let out = run(
+        &["check", "x.csv", "-r", "r.toml", "--min-coverage", "95"],
+        None,
+    );
     assert_eq!(out.status.code(), Some(2));
-    assert!(stderr(&out).contains("not a fraction between 0 and 1"), "{}", stderr(&out));
+    assert!(
+        stderr(&out).contains("not a fraction between 0 and 1"),
+        "{}",
+        stderr(&out)
+    );
 }
 
 #[test]
@@ -200,9 +279,17 @@ fn a_report_piped_into_a_reader_that_stops_early_is_not_a_crash() {
         bytes.extend_from_slice(format!("{i},value {i}\n").as_bytes());
     }
     let f = c.file("many.csv", &bytes);
-    let script = format!("{} check {} -r {} --format json | head -c 10 >/dev/null; echo ${{PIPESTATUS[0]}}",
-        assert_cmd::cargo::cargo_bin("descry").display(), s(&f), s(&c.rules));
-    let out = std::process::Command::new("bash").args(["-c", &script]).env("RUST_BACKTRACE", "1").output().unwrap();
+    let script = format!(
+        "{} check {} -r {} --format json | head -c 10 >/dev/null; echo ${{PIPESTATUS[0]}}",
+        assert_cmd::cargo::cargo_bin("descry").display(),
+        s(&f),
+        s(&c.rules)
+    );
+    let out = std::process::Command::new("bash")
+        .args(["-c", &script])
+        .env("RUST_BACKTRACE", "1")
+        .output()
+        .unwrap();
     assert_no_panic(&out);
     assert_eq!(String::from_utf8_lossy(&out.stdout).trim(), "0");
 }
@@ -217,7 +304,10 @@ fn a_catastrophic_fancy_pattern_is_reported_and_the_run_goes_on() {
          [[count]]\nname = \"gears\"\npattern = '({int})\\s*spd'\n",
     );
     let long_a = format!("{}b", "a".repeat(5000));
-    let f = c.file("evil.csv", format!("id,transmission\n1,{long_a}\n2,6 spd\n").as_bytes());
+    let f = c.file(
+        "evil.csv",
+        format!("id,transmission\n1,{long_a}\n2,6 spd\n").as_bytes(),
+    );
     let started = std::time::Instant::now();
     let out = run(&["check", s(&f), "-r", s(&rules), "--format", "json"], None);
     assert!(started.elapsed().as_secs() < 60, "finishes promptly");
@@ -225,17 +315,30 @@ fn a_catastrophic_fancy_pattern_is_reported_and_the_run_goes_on() {
     let report: serde_json::Value = serde_json::from_str(&stdout(&out)).unwrap();
     assert_eq!(report["issues"][0]["rule"], "evil");
     assert_eq!(report["issues"][0]["issue"]["kind"], "backtrack_limit");
-    assert_eq!(report["coverage"]["rows_covered"], 1, "the other value is still evaluated");
+    assert_eq!(
+        report["coverage"]["rows_covered"], 1,
+        "the other value is still evaluated"
+    );
     let text = run(&["check", s(&f), "-r", s(&rules)], None);
-    assert!(stdout(&text).contains("backtrack limit reached"), "{}", stdout(&text));
+    assert!(
+        stdout(&text).contains("backtrack limit reached"),
+        "{}",
+        stdout(&text)
+    );
 }
 
 #[test]
 fn terminal_escape_sequences_in_values_are_shown_inert() {
     let c = case();
-    let f = c.file("esc.csv", b"id,transmission\n1,\x1b[31mred\x1b]0;title\x07\n2,<script>alert(1)</script>\n");
+    let f = c.file(
+        "esc.csv",
+        b"id,transmission\n1,\x1b[31mred\x1b]0;title\x07\n2,<script>alert(1)</script>\n",
+    );
     let (code, out, err) = c.check(&f, &[]);
     assert_eq!(code, Some(0), "{err}");
-    assert!(!out.contains('\x1b') && !out.contains('\x07'), "raw control characters reached the terminal");
+    assert!(
+        !out.contains('\x1b') && !out.contains('\x07'),
+        "raw control characters reached the terminal"
+    );
     assert!(out.contains("\\u{1b}[31mred"), "{out}");
 }

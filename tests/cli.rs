@@ -53,7 +53,10 @@ fn setup() -> (TempDir, std::path::PathBuf, std::path::PathBuf) {
 #[test]
 fn check_reports_coverage_and_exits_zero() {
     let (_d, rules, table) = setup();
-    let out = run(&["check", s(&table), "--rules", s(&rules), "--format", "json"], None);
+    let out = run(
+        &["check", s(&table), "--rules", s(&rules), "--format", "json"],
+        None,
+    );
     assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
     let report: serde_json::Value = serde_json::from_str(&stdout(&out)).unwrap();
     assert_eq!(report["schema"], "descry.check/1");
@@ -70,10 +73,20 @@ fn check_reports_coverage_and_exits_zero() {
 #[test]
 fn min_coverage_gate_exits_one_below_and_zero_above() {
     let (_d, rules, table) = setup();
-    let below = run(&["check", s(&table), "-r", s(&rules), "--min-coverage", "0.9"], None);
+    let below = run(
+        &["check", s(&table), "-r", s(&rules), "--min-coverage", "0.9"],
+        None,
+    );
     assert_eq!(below.status.code(), Some(1));
-    assert!(stderr(&below).contains("below --min-coverage"), "{}", stderr(&below));
-    let above = run(&["check", s(&table), "-r", s(&rules), "--min-coverage", "0.8"], None);
+    assert!(
+        stderr(&below).contains("below --min-coverage"),
+        "{}",
+        stderr(&below)
+    );
+    let above = run(
+        &["check", s(&table), "-r", s(&rules), "--min-coverage", "0.8"],
+        None,
+    );
     assert_eq!(above.status.code(), Some(0));
 }
 
@@ -84,13 +97,20 @@ fn a_failing_example_exits_one() {
     let rules = write(dir.path(), "bad.toml", &bad);
     let out = run(&["check", s(&table), "-r", s(&rules)], None);
     assert_eq!(out.status.code(), Some(1));
-    assert!(stdout(&out).contains("expected 7, got 6"), "{}", stdout(&out));
+    assert!(
+        stdout(&out).contains("expected 7, got 6"),
+        "{}",
+        stdout(&out)
+    );
 }
 
 #[test]
 fn missing_column_lists_the_columns() {
     let (_d, rules, table) = setup();
-    let out = run(&["check", s(&table), "-r", s(&rules), "--column", "gearbox"], None);
+    let out = run(
+        &["check", s(&table), "-r", s(&rules), "--column", "gearbox"],
+        None,
+    );
     assert_eq!(out.status.code(), Some(2));
     let err = stderr(&out);
     assert!(err.contains("no column named \"gearbox\""), "{err}");
@@ -100,8 +120,15 @@ fn missing_column_lists_the_columns() {
 #[test]
 fn bad_pattern_names_file_rule_line_and_position() {
     let (dir, _r, table) = setup();
-    let rules = write(dir.path(), "broken.toml", "[[count]]\nname = \"gears\"\npattern = '({int}\\s*spd'\n");
-    let out = run(&["check", s(&table), "-r", s(&rules), "-c", "transmission"], None);
+    let rules = write(
+        dir.path(),
+        "broken.toml",
+        "[[count]]\nname = \"gears\"\npattern = '({int}\\s*spd'\n",
+    );
+    let out = run(
+        &["check", s(&table), "-r", s(&rules), "-c", "transmission"],
+        None,
+    );
     assert_eq!(out.status.code(), Some(2));
     let err = stderr(&out);
     assert!(err.contains("broken.toml:2"), "{err}");
@@ -113,11 +140,31 @@ fn bad_pattern_names_file_rule_line_and_position() {
 fn apply_writes_parquet_with_compact_types() {
     let (dir, rules, table) = setup();
     let out_path = dir.path().join("out.parquet");
-    let out = run(&["apply", s(&table), "-r", s(&rules), "-o", s(&out_path)], None);
+    let out = run(
+        &["apply", s(&table), "-r", s(&rules), "-o", s(&out_path)],
+        None,
+    );
     assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
-    assert!(stderr(&out).contains("wrote 7 rows, 3 features"), "{}", stderr(&out));
+    assert!(
+        stderr(&out).contains("wrote 7 rows, 3 features"),
+        "{}",
+        stderr(&out)
+    );
     let csv_path = dir.path().join("out.csv");
-    let out = run(&["apply", s(&table), "-r", s(&rules), "-o", s(&csv_path), "--only-features", "--keep", "id"], None);
+    let out = run(
+        &[
+            "apply",
+            s(&table),
+            "-r",
+            s(&rules),
+            "-o",
+            s(&csv_path),
+            "--only-features",
+            "--keep",
+            "id",
+        ],
+        None,
+    );
     assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
     let text = std::fs::read_to_string(&csv_path).unwrap();
     let lines: Vec<&str> = text.lines().collect();
@@ -132,10 +179,20 @@ fn apply_writes_parquet_with_compact_types() {
 fn failed_apply_keeps_the_existing_output() {
     let (dir, _rules, table) = setup();
     let out_path = write(dir.path(), "out.csv", "previous output\n");
-    let rules = write(dir.path(), "bad.toml", "column = \"transmission\"\n[[flag]]\nname = \"x\"\npattern = '('\n");
-    let out = run(&["apply", s(&table), "-r", s(&rules), "-o", s(&out_path)], None);
+    let rules = write(
+        dir.path(),
+        "bad.toml",
+        "column = \"transmission\"\n[[flag]]\nname = \"x\"\npattern = '('\n",
+    );
+    let out = run(
+        &["apply", s(&table), "-r", s(&rules), "-o", s(&out_path)],
+        None,
+    );
     assert_eq!(out.status.code(), Some(2));
-    assert_eq!(std::fs::read_to_string(&out_path).unwrap(), "previous output\n");
+    assert_eq!(
+        std::fs::read_to_string(&out_path).unwrap(),
+        "previous output\n"
+    );
     let leftovers: Vec<_> = std::fs::read_dir(dir.path())
         .unwrap()
         .filter_map(|e| e.ok())
@@ -148,9 +205,16 @@ fn failed_apply_keeps_the_existing_output() {
 fn output_equal_to_input_is_refused() {
     let (_d, rules, table) = setup();
     let before = std::fs::read(&table).unwrap();
-    let out = run(&["apply", s(&table), "-r", s(&rules), "-o", s(&table)], None);
+    let out = run(
+        &["apply", s(&table), "-r", s(&rules), "-o", s(&table)],
+        None,
+    );
     assert_eq!(out.status.code(), Some(2));
-    assert!(stderr(&out).contains("is also the input"), "{}", stderr(&out));
+    assert!(
+        stderr(&out).contains("is also the input"),
+        "{}",
+        stderr(&out)
+    );
     assert_eq!(std::fs::read(&table).unwrap(), before);
 }
 
@@ -158,7 +222,10 @@ fn output_equal_to_input_is_refused() {
 fn output_in_a_missing_folder_is_an_error() {
     let (dir, rules, table) = setup();
     let target = dir.path().join("nope/out.parquet");
-    let out = run(&["apply", s(&table), "-r", s(&rules), "-o", s(&target)], None);
+    let out = run(
+        &["apply", s(&table), "-r", s(&rules), "-o", s(&target)],
+        None,
+    );
     assert_eq!(out.status.code(), Some(2));
     assert!(stderr(&out).contains("does not exist"), "{}", stderr(&out));
 }
@@ -193,30 +260,86 @@ fn thread_count_does_not_change_the_output() {
     let (dir, rules, table) = setup();
     let one = dir.path().join("one.parquet");
     let many = dir.path().join("many.parquet");
-    run(&["--threads", "1", "apply", s(&table), "-r", s(&rules), "-o", s(&one)], None);
-    run(&["--threads", "2", "apply", s(&table), "-r", s(&rules), "-o", s(&many)], None);
+    run(
+        &[
+            "--threads",
+            "1",
+            "apply",
+            s(&table),
+            "-r",
+            s(&rules),
+            "-o",
+            s(&one),
+        ],
+        None,
+    );
+    run(
+        &[
+            "--threads",
+            "2",
+            "apply",
+            s(&table),
+            "-r",
+            s(&rules),
+            "-o",
+            s(&many),
+        ],
+        None,
+    );
     assert_eq!(std::fs::read(&one).unwrap(), std::fs::read(&many).unwrap());
 }
 
 #[test]
 fn feature_name_colliding_with_an_input_column_is_an_error() {
     let (dir, _r, table) = setup();
-    let rules = write(dir.path(), "c.toml", "column = \"transmission\"\n[[flag]]\nname = \"price\"\nany = [\"x\"]\n");
-    let out = run(&["apply", s(&table), "-r", s(&rules), "-o", s(&dir.path().join("o.csv"))], None);
+    let rules = write(
+        dir.path(),
+        "c.toml",
+        "column = \"transmission\"\n[[flag]]\nname = \"price\"\nany = [\"x\"]\n",
+    );
+    let out = run(
+        &[
+            "apply",
+            s(&table),
+            "-r",
+            s(&rules),
+            "-o",
+            s(&dir.path().join("o.csv")),
+        ],
+        None,
+    );
     assert_eq!(out.status.code(), Some(2));
-    assert!(stderr(&out).contains("which the input already has"), "{}", stderr(&out));
+    assert!(
+        stderr(&out).contains("which the input already has"),
+        "{}",
+        stderr(&out)
+    );
 }
 
 #[test]
 fn numeric_column_of_a_typed_file_is_read_as_text_with_a_note() {
     let (dir, rules, table) = setup();
     let typed = dir.path().join("typed.parquet");
-    let out = run(&["apply", s(&table), "-r", s(&rules), "-o", s(&typed)], None);
+    let out = run(
+        &["apply", s(&table), "-r", s(&rules), "-o", s(&typed)],
+        None,
+    );
     assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
-    let by_price = write(dir.path(), "p.toml", "column = \"price\"\n[[count]]\nname = \"hundreds\"\npattern = '^({int})00$'\n");
-    let out = run(&["check", s(&typed), "-r", s(&by_price), "--format", "json"], None);
+    let by_price = write(
+        dir.path(),
+        "p.toml",
+        "column = \"price\"\n[[count]]\nname = \"hundreds\"\npattern = '^({int})00$'\n",
+    );
+    let out = run(
+        &["check", s(&typed), "-r", s(&by_price), "--format", "json"],
+        None,
+    );
     assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
-    assert!(stderr(&out).contains("column \"price\" holds i64 values; they were read as text"), "{}", stderr(&out));
+    assert!(
+        stderr(&out).contains("column \"price\" holds i64 values; they were read as text"),
+        "{}",
+        stderr(&out)
+    );
     let report: serde_json::Value = serde_json::from_str(&stdout(&out)).unwrap();
     assert_eq!(report["coverage"]["rows_covered"], 7);
 }
@@ -228,8 +351,21 @@ fn streamed_output_is_identical_across_thread_counts_and_batch_sizes() {
     for (threads, batch) in [("1", "500"), ("2", "500"), ("2", "1000000")] {
         let out_path = dir.path().join(format!("t{threads}-b{batch}.csv"));
         let out = run(
-            &["--threads", threads, "apply", s(&sample_csv()), "-r", s(&ruleset("transmission.toml")),
-              "-r", s(&ruleset("engine.toml")), "-o", s(&out_path), "--batch-rows", batch, "--quiet"],
+            &[
+                "--threads",
+                threads,
+                "apply",
+                s(&sample_csv()),
+                "-r",
+                s(&ruleset("transmission.toml")),
+                "-r",
+                s(&ruleset("engine.toml")),
+                "-o",
+                s(&out_path),
+                "--batch-rows",
+                batch,
+                "--quiet",
+            ],
             None,
         );
         assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
@@ -241,11 +377,29 @@ fn streamed_output_is_identical_across_thread_counts_and_batch_sizes() {
         .iter()
         .map(|t| {
             let p = dir.path().join(format!("p{t}.parquet"));
-            run(&["--threads", t, "apply", s(&sample_csv()), "-r", s(&ruleset("engine.toml")), "-o", s(&p), "--batch-rows", "700", "--quiet"], None);
+            run(
+                &[
+                    "--threads",
+                    t,
+                    "apply",
+                    s(&sample_csv()),
+                    "-r",
+                    s(&ruleset("engine.toml")),
+                    "-o",
+                    s(&p),
+                    "--batch-rows",
+                    "700",
+                    "--quiet",
+                ],
+                None,
+            );
             std::fs::read(&p).unwrap()
         })
         .collect();
-    assert_eq!(parquet[0], parquet[1], "Parquet bytes differ between thread counts");
+    assert_eq!(
+        parquet[0], parquet[1],
+        "Parquet bytes differ between thread counts"
+    );
 }
 
 #[test]
@@ -255,21 +409,45 @@ fn every_input_format_reads_the_same_vocabulary() {
         let mut args = vec!["check", s(input), "-r", s(&rules), "--format", "json"];
         args.extend_from_slice(extra);
         let out = run(&args, None);
-        assert_eq!(out.status.code(), Some(0), "{}: {}", input.display(), stderr(&out));
+        assert_eq!(
+            out.status.code(),
+            Some(0),
+            "{}: {}",
+            input.display(),
+            stderr(&out)
+        );
         let r: serde_json::Value = serde_json::from_str(&stdout(&out)).unwrap();
-        (r["rows"].as_u64().unwrap(), r["coverage"]["rows_covered"].as_u64().unwrap())
+        (
+            r["rows"].as_u64().unwrap(),
+            r["coverage"]["rows_covered"].as_u64().unwrap(),
+        )
     };
     let expected = coverage(&table, &[]);
     for ext in ["parquet", "arrow", "feather", "ipc"] {
         let converted = dir.path().join(format!("t.{ext}"));
-        let out = run(&["apply", s(&table), "-r", s(&rules), "-o", s(&converted), "--quiet"], None);
+        let out = run(
+            &[
+                "apply",
+                s(&table),
+                "-r",
+                s(&rules),
+                "-o",
+                s(&converted),
+                "--quiet",
+            ],
+            None,
+        );
         assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
         assert_eq!(coverage(&converted, &[]), expected, "{ext}");
     }
     let tsv = write(dir.path(), "t.tsv", &TABLE.replace(',', "\t"));
     assert_eq!(coverage(&tsv, &[]), expected, "tsv");
     let semi = write(dir.path(), "t.txt", &TABLE.replace(',', ";"));
-    assert_eq!(coverage(&semi, &["--delimiter", ";"]), expected, "--delimiter");
+    assert_eq!(
+        coverage(&semi, &["--delimiter", ";"]),
+        expected,
+        "--delimiter"
+    );
     let ndjson = write(
         dir.path(),
         "t.ndjson",
@@ -284,18 +462,44 @@ fn every_input_format_reads_the_same_vocabulary() {
 fn drop_source_leaves_the_described_column_out() {
     let (dir, rules, table) = setup();
     let out_path = dir.path().join("dropped.csv");
-    let out = run(&["apply", s(&table), "-r", s(&rules), "-o", s(&out_path), "--drop-source"], None);
+    let out = run(
+        &[
+            "apply",
+            s(&table),
+            "-r",
+            s(&rules),
+            "-o",
+            s(&out_path),
+            "--drop-source",
+        ],
+        None,
+    );
     assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
     let text = std::fs::read_to_string(&out_path).unwrap();
-    assert_eq!(text.lines().next().unwrap(), "id,price,tx_gears,tx_shuttle,tx_kind");
+    assert_eq!(
+        text.lines().next().unwrap(),
+        "id,price,tx_gears,tx_shuttle,tx_kind"
+    );
 }
 
 #[test]
 fn help_teaches_with_the_long_usage_text() {
-    for (command, phrase) in [("check", "Exit codes"), ("apply", "Enum (dictionary-encoded)"), ("explain", "debug a rule"), ("sample", "seeded")] {
+    for (command, phrase) in [
+        ("check", "Exit codes"),
+        ("apply", "Enum (dictionary-encoded)"),
+        ("explain", "debug a rule"),
+        ("sample", "seeded"),
+    ] {
         let out = run(&[command, "--help"], None);
         assert_eq!(out.status.code(), Some(0));
-        assert!(stdout(&out).contains(phrase), "descry {command} --help lacks {phrase:?}:\n{}", stdout(&out));
-        assert!(stdout(&out).contains("Memory") || command == "explain", "descry {command} --help states its memory cost");
+        assert!(
+            stdout(&out).contains(phrase),
+            "descry {command} --help lacks {phrase:?}:\n{}",
+            stdout(&out)
+        );
+        assert!(
+            stdout(&out).contains("Memory") || command == "explain",
+            "descry {command} --help states its memory cost"
+        );
     }
 }

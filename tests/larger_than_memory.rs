@@ -37,15 +37,27 @@ impl MemoryCap {
         if dir.join("memory.swap.max").exists() {
             let _ = std::fs::write(dir.join("memory.swap.max"), "0");
         }
-        MemoryCap { procs: dir.join("cgroup.procs"), dir }
+        MemoryCap {
+            procs: dir.join("cgroup.procs"),
+            dir,
+        }
     }
 
     /// Run descry inside the cgroup.
     fn run(&self, args: &[&str]) -> std::process::Output {
         let bin = assert_cmd::cargo::cargo_bin("descry");
         let quoted: Vec<String> = args.iter().map(|a| format!("'{a}'")).collect();
-        let script = format!("echo $$ > {} && exec {} {}", self.procs.display(), bin.display(), quoted.join(" "));
-        Command::new("sh").args(["-c", &script]).env("RUST_BACKTRACE", "1").output().unwrap()
+        let script = format!(
+            "echo $$ > {} && exec {} {}",
+            self.procs.display(),
+            bin.display(),
+            quoted.join(" ")
+        );
+        Command::new("sh")
+            .args(["-c", &script])
+            .env("RUST_BACKTRACE", "1")
+            .output()
+            .unwrap()
     }
 }
 
@@ -64,8 +76,17 @@ fn big_csv(dir: &Path) -> PathBuf {
     let kinds = ["auto", "manual", "powershift", "cvt"];
     for i in 0..ROWS {
         let x = i.wrapping_mul(2_654_435_761) % 2_200;
-        let spelling = format!("{} spd {} {}", 3 + x % 22, kinds[(x / 22 % 4) as usize], x / 88);
-        writeln!(w, "{i},{spelling},lorem ipsum dolor sit amet consectetur lorem ipsum dolor sit amet {i}").unwrap();
+        let spelling = format!(
+            "{} spd {} {}",
+            3 + x % 22,
+            kinds[(x / 22 % 4) as usize],
+            x / 88
+        );
+        writeln!(
+            w,
+            "{i},{spelling},lorem ipsum dolor sit amet consectetur lorem ipsum dolor sit amet {i}"
+        )
+        .unwrap();
     }
     w.flush().unwrap();
     // Clean pages only: the test's own unwritten data must not press on the
@@ -75,7 +96,9 @@ fn big_csv(dir: &Path) -> PathBuf {
 }
 
 fn read_parquet(path: &Path) -> DataFrame {
-    ParquetReader::new(std::fs::File::open(path).unwrap()).finish().unwrap()
+    ParquetReader::new(std::fs::File::open(path).unwrap())
+        .finish()
+        .unwrap()
 }
 
 #[test]
@@ -94,19 +117,61 @@ fn apply_streams_a_file_three_times_larger_than_its_memory_cap() {
     println!("input {size} bytes, memory cap {} bytes", size / 3);
 
     let streamed = dir.path().join("streamed.parquet");
-    let out = cap.run(&["apply", s(&input), "-r", s(&rules), "-o", s(&streamed), "--batch-rows", "32768", "--quiet"]);
+    let out = cap.run(&[
+        "apply",
+        s(&input),
+        "-r",
+        s(&rules),
+        "-o",
+        s(&streamed),
+        "--batch-rows",
+        "32768",
+        "--quiet",
+    ]);
     assert_no_panic(&out);
-    assert!(out.status.success(), "streaming apply under the cap failed: {:?}\n{}", out.status, stderr(&out));
+    assert!(
+        out.status.success(),
+        "streaming apply under the cap failed: {:?}\n{}",
+        out.status,
+        stderr(&out)
+    );
 
     let squeezed = dir.path().join("squeezed.parquet");
-    let out = cap.run(&["apply", s(&input), "-r", s(&rules), "-o", s(&squeezed), "--in-memory", "--quiet"]);
-    assert!(!out.status.success(), "the in-memory path fit under the cap: the cap proves nothing");
+    let out = cap.run(&[
+        "apply",
+        s(&input),
+        "-r",
+        s(&rules),
+        "-o",
+        s(&squeezed),
+        "--in-memory",
+        "--quiet",
+    ]);
+    assert!(
+        !out.status.success(),
+        "the in-memory path fit under the cap: the cap proves nothing"
+    );
     assert!(!squeezed.exists(), "a killed run leaves no output");
 
     let whole = dir.path().join("whole.parquet");
-    let out = run(&["apply", s(&input), "-r", s(&rules), "-o", s(&whole), "--in-memory", "--quiet"], None);
+    let out = run(
+        &[
+            "apply",
+            s(&input),
+            "-r",
+            s(&rules),
+            "-o",
+            s(&whole),
+            "--in-memory",
+            "--quiet",
+        ],
+        None,
+    );
     assert!(out.status.success(), "{}", stderr(&out));
     let (a, b) = (read_parquet(&streamed), read_parquet(&whole));
     assert_eq!(a.height() as u64, ROWS);
-    assert!(a.equals_missing(&b), "the streamed output differs from the in-memory output");
+    assert!(
+        a.equals_missing(&b),
+        "the streamed output differs from the in-memory output"
+    );
 }

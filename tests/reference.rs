@@ -57,7 +57,12 @@ fn expected_types(rules: &Ruleset) -> BTreeMap<String, serde_json::Value> {
 fn pyarrow_and_pandas_read_the_compact_types() {
     let dir = TempDir::new().unwrap();
     let out_path = dir.path().join("features.parquet");
-    let mut args = vec!["apply".to_owned(), s(&sample_csv()).to_owned(), "-o".into(), s(&out_path).into()];
+    let mut args = vec![
+        "apply".to_owned(),
+        s(&sample_csv()).to_owned(),
+        "-o".into(),
+        s(&out_path).into(),
+    ];
     let mut expect = BTreeMap::new();
     for name in DEMO_RULESETS {
         args.push("-r".into());
@@ -67,17 +72,28 @@ fn pyarrow_and_pandas_read_the_compact_types() {
     let args: Vec<&str> = args.iter().map(String::as_str).collect();
     let out = run(&args, None);
     assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
-    let expect_path = write(dir.path(), "expect.json", &serde_json::to_string(&expect).unwrap());
+    let expect_path = write(
+        dir.path(),
+        "expect.json",
+        &serde_json::to_string(&expect).unwrap(),
+    );
     let report = run_python("parquet_types.py", &[s(&out_path), s(&expect_path)]);
     assert!(report.contains("ok "), "{report}");
 }
 
 /// The normalized distinct values of a ruleset's column in the sample.
 fn sample_values(rules: &Ruleset) -> Vec<(String, String)> {
-    let column = rules.column.clone().expect("demo rulesets name their column");
+    let column = rules
+        .column
+        .clone()
+        .expect("demo rulesets name their column");
     let table = Table::read_columns(&sample_csv(), &[&column], &ReadOptions::default()).unwrap();
     let vocab = Vocabulary::build(table.text(&column).unwrap().iter());
-    vocab.values.iter().map(|v| (v.clone(), rules.normalizer.apply(v))).collect()
+    vocab
+        .values
+        .iter()
+        .map(|v| (v.clone(), rules.normalizer.apply(v)))
+        .collect()
 }
 
 fn patterns(rules: &Ruleset) -> Vec<(String, &Pattern)> {
@@ -119,16 +135,30 @@ fn python_re_agrees_with_descry_on_every_distinct_value() {
                 .zip(&values)
                 .map(|(f, v)| {
                     f.as_ref()
-                        .map(|f| f.groups.iter().map(|g| g.clone().map(|r| v[r].to_owned())).collect())
+                        .map(|f| {
+                            f.groups
+                                .iter()
+                                .map(|g| g.clone().map(|r| v[r].to_owned()))
+                                .collect()
+                        })
                         .unwrap_or_default()
                 })
                 .collect();
-            cases.push(json!({"rule": rule, "pattern": pattern.expanded(), "values": values,
-                              "matched": matched, "groups": groups}));
+            cases.push(
+                json!({"rule": rule, "pattern": pattern.expanded(), "values": values,
+                              "matched": matched, "groups": groups}),
+            );
         }
     }
-    assert!(cases.len() >= 4, "the demo rulesets have patterns to compare");
-    let path = write(dir.path(), "cases.json", &serde_json::to_string(&cases).unwrap());
+    assert!(
+        cases.len() >= 4,
+        "the demo rulesets have patterns to compare"
+    );
+    let path = write(
+        dir.path(),
+        "cases.json",
+        &serde_json::to_string(&cases).unwrap(),
+    );
     let report = run_python("regex_agreement.py", &[s(&path)]);
     assert!(report.contains(" 0 disagreements"), "{report}");
 }
@@ -148,10 +178,20 @@ fn python_unicodedata_nfkc_agrees_with_descry_normalization() {
     }
     // Unicode Standard Annex #15 compatibility examples, beside the sample's values.
     let n = descry::Normalizer::default();
-    for v in ["\u{fb01}lter", "\u{ff16}\u{a0}SPD", "\u{2460} cyl", "4\u{2007}L", "\u{bd} in"] {
+    for v in [
+        "\u{fb01}lter",
+        "\u{ff16}\u{a0}SPD",
+        "\u{2460} cyl",
+        "4\u{2007}L",
+        "\u{bd} in",
+    ] {
         pairs.push(json!({"value": v, "normalized": n.apply(v)}));
     }
-    let path = write(dir.path(), "pairs.json", &serde_json::to_string(&pairs).unwrap());
+    let path = write(
+        dir.path(),
+        "pairs.json",
+        &serde_json::to_string(&pairs).unwrap(),
+    );
     let report = run_python("normalization.py", &[s(&path)]);
     assert!(report.contains(" 0 disagreements"), "{report}");
 }

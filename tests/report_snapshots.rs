@@ -7,7 +7,17 @@ mod common;
 use common::*;
 
 fn check(ruleset_name: &str, format: &str) -> String {
-    let out = run(&["check", s(&sample_csv()), "-r", &format!("rulesets/{ruleset_name}"), "--format", format], Some(&root()));
+    let out = run(
+        &[
+            "check",
+            s(&sample_csv()),
+            "-r",
+            &format!("rulesets/{ruleset_name}"),
+            "--format",
+            format,
+        ],
+        Some(&root()),
+    );
     assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
     stdout(&out)
 }
@@ -31,7 +41,14 @@ fn check_json_engine() {
 #[test]
 fn explain_text_engine() {
     let out = run(
-        &["explain", "-r", "rulesets/engine.toml", "4 cyl Turbo Diesel 4.5L 120hp", "V8 gas 5.7 L", "３cyl\u{a0}dsl 1,800cc 37 kW"],
+        &[
+            "explain",
+            "-r",
+            "rulesets/engine.toml",
+            "4 cyl Turbo Diesel 4.5L 120hp",
+            "V8 gas 5.7 L",
+            "３cyl\u{a0}dsl 1,800cc 37 kW",
+        ],
         Some(&root()),
     );
     assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
@@ -40,7 +57,17 @@ fn explain_text_engine() {
 
 #[test]
 fn explain_json_transmission() {
-    let out = run(&["explain", "-r", "rulesets/transmission.toml", "--format", "json", "16x16 powershift w/ creeper"], Some(&root()));
+    let out = run(
+        &[
+            "explain",
+            "-r",
+            "rulesets/transmission.toml",
+            "--format",
+            "json",
+            "16x16 powershift w/ creeper",
+        ],
+        Some(&root()),
+    );
     assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
     let v: serde_json::Value = serde_json::from_str(&stdout(&out)).unwrap();
     insta::assert_json_snapshot!(v);

@@ -9,7 +9,10 @@ use descry::{Ruleset, RulesetError};
 /// The ```toml block under "A complete example" in rulesets/README.md.
 fn documented_example() -> String {
     let doc = std::fs::read_to_string(common::root().join("rulesets/README.md")).unwrap();
-    let section = doc.split("## A complete example").nth(1).expect("section exists");
+    let section = doc
+        .split("## A complete example")
+        .nth(1)
+        .expect("section exists");
     let body = section.split("```toml").nth(1).expect("toml block");
     body.split("```").next().unwrap().to_owned()
 }
@@ -18,7 +21,16 @@ fn documented_example() -> String {
 fn the_documented_example_loads_and_its_examples_pass() {
     let rules = Ruleset::from_toml(&documented_example(), "rulesets/README.md").unwrap();
     let names: Vec<&str> = rules.features.iter().map(|f| f.output.as_str()).collect();
-    assert_eq!(names, ["eng_turbo", "eng_cylinders", "eng_displacement_l", "eng_power_hp", "eng_fuel"]);
+    assert_eq!(
+        names,
+        [
+            "eng_turbo",
+            "eng_cylinders",
+            "eng_displacement_l",
+            "eng_power_hp",
+            "eng_fuel"
+        ]
+    );
     let vocab = descry::Vocabulary::build([Some("x")]);
     let eval = rules.evaluate_all(&vocab.values);
     let report = descry::CoverageReport::build(&rules, "engine", &vocab, &eval);
@@ -64,14 +76,31 @@ fn empty_name_is_refused() {
 
 #[test]
 fn duplicate_output_names_are_refused() {
-    let e = error("[[flag]]\nname = \"a\"\nany = [\"x\"]\n[[count]]\nname = \"a\"\npattern = '({int})'\n");
-    shows(&e, &["bad.toml:5", "[[count]] \"a\"", "already made by [[flag]] \"a\" on line 2"]);
+    let e = error(
+        "[[flag]]\nname = \"a\"\nany = [\"x\"]\n[[count]]\nname = \"a\"\npattern = '({int})'\n",
+    );
+    shows(
+        &e,
+        &[
+            "bad.toml:5",
+            "[[count]] \"a\"",
+            "already made by [[flag]] \"a\" on line 2",
+        ],
+    );
 }
 
 #[test]
 fn invalid_pattern_points_at_the_position() {
     let e = error("[[flag]]\nname = \"a\"\npattern = 'ab[c'\n");
-    shows(&e, &["bad.toml:2", "[[flag]] \"a\"", "pattern position 2", "ab[c\n      ^"]);
+    shows(
+        &e,
+        &[
+            "bad.toml:2",
+            "[[flag]] \"a\"",
+            "pattern position 2",
+            "ab[c\n      ^",
+        ],
+    );
 }
 
 #[test]
@@ -79,13 +108,28 @@ fn a_pattern_that_fails_only_under_fancy_regex() {
     // `\\pN` is a Unicode class that the regex crate accepts and fancy-regex's parser rejects... or accepts;
     // what matters is that a fancy parse error is reported with its position.
     let e = error("[[flag]]\nname = \"a\"\nfancy = true\npattern = 'ab(?<=x+)c('\n");
-    shows(&e, &["[[flag]] \"a\"", "invalid fancy pattern", "pattern position"]);
+    shows(
+        &e,
+        &[
+            "[[flag]] \"a\"",
+            "invalid fancy pattern",
+            "pattern position",
+        ],
+    );
 }
 
 #[test]
 fn number_macro_outside_a_group_is_refused() {
     let e = error("[[count]]\nname = \"c\"\npattern = '{num}\\s*l'\n");
-    shows(&e, &["[[count]] \"c\"", "not inside a capture group", "pattern position 0", "({num})"]);
+    shows(
+        &e,
+        &[
+            "[[count]] \"c\"",
+            "not inside a capture group",
+            "pattern position 0",
+            "({num})",
+        ],
+    );
 }
 
 #[test]
@@ -103,12 +147,17 @@ fn label_case_without_label_is_refused() {
 #[test]
 fn example_naming_an_unknown_feature_is_refused() {
     let e = error("[[flag]]\nname = \"a\"\nany = [\"x\"]\n[[example]]\nvalue = \"x\"\nexpect = { b = true }\n");
-    shows(&e, &["bad.toml:5", "unknown feature \"b\"", "the features are: a"]);
+    shows(
+        &e,
+        &["bad.toml:5", "unknown feature \"b\"", "the features are: a"],
+    );
 }
 
 #[test]
 fn example_value_of_the_wrong_type_is_refused() {
-    let e = error("[[flag]]\nname = \"a\"\nany = [\"x\"]\n[[example]]\nvalue = \"x\"\nexpect = { a = 3 }\n");
+    let e = error(
+        "[[flag]]\nname = \"a\"\nany = [\"x\"]\n[[example]]\nvalue = \"x\"\nexpect = { a = 3 }\n",
+    );
     shows(&e, &["does not fit a flag rule"]);
 }
 

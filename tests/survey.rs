@@ -20,7 +20,17 @@ fn survey_json(args: &[&str]) -> serde_json::Value {
 #[test]
 fn snapshots_of_the_sample_columns() {
     for column in ["transmission", "engine", "part_no"] {
-        let out = run(&["survey", "samples/listings.csv", "--column", column, "--top", "12"], Some(&root()));
+        let out = run(
+            &[
+                "survey",
+                "samples/listings.csv",
+                "--column",
+                column,
+                "--top",
+                "12",
+            ],
+            Some(&root()),
+        );
         assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
         insta::assert_snapshot!(format!("survey_text_{column}"), stdout(&out));
     }
@@ -33,7 +43,9 @@ fn snapshots_of_the_sample_columns() {
 #[test]
 fn gaps_agree_with_the_generators_truth() {
     for column in ["transmission", "engine", "part_no"] {
-        let truth = std::fs::read_to_string(root().join("samples/truth").join(format!("{column}.csv"))).unwrap();
+        let truth =
+            std::fs::read_to_string(root().join("samples/truth").join(format!("{column}.csv")))
+                .unwrap();
         let (mut gap_rows, mut rows) = (0u64, 0u64);
         for line in truth.lines().skip(1) {
             let fields: Vec<&str> = line.rsplitn(3, ',').collect(); // rows, placeholder, rest
@@ -47,8 +59,16 @@ fn gaps_agree_with_the_generators_truth() {
         let blank = r["blank"]["rows"].as_u64().unwrap();
         let placeholders = r["placeholders"]["rows"].as_u64().unwrap();
         let nulls = r["null_rows"].as_u64().unwrap();
-        assert_eq!(r["rows"].as_u64().unwrap(), rows + nulls, "{column}: the truth lists every non-null row");
-        assert_eq!(blank + placeholders, gap_rows, "{column}: blanks and placeholders");
+        assert_eq!(
+            r["rows"].as_u64().unwrap(),
+            rows + nulls,
+            "{column}: the truth lists every non-null row"
+        );
+        assert_eq!(
+            blank + placeholders,
+            gap_rows,
+            "{column}: blanks and placeholders"
+        );
     }
 }
 
@@ -64,7 +84,14 @@ fn survey_of_a_small_table() {
     assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
     let r: serde_json::Value = serde_json::from_str(&stdout(&out)).unwrap();
     assert_eq!(r["schema"], "descry.survey/1");
-    assert_eq!((r["rows"].as_u64(), r["null_rows"].as_u64(), r["distinct"].as_u64()), (Some(9), Some(1), Some(7)));
+    assert_eq!(
+        (
+            r["rows"].as_u64(),
+            r["null_rows"].as_u64(),
+            r["distinct"].as_u64()
+        ),
+        (Some(9), Some(1), Some(7))
+    );
     assert_eq!(r["blank"]["rows"], 1);
     assert_eq!(r["placeholders"]["values"][0]["value"], "n/a");
     assert_eq!(r["top_values"][0]["value"], "6 spd auto");
@@ -77,9 +104,24 @@ fn survey_of_a_small_table() {
         .map(|a| (a["kind"].as_str().unwrap(), a["distinct"].as_u64().unwrap()))
         .filter(|(_, n)| *n > 0)
         .collect();
-    assert_eq!(kinds, [("trailing-space", 1), ("case-variants", 2), ("punctuation-variants", 3)]);
-    let spd = r["tokens"].as_array().unwrap().iter().find(|t| t["token"] == "spd").unwrap();
-    assert_eq!((spd["distinct"].as_u64(), spd["rows"].as_u64()), (Some(3), Some(4)));
+    assert_eq!(
+        kinds,
+        [
+            ("trailing-space", 1),
+            ("case-variants", 2),
+            ("punctuation-variants", 3)
+        ]
+    );
+    let spd = r["tokens"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|t| t["token"] == "spd")
+        .unwrap();
+    assert_eq!(
+        (spd["distinct"].as_u64(), spd["rows"].as_u64()),
+        (Some(3), Some(4))
+    );
 }
 
 #[test]
@@ -96,7 +138,10 @@ fn placeholders_are_configurable() {
     };
     assert_eq!(r(&[]), 1);
     assert_eq!(r(&["--placeholder", "See Notes"]), 2);
-    assert_eq!(r(&["--no-default-placeholders", "--placeholder", "see notes"]), 1);
+    assert_eq!(
+        r(&["--no-default-placeholders", "--placeholder", "see notes"]),
+        1
+    );
 }
 
 #[test]
@@ -105,9 +150,15 @@ fn help_lists_the_default_placeholders_and_states_memory() {
     let help = stdout(&out).replace('\n', " ");
     let help = help.split_whitespace().collect::<Vec<_>>().join(" ");
     for p in DEFAULT_PLACEHOLDERS {
-        assert!(help.contains(&format!(" {p},")) || help.contains(&format!(" {p};")), "{p} missing from the help");
+        assert!(
+            help.contains(&format!(" {p},")) || help.contains(&format!(" {p};")),
+            "{p} missing from the help"
+        );
     }
-    assert!(help.contains("Memory:") && help.contains("Example:"), "{help}");
+    assert!(
+        help.contains("Memory:") && help.contains("Example:"),
+        "{help}"
+    );
 }
 
 #[test]
@@ -116,7 +167,11 @@ fn errors_name_the_problem_and_exit_2() {
     let t = write(dir.path(), "t.csv", "a,b\n1,2\n");
     let out = run(&["survey", s(&t), "-c", "nope"], None);
     assert_eq!(out.status.code(), Some(2));
-    assert!(stderr(&out).contains("no column named \"nope\"") && stderr(&out).contains("a, b"), "{}", stderr(&out));
+    assert!(
+        stderr(&out).contains("no column named \"nope\"") && stderr(&out).contains("a, b"),
+        "{}",
+        stderr(&out)
+    );
     let out = run(&["survey", "nowhere.csv", "-c", "a"], Some(dir.path()));
     assert_eq!(out.status.code(), Some(2));
     assert!(stderr(&out).contains("nowhere.csv"), "{}", stderr(&out));

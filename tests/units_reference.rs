@@ -23,7 +23,9 @@ fn reference(target: &str, spelling: &str) -> Option<(f64, &'static str)> {
         // The litre is 1 dm³ (SI Brochure, 9th ed., Table 8), so 1 cm³ = 0.001 L.
         ("l", "l" | "litre" | "litres" | "liter" | "liters" | "ltr") => (1.0, "SI: the litre"),
         ("l", "cc") => (0.001, "SI: 1 cm³ = 10⁻³ dm³"),
-        ("l", "ci" | "cid" | "cu" | "cu in" | "cu. in" | "cuin") => (CUBIC_INCH_L, "NIST SP 811 B.8 cubic inch"),
+        ("l", "ci" | "cid" | "cu" | "cu in" | "cu. in" | "cuin") => {
+            (CUBIC_INCH_L, "NIST SP 811 B.8 cubic inch")
+        }
         ("hp", "hp" | "bhp") => (1.0, "same unit"),
         ("hp", "kw") => (1000.0 / HP_W, "NIST SP 811 B.8 horsepower (550 ft·lbf/s)"),
         ("km/h", "km/h" | "kph" | "kmh") => (1.0, "same unit"),
@@ -50,10 +52,18 @@ fn demo_ruleset_unit_factors_match_nist_sp_811() {
         for f in &rules.features {
             let Rule::Measure(m) = &f.rule else { continue };
             for (spelling, factor) in &m.units {
-                let (want, source) = reference(&m.unit, spelling)
-                    .unwrap_or_else(|| panic!("{name} {}: no reference for unit {spelling:?} -> {:?}", f.output, m.unit));
+                let (want, source) = reference(&m.unit, spelling).unwrap_or_else(|| {
+                    panic!(
+                        "{name} {}: no reference for unit {spelling:?} -> {:?}",
+                        f.output, m.unit
+                    )
+                });
                 let rel = (factor - want).abs() / want;
-                assert!(rel < 1e-9, "{name} {}: {spelling} = {factor}, {source} gives {want}", f.output);
+                assert!(
+                    rel < 1e-9,
+                    "{name} {}: {spelling} = {factor}, {source} gives {want}",
+                    f.output
+                );
                 checked += 1;
             }
         }

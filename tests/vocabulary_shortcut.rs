@@ -7,8 +7,10 @@ use descry::{encode, Ruleset, Vocabulary};
 use polars::prelude::*;
 use proptest::prelude::*;
 
-const TOKENS: &[&str] =
-    &["6", "12", "spd", "Speed", "auto", "MANUAL", "turbo", "4.5L", "1,800cc", "cyl", "-", "  ", "\u{a0}", "ｖ8", "x"];
+const TOKENS: &[&str] = &[
+    "6", "12", "spd", "Speed", "auto", "MANUAL", "turbo", "4.5L", "1,800cc", "cyl", "-", "  ",
+    "\u{a0}", "ｖ8", "x",
+];
 
 const RULE_POOL: &[&str] = &[
     "[[flag]]\nname = 'f_auto'\nany = ['auto', 'automatic']\n",
@@ -28,29 +30,47 @@ fn row_strategy() -> impl Strategy<Value = Option<String>> {
 }
 
 fn ruleset_strategy() -> impl Strategy<Value = Ruleset> {
-    prop::sample::subsequence(RULE_POOL, 1..=RULE_POOL.len())
-        .prop_map(|rules| Ruleset::from_toml(&rules.concat(), "<property>").expect("pool rules compile"))
+    prop::sample::subsequence(RULE_POOL, 1..=RULE_POOL.len()).prop_map(|rules| {
+        Ruleset::from_toml(&rules.concat(), "<property>").expect("pool rules compile")
+    })
 }
 
 /// A feature column's row values as comparable cells.
 fn column_cells(rules: &Ruleset, i: usize, col: &Column) -> Vec<Cell> {
     let s = col.as_materialized_series();
     match &rules.features[i].rule {
-        Rule::Flag(_) => s.bool().unwrap().iter().map(|v| v.map_or(Cell::Null, Cell::Bool)).collect(),
+        Rule::Flag(_) => s
+            .bool()
+            .unwrap()
+            .iter()
+            .map(|v| v.map_or(Cell::Null, Cell::Bool))
+            .collect(),
         Rule::Count(_) => {
             let s = s.cast(&DataType::Int64).unwrap();
-            s.i64().unwrap().iter().map(|v| v.map_or(Cell::Null, Cell::Int)).collect()
+            s.i64()
+                .unwrap()
+                .iter()
+                .map(|v| v.map_or(Cell::Null, Cell::Int))
+                .collect()
         }
         Rule::Measure(_) => {
             let s = s.cast(&DataType::Float64).unwrap();
-            s.f64().unwrap().iter().map(|v| v.map_or(Cell::Null, Cell::Float)).collect()
+            s.f64()
+                .unwrap()
+                .iter()
+                .map(|v| v.map_or(Cell::Null, Cell::Float))
+                .collect()
         }
         Rule::Label(l) => {
             let s = s.cast(&DataType::String).unwrap();
             s.str()
                 .unwrap()
                 .iter()
-                .map(|v| v.map_or(Cell::Null, |t| Cell::Label(l.categories.iter().position(|c| c == t).unwrap() as u32)))
+                .map(|v| {
+                    v.map_or(Cell::Null, |t| {
+                        Cell::Label(l.categories.iter().position(|c| c == t).unwrap() as u32)
+                    })
+                })
                 .collect()
         }
     }

@@ -37,7 +37,11 @@ pub fn osa(a: &str, b: &str) -> usize {
 /// Jaro-Winkler similarity with prefix scale [`PREFIX_WEIGHT`], the bonus
 /// applied above a Jaro similarity of [`BOOST_THRESHOLD`].
 pub fn jaro_winkler(a: &str, b: &str) -> f64 {
-    rf_jw::similarity_with_args(a.chars(), b.chars(), &rf_jw::Args::default().prefix_weight(PREFIX_WEIGHT))
+    rf_jw::similarity_with_args(
+        a.chars(),
+        b.chars(),
+        &rf_jw::Args::default().prefix_weight(PREFIX_WEIGHT),
+    )
 }
 
 /// Jaccard similarity of the sets of character q-grams: shared q-grams over
@@ -56,7 +60,11 @@ pub fn qgram_jaccard(a: &str, b: &str, q: usize) -> f64 {
 /// The distinct q-grams of a value (shorter than `q`: the value itself),
 /// in no particular order.
 pub fn qgram_set(chars: &[char], q: usize) -> Vec<&[char]> {
-    let mut grams: Vec<&[char]> = if chars.len() < q { vec![chars] } else { chars.windows(q).collect() };
+    let mut grams: Vec<&[char]> = if chars.len() < q {
+        vec![chars]
+    } else {
+        chars.windows(q).collect()
+    };
     grams.sort_unstable();
     grams.dedup();
     grams
@@ -114,8 +122,12 @@ impl Comparator {
     pub fn distance_within(&self, b: &[char], max: usize) -> Option<usize> {
         let b = b.iter().copied();
         match self {
-            Comparator::Levenshtein(c) => c.distance_with_args(b, &rf_lev::Args::default().score_cutoff(max)),
-            Comparator::Osa(c) => c.distance_with_args(b, &rf_osa::Args::default().score_cutoff(max)),
+            Comparator::Levenshtein(c) => {
+                c.distance_with_args(b, &rf_lev::Args::default().score_cutoff(max))
+            }
+            Comparator::Osa(c) => {
+                c.distance_with_args(b, &rf_osa::Args::default().score_cutoff(max))
+            }
             Comparator::JaroWinkler(_) => unreachable!("Jaro-Winkler is a similarity"),
         }
     }
@@ -125,7 +137,9 @@ impl Comparator {
         match self {
             Comparator::JaroWinkler(c) => c.similarity_with_args(
                 b.iter().copied(),
-                &rf_jw::Args::default().prefix_weight(PREFIX_WEIGHT).score_cutoff(min),
+                &rf_jw::Args::default()
+                    .prefix_weight(PREFIX_WEIGHT)
+                    .score_cutoff(min),
             ),
             _ => unreachable!("edit distances are distances"),
         }
@@ -187,10 +201,18 @@ mod tests {
     fn comparators_agree_with_the_plain_functions() {
         let a: Vec<char> = "6 spd auto".chars().collect();
         let b: Vec<char> = "6 sdp atuo".chars().collect();
-        assert_eq!(Comparator::levenshtein(&a).distance_within(&b, 9), Some(levenshtein("6 spd auto", "6 sdp atuo")));
-        assert_eq!(Comparator::osa(&a).distance_within(&b, 9), Some(osa("6 spd auto", "6 sdp atuo")));
+        assert_eq!(
+            Comparator::levenshtein(&a).distance_within(&b, 9),
+            Some(levenshtein("6 spd auto", "6 sdp atuo"))
+        );
+        assert_eq!(
+            Comparator::osa(&a).distance_within(&b, 9),
+            Some(osa("6 spd auto", "6 sdp atuo"))
+        );
         assert_eq!(Comparator::osa(&a).distance_within(&b, 1), None);
-        let jw = Comparator::jaro_winkler(&a).similarity_at_least(&b, 0.0).unwrap();
+        let jw = Comparator::jaro_winkler(&a)
+            .similarity_at_least(&b, 0.0)
+            .unwrap();
         assert!((jw - jaro_winkler("6 spd auto", "6 sdp atuo")).abs() < 1e-15);
     }
 }

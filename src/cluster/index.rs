@@ -137,11 +137,17 @@ pub fn all_pairs(values: &[Vec<char>], method: &Fuzzy) -> Found {
                 found.compared += 1;
                 let score = match (&cmp, method) {
                     (Some(c), _) => method.verify(c, &values[a], &values[b]),
-                    (None, Fuzzy::QGram { min_similarity, .. }) => jaccard_at_least(&grams[a], &grams[b], *min_similarity),
+                    (None, Fuzzy::QGram { min_similarity, .. }) => {
+                        jaccard_at_least(&grams[a], &grams[b], *min_similarity)
+                    }
                     (None, _) => unreachable!("every other method has a comparator"),
                 };
                 if let Some(score) = score {
-                    found.edges.push(Edge { a: a as u32, b: b as u32, score });
+                    found.edges.push(Edge {
+                        a: a as u32,
+                        b: b as u32,
+                        score,
+                    });
                 }
             }
             found
@@ -164,7 +170,11 @@ pub(crate) fn merge(parts: Vec<Found>) -> Found {
 fn jaccard_at_least(a: &[u32], b: &[u32], min: f64) -> Option<f64> {
     let shared = intersection_size(a, b);
     let union = a.len() + b.len() - shared;
-    let j = if union == 0 { 1.0 } else { shared as f64 / union as f64 };
+    let j = if union == 0 {
+        1.0
+    } else {
+        shared as f64 / union as f64
+    };
     (j >= min).then_some(j)
 }
 
@@ -190,7 +200,11 @@ impl GramTable {
         let mut freq: Vec<u32> = Vec::new();
         let mut raw: Vec<Vec<(u32, u16)>> = Vec::with_capacity(values.len());
         for v in values {
-            let windows: Vec<&[char]> = if v.len() < q { vec![&v[..]] } else { v.windows(q).collect() };
+            let windows: Vec<&[char]> = if v.len() < q {
+                vec![&v[..]]
+            } else {
+                v.windows(q).collect()
+            };
             let mut grams = Vec::with_capacity(windows.len());
             for (pos, w) in windows.into_iter().enumerate() {
                 let next = ids.len() as u32;
@@ -213,7 +227,10 @@ impl GramTable {
         let grams: Vec<Vec<(u32, u16)>> = raw
             .into_iter()
             .map(|g| {
-                let mut g: Vec<(u32, u16)> = g.into_iter().map(|(id, pos)| (rank[id as usize], pos)).collect();
+                let mut g: Vec<(u32, u16)> = g
+                    .into_iter()
+                    .map(|(id, pos)| (rank[id as usize], pos))
+                    .collect();
                 g.sort_unstable();
                 g
             })
@@ -226,7 +243,11 @@ impl GramTable {
                 s
             })
             .collect();
-        GramTable { grams, sets, distinct: freq.len() }
+        GramTable {
+            grams,
+            sets,
+            distinct: freq.len(),
+        }
     }
 
     /// For every rank, the values holding it (ascending) with the position.
@@ -247,7 +268,11 @@ impl GramTable {
     /// Like [`GramTable::postings`], but each value is entered only under the
     /// first `prefix(value)` of its q-grams (rarest first): `distinct` counts
     /// distinct q-grams, otherwise occurrences.
-    fn prefix_postings(&self, prefix: impl Fn(usize) -> usize, distinct: bool) -> Vec<Vec<(u32, u16)>> {
+    fn prefix_postings(
+        &self,
+        prefix: impl Fn(usize) -> usize,
+        distinct: bool,
+    ) -> Vec<Vec<(u32, u16)>> {
         let mut postings: Vec<Vec<(u32, u16)>> = vec![Vec::new(); self.distinct];
         for (v, grams) in self.grams.iter().enumerate() {
             let mut last = u32::MAX;
@@ -287,12 +312,18 @@ impl BySize {
     fn new(sizes_in_input_order: Vec<usize>) -> BySize {
         let mut order: Vec<u32> = (0..sizes_in_input_order.len() as u32).collect();
         order.sort_by_key(|&i| (sizes_in_input_order[i as usize], i));
-        let sizes = order.iter().map(|&i| sizes_in_input_order[i as usize]).collect();
+        let sizes = order
+            .iter()
+            .map(|&i| sizes_in_input_order[i as usize])
+            .collect();
         BySize { order, sizes }
     }
 
     fn reorder<T: Clone>(&self, items: &[T]) -> Vec<T> {
-        self.order.iter().map(|&i| items[i as usize].clone()).collect()
+        self.order
+            .iter()
+            .map(|&i| items[i as usize].clone())
+            .collect()
     }
 
     /// Ids whose size lies in `lo..=hi`.
@@ -305,7 +336,11 @@ impl BySize {
     /// An edge between two new ids, in input positions, smaller first.
     fn edge(&self, x: u32, y: u32, score: f64) -> Edge {
         let (p, q) = (self.order[x as usize], self.order[y as usize]);
-        Edge { a: p.min(q), b: p.max(q), score }
+        Edge {
+            a: p.min(q),
+            b: p.max(q),
+            score,
+        }
     }
 }
 
@@ -342,7 +377,13 @@ fn edit_pairs(values: &[Vec<char>], limit: EditLimit, q: usize, grams_per_edit: 
     let reach: Vec<usize> = by_size.sizes.iter().map(|&len| limit.reach(len)).collect();
     // The prefix each value must look up, if it can promise a survivor.
     let prefix: Vec<Option<usize>> = (0..n)
-        .map(|v| if values[v].len() < q { None } else { promising_prefix(&table.grams[v], grams_per_edit, reach[v]) })
+        .map(|v| {
+            if values[v].len() < q {
+                None
+            } else {
+                promising_prefix(&table.grams[v], grams_per_edit, reach[v])
+            }
+        })
         .collect();
     let long: Vec<bool> = prefix.iter().map(Option::is_some).collect();
     let compare = |a: u32, b: u32, cmp: &Comparator, found: &mut Found| {
@@ -356,7 +397,13 @@ fn edit_pairs(values: &[Vec<char>], limit: EditLimit, q: usize, grams_per_edit: 
             found.edges.push(by_size.edge(a, b, d as f64));
         }
     };
-    let comparator = |v: &[char]| if grams_per_edit > q { Comparator::osa(v) } else { Comparator::levenshtein(v) };
+    let comparator = |v: &[char]| {
+        if grams_per_edit > q {
+            Comparator::osa(v)
+        } else {
+            Comparator::levenshtein(v)
+        }
+    };
     let mut found = probe_all(n, |a, seen, found| {
         let av = a as usize;
         let Some(prefix) = prefix[av] else {
@@ -370,7 +417,11 @@ fn edit_pairs(values: &[Vec<char>], limit: EditLimit, q: usize, grams_per_edit: 
             for &(b, bpos) in id_range(&postings[rank as usize], lo, hi) {
                 // Each pair is compared once: by the smaller id, unless only
                 // the larger can promise to find it.
-                if b == a || (b < a && long[b as usize]) || seen[b as usize] == a || bpos.abs_diff(pos) as usize > k {
+                if b == a
+                    || (b < a && long[b as usize])
+                    || seen[b as usize] == a
+                    || bpos.abs_diff(pos) as usize > k
+                {
                     continue;
                 }
                 seen[b as usize] = a;
@@ -411,9 +462,14 @@ fn jaccard_pairs(values: &[Vec<char>], q: usize, min: f64) -> Found {
     let min = min.clamp(f64::MIN_POSITIVE, 1.0);
     // Both values of a pair share at least ⌈s·max(|A|, |B|)⌉ q-grams, so the
     // prefixes of both meet: the index holds prefixes only.
-    let prefix_of = |size: usize| size - (((min * size as f64) - 1e-9).ceil().max(1.0) as usize).min(size) + 1;
+    let prefix_of =
+        |size: usize| size - (((min * size as f64) - 1e-9).ceil().max(1.0) as usize).min(size) + 1;
     let postings = table.prefix_postings(|v| prefix_of(table.sets[v].len()), true);
-    let histograms: Vec<[u8; 32]> = table.sets.iter().map(|set| histogram(set.iter().copied())).collect();
+    let histograms: Vec<[u8; 32]> = table
+        .sets
+        .iter()
+        .map(|set| histogram(set.iter().copied()))
+        .collect();
     let n = values.len();
     probe_all(n, |a, seen, found| {
         let set = &table.sets[a as usize];
@@ -430,7 +486,9 @@ fn jaccard_pairs(values: &[Vec<char>], q: usize, min: f64) -> Found {
                 // Shared q-grams fall in the same bucket on both sides.
                 let other = table.sets[b as usize].len();
                 let needed = min / (1.0 + min) * (size + other) as f64 - 1e-9;
-                if (common_upper_bound(&histograms[a as usize], &histograms[b as usize]) as f64) < needed {
+                if (common_upper_bound(&histograms[a as usize], &histograms[b as usize]) as f64)
+                    < needed
+                {
                     continue;
                 }
                 found.compared += 1;
@@ -460,8 +518,13 @@ fn jaro_winkler_pairs(values: &[Vec<char>], min: f64) -> Found {
     // Jaro = (m/|a| + m/|b| + (m − t)/m) / 3 >= j needs m/|a| + m/|b| >= tau.
     let tau = 3.0 * least_jaro(min) - 1.0;
     if tau <= 0.0 {
-        return all_pairs(&values, &Fuzzy::JaroWinkler { min_similarity: min })
-            .remap(&by_size);
+        return all_pairs(
+            &values,
+            &Fuzzy::JaroWinkler {
+                min_similarity: min,
+            },
+        )
+        .remap(&by_size);
     }
     // Of a value's characters, at least tau·|a|/2 are matched (when it is
     // the shorter). Each unmatched one breaks at most two of its bigrams;
@@ -480,7 +543,11 @@ fn jaro_winkler_pairs(values: &[Vec<char>], min: f64) -> Found {
             return;
         }
         // a is the shorter: with m <= |a|, |b| <= |a| / (tau − 1).
-        let longest = if tau > 1.0 { ((len as f64 / (tau - 1.0)) + 1e-9).floor() as usize } else { usize::MAX };
+        let longest = if tau > 1.0 {
+            ((len as f64 / (tau - 1.0)) + 1e-9).floor() as usize
+        } else {
+            usize::MAX
+        };
         let prefix = prefix_of(len);
         let (lo, hi) = by_size.ids_with_size(len, longest);
         let window_max = longest.min(usize::MAX / 2) / 2;
@@ -529,7 +596,16 @@ fn histogram(items: impl Iterator<Item = u32>) -> [u8; 32] {
 
 fn common_upper_bound(a: &[u8; 32], b: &[u8; 32]) -> u32 {
     // A saturated bucket may hold more: count it as unbounded.
-    a.iter().zip(b).map(|(&x, &y)| if x == u8::MAX || y == u8::MAX { u32::MAX / 64 } else { x.min(y) as u32 }).sum()
+    a.iter()
+        .zip(b)
+        .map(|(&x, &y)| {
+            if x == u8::MAX || y == u8::MAX {
+                u32::MAX / 64
+            } else {
+                x.min(y) as u32
+            }
+        })
+        .sum()
 }
 
 impl Found {
@@ -555,7 +631,16 @@ mod tests {
     /// with typos, plus unrelated values.
     fn vocabulary() -> Vec<Vec<char>> {
         let mut v = Vec::new();
-        let words = ["hydrostatic", "powershift", "manual", "automatic", "shuttle", "creeper", "cvt", "synchro"];
+        let words = [
+            "hydrostatic",
+            "powershift",
+            "manual",
+            "automatic",
+            "shuttle",
+            "creeper",
+            "cvt",
+            "synchro",
+        ];
         for (i, w) in words.iter().enumerate() {
             for (j, other) in words.iter().enumerate() {
                 v.push(format!("{w} {other}"));
@@ -568,7 +653,11 @@ mod tests {
                 }
             }
         }
-        v.extend(["a", "ab", "ba", "abc", "x", "hst", "hts", "cvt", "cvtt"].iter().map(|s| s.to_string()));
+        v.extend(
+            ["a", "ab", "ba", "abc", "x", "hst", "hts", "cvt", "cvtt"]
+                .iter()
+                .map(|s| s.to_string()),
+        );
         v.sort();
         v.dedup();
         chars(&v.iter().map(String::as_str).collect::<Vec<_>>())
@@ -581,7 +670,11 @@ mod tests {
         let all = all_pairs(&values, &method);
         assert_eq!(indexed.edges, all.edges, "{method:?}");
         assert!(!all.edges.is_empty(), "{method:?} found nothing to compare");
-        assert!(indexed.compared < all.compared, "{method:?}: the index compared {} pairs", indexed.compared);
+        assert!(
+            indexed.compared < all.compared,
+            "{method:?}: the index compared {} pairs",
+            indexed.compared
+        );
     }
 
     #[test]
@@ -600,8 +693,14 @@ mod tests {
 
     #[test]
     fn jaccard_index_misses_nothing() {
-        check_exact(Fuzzy::QGram { q: 2, min_similarity: 0.5 });
-        check_exact(Fuzzy::QGram { q: 3, min_similarity: 0.7 });
+        check_exact(Fuzzy::QGram {
+            q: 2,
+            min_similarity: 0.5,
+        });
+        check_exact(Fuzzy::QGram {
+            q: 3,
+            min_similarity: 0.7,
+        });
     }
 
     #[test]
@@ -613,7 +712,12 @@ mod tests {
             let indexed = similar_pairs(&values, &method).edges;
             let all = all_pairs(&values, &method).edges;
             assert!(indexed.iter().all(|e| all.contains(e)));
-            assert!(indexed.len() as f64 >= 0.95 * all.len() as f64, "{} of {}", indexed.len(), all.len());
+            assert!(
+                indexed.len() as f64 >= 0.95 * all.len() as f64,
+                "{} of {}",
+                indexed.len(),
+                all.len()
+            );
         }
     }
 

@@ -37,8 +37,16 @@ pub struct MapUpdate {
 
 /// Add the clusters to label `label` of the ruleset at `path` (created if
 /// missing, with `column` as its column), atomically.
-pub fn write_label_map(path: &Path, label: &str, column: &str, clusters: &[Cluster]) -> Result<MapUpdate, Error> {
-    let err = |message: String| Error::Output { path: path.to_owned(), message };
+pub fn write_label_map(
+    path: &Path,
+    label: &str,
+    column: &str,
+    clusters: &[Cluster],
+) -> Result<MapUpdate, Error> {
+    let err = |message: String| Error::Output {
+        path: path.to_owned(),
+        message,
+    };
     let existing = match std::fs::read_to_string(path) {
         Ok(text) => Some(text),
         Err(e) if e.kind() == std::io::ErrorKind::NotFound => None,
@@ -59,13 +67,25 @@ pub fn write_label_map(path: &Path, label: &str, column: &str, clusters: &[Clust
                 err(format!("is not valid TOML, so the map cannot be added: {e}fix the file, or give --write-map another path"))
             })?;
             let normalizer = ruleset_normalizer(text).map_err(|m| err(m))?;
-            add_map(&mut doc, label, &entries(clusters, &normalizer), &mut update).map_err(err)?;
+            add_map(
+                &mut doc,
+                label,
+                &entries(clusters, &normalizer),
+                &mut update,
+            )
+            .map_err(err)?;
             doc.to_string()
         }
         None => {
             let mut doc = DocumentMut::new();
             doc.insert("column", toml_edit::value(column));
-            add_map(&mut doc, label, &entries(clusters, &Normalizer::default()), &mut update).map_err(err)?;
+            add_map(
+                &mut doc,
+                label,
+                &entries(clusters, &Normalizer::default()),
+                &mut update,
+            )
+            .map_err(err)?;
             format!(
                 "# Ruleset for column \"{column}\", started by `descry cluster --write-map`.\n\
                  # Edit freely: later runs add new spellings and keep your changes.\n{doc}"
@@ -81,7 +101,10 @@ fn ruleset_normalizer(text: &str) -> Result<Normalizer, String> {
     let table: toml::Table = toml::from_str(text).map_err(|e| format!("is not valid TOML: {e}"))?;
     match table.get("normalize") {
         None => Ok(Normalizer::default()),
-        Some(v) => v.clone().try_into().map_err(|e| format!("has a [normalize] table descry cannot read: {e}")),
+        Some(v) => v
+            .clone()
+            .try_into()
+            .map_err(|e| format!("has a [normalize] table descry cannot read: {e}")),
     }
 }
 
@@ -101,20 +124,31 @@ fn entries(clusters: &[Cluster], normalizer: &Normalizer) -> Vec<(String, String
     out
 }
 
-fn add_map(doc: &mut DocumentMut, label: &str, entries: &[(String, String)], update: &mut MapUpdate) -> Result<(), String> {
-    let labels = doc.entry("label").or_insert(Item::ArrayOfTables(ArrayOfTables::new()));
+fn add_map(
+    doc: &mut DocumentMut,
+    label: &str,
+    entries: &[(String, String)],
+    update: &mut MapUpdate,
+) -> Result<(), String> {
+    let labels = doc
+        .entry("label")
+        .or_insert(Item::ArrayOfTables(ArrayOfTables::new()));
     let Some(labels) = labels.as_array_of_tables_mut() else {
         return Err("has a `label` key that is not a list of [[label]] tables; \
                     write labels as [[label]] tables, or give --write-map another path"
             .to_owned());
     };
-    let found = labels.iter().position(|t| t.get("name").and_then(Item::as_str) == Some(label));
+    let found = labels
+        .iter()
+        .position(|t| t.get("name").and_then(Item::as_str) == Some(label));
     let index = match found {
         Some(i) => i,
         None => {
             let mut t = Table::new();
             t.insert("name", toml_edit::value(label));
-            t.decor_mut().set_prefix("\n# Spellings grouped by `descry cluster`: normalized value = canonical label.\n");
+            t.decor_mut().set_prefix(
+                "\n# Spellings grouped by `descry cluster`: normalized value = canonical label.\n",
+            );
             labels.push(t);
             update.created_label = true;
             labels.len() - 1
@@ -126,7 +160,11 @@ fn add_map(doc: &mut DocumentMut, label: &str, entries: &[(String, String)], upd
     Ok(())
 }
 
-fn add_entries(label: &mut Table, entries: &[(String, String)], update: &mut MapUpdate) -> Result<(), String> {
+fn add_entries(
+    label: &mut Table,
+    entries: &[(String, String)],
+    update: &mut MapUpdate,
+) -> Result<(), String> {
     let map = label.entry("map").or_insert_with(|| {
         let mut t = Table::new();
         t.set_dotted(true);
@@ -186,7 +224,10 @@ fn write_atomically(path: &Path, text: &str) -> std::io::Result<()> {
         Some(p) if !p.as_os_str().is_empty() => p.to_owned(),
         _ => PathBuf::from("."),
     };
-    let mut temp = tempfile::Builder::new().prefix(".descry-").suffix(".partial").tempfile_in(&folder)?;
+    let mut temp = tempfile::Builder::new()
+        .prefix(".descry-")
+        .suffix(".partial")
+        .tempfile_in(&folder)?;
     temp.write_all(text.as_bytes())?;
     temp.as_file().sync_all()?;
     temp.persist(path).map_err(|e| e.error)?;
@@ -204,7 +245,11 @@ mod tests {
             rows: members.len() as u64,
             members: members
                 .iter()
-                .map(|m| Member { value: m.to_string(), normalized: m.to_lowercase(), rows: 1 })
+                .map(|m| Member {
+                    value: m.to_string(),
+                    normalized: m.to_lowercase(),
+                    rows: 1,
+                })
                 .collect(),
         }
     }
@@ -213,12 +258,18 @@ mod tests {
     fn a_new_file_is_a_ruleset_that_compiles() {
         let dir = tempfile::tempdir().unwrap();
         let path = dir.path().join("part.toml");
-        let c = [cluster("PMP-0750-3T", &["PMP-0750-3T", "pmp 0750 3t", "PMP0750-3T"])];
+        let c = [cluster(
+            "PMP-0750-3T",
+            &["PMP-0750-3T", "pmp 0750 3t", "PMP0750-3T"],
+        )];
         let u = write_label_map(&path, "part", "part_no", &c).unwrap();
         assert!(u.created_file && u.created_label);
         assert_eq!(u.added, 3);
         let text = std::fs::read_to_string(&path).unwrap();
-        assert!(text.contains("map.\"pmp 0750 3t\" = \"PMP-0750-3T\""), "{text}");
+        assert!(
+            text.contains("map.\"pmp 0750 3t\" = \"PMP-0750-3T\""),
+            "{text}"
+        );
         let rules = crate::Ruleset::from_path(&path).unwrap();
         assert_eq!(rules.column.as_deref(), Some("part_no"));
     }
@@ -252,7 +303,13 @@ mod tests {
         let dir = tempfile::tempdir().unwrap();
         let path = dir.path().join("p.toml");
         std::fs::write(&path, "[normalize]\ncase = \"none\"\n").unwrap();
-        write_label_map(&path, "part", "p", &[cluster("PMP-1", &["PMP-1", " PMP-1 "])]).unwrap();
+        write_label_map(
+            &path,
+            "part",
+            "p",
+            &[cluster("PMP-1", &["PMP-1", " PMP-1 "])],
+        )
+        .unwrap();
         let text = std::fs::read_to_string(&path).unwrap();
         assert!(text.contains("map.PMP-1 = \"PMP-1\""), "{text}");
     }
@@ -262,8 +319,13 @@ mod tests {
         let dir = tempfile::tempdir().unwrap();
         let path = dir.path().join("bad.toml");
         std::fs::write(&path, "[[label]\nname = ").unwrap();
-        let e = write_label_map(&path, "x", "c", &[cluster("A", &["A", "a"])]).unwrap_err().to_string();
-        assert!(e.contains("bad.toml") && e.contains("not valid TOML"), "{e}");
+        let e = write_label_map(&path, "x", "c", &[cluster("A", &["A", "a"])])
+            .unwrap_err()
+            .to_string();
+        assert!(
+            e.contains("bad.toml") && e.contains("not valid TOML"),
+            "{e}"
+        );
         assert_eq!(std::fs::read_to_string(&path).unwrap(), "[[label]\nname = ");
     }
 }

@@ -100,9 +100,14 @@ pub enum Fuzzy {
     /// Optimal string alignment (restricted Damerau-Levenshtein).
     Osa(EditLimit),
     /// Jaccard similarity of character q-gram sets, at least `min_similarity`.
-    QGram { q: usize, min_similarity: f64 },
+    QGram {
+        q: usize,
+        min_similarity: f64,
+    },
     /// Jaro-Winkler similarity at least `min_similarity`.
-    JaroWinkler { min_similarity: f64 },
+    JaroWinkler {
+        min_similarity: f64,
+    },
 }
 
 impl Fuzzy {
@@ -152,7 +157,10 @@ impl Fuzzy {
                 let (sa, sb): (String, String) = (a.iter().collect(), b.iter().collect());
                 distance::qgram_jaccard(&sa, &sb, *q) >= *min_similarity
             }
-            _ => cap.comparator(a).and_then(|c| cap.verify(&c, a, b)).is_some(),
+            _ => cap
+                .comparator(a)
+                .and_then(|c| cap.verify(&c, a, b))
+                .is_some(),
         }
     }
 }
@@ -239,9 +247,13 @@ pub struct MethodUsed {
 
 fn threshold_of(f: &Fuzzy) -> (f64, &'static str) {
     match f {
-        Fuzzy::Levenshtein(EditLimit::Edits(k)) | Fuzzy::Osa(EditLimit::Edits(k)) => (*k as f64, "edits"),
+        Fuzzy::Levenshtein(EditLimit::Edits(k)) | Fuzzy::Osa(EditLimit::Edits(k)) => {
+            (*k as f64, "edits")
+        }
         Fuzzy::Levenshtein(EditLimit::Ratio(r)) | Fuzzy::Osa(EditLimit::Ratio(r)) => (*r, "ratio"),
-        Fuzzy::QGram { min_similarity, .. } | Fuzzy::JaroWinkler { min_similarity } => (*min_similarity, "similarity"),
+        Fuzzy::QGram { min_similarity, .. } | Fuzzy::JaroWinkler { min_similarity } => {
+            (*min_similarity, "similarity")
+        }
     }
 }
 
@@ -255,7 +267,16 @@ impl MethodUsed {
                     Fuzzy::QGram { q, .. } => Some(*q),
                     _ => None,
                 };
-                (Some(t), Some(kind), q, if opts.exhaustive { "exhaustive" } else { "index" })
+                (
+                    Some(t),
+                    Some(kind),
+                    q,
+                    if opts.exhaustive {
+                        "exhaustive"
+                    } else {
+                        "index"
+                    },
+                )
             }
         };
         MethodUsed {
@@ -338,14 +359,26 @@ struct Forms {
 
 impl Forms {
     fn build(vocab: &Vocabulary, normalizer: &Normalizer) -> Forms {
-        let normalized: Vec<String> = vocab.values.par_iter().map(|v| normalizer.apply(v)).collect();
-        let mut text: Vec<String> = normalized.iter().filter(|n| !n.is_empty()).cloned().collect();
+        let normalized: Vec<String> = vocab
+            .values
+            .par_iter()
+            .map(|v| normalizer.apply(v))
+            .collect();
+        let mut text: Vec<String> = normalized
+            .iter()
+            .filter(|n| !n.is_empty())
+            .cloned()
+            .collect();
         text.par_sort_unstable();
         text.dedup();
         let mut values = vec![Vec::new(); text.len()];
         let mut blank_rows = 0;
         {
-            let index: HashMap<&str, u32> = text.iter().enumerate().map(|(i, t)| (t.as_str(), i as u32)).collect();
+            let index: HashMap<&str, u32> = text
+                .iter()
+                .enumerate()
+                .map(|(i, t)| (t.as_str(), i as u32))
+                .collect();
             for (i, n) in normalized.iter().enumerate() {
                 match index.get(n.as_str()) {
                     Some(&f) => values[f as usize].push(i as u32),
@@ -353,7 +386,11 @@ impl Forms {
                 }
             }
         }
-        Forms { text, values, blank_rows }
+        Forms {
+            text,
+            values,
+            blank_rows,
+        }
     }
 }
 
@@ -364,10 +401,16 @@ pub fn cluster(vocab: &Vocabulary, column: &str, opts: &ClusterOptions) -> Clust
     let mut groups = UnionFind::new(n);
     let mut found = Found::default();
     match &opts.method {
-        Method::Key => union_by_key(&mut groups, &forms.text, |f| letters_and_digits(f), opts.digits),
+        Method::Key => union_by_key(
+            &mut groups,
+            &forms.text,
+            |f| letters_and_digits(f),
+            opts.digits,
+        ),
         Method::Tokens => union_by_key(&mut groups, &forms.text, |f| token_set(f), opts.digits),
         Method::Fuzzy(method) => {
-            let chars: Vec<Vec<char>> = forms.text.par_iter().map(|t| t.chars().collect()).collect();
+            let chars: Vec<Vec<char>> =
+                forms.text.par_iter().map(|t| t.chars().collect()).collect();
             found = fuzzy_pairs(&chars, &forms.text, method, opts);
             match &opts.max_diameter {
                 None => found.edges.iter().for_each(|e| groups.union(e.a, e.b)),
@@ -380,7 +423,11 @@ pub fn cluster(vocab: &Vocabulary, column: &str, opts: &ClusterOptions) -> Clust
         found
             .edges
             .iter()
-            .map(|e| Pair { a: forms.text[e.a as usize].clone(), b: forms.text[e.b as usize].clone(), score: e.score })
+            .map(|e| Pair {
+                a: forms.text[e.a as usize].clone(),
+                b: forms.text[e.b as usize].clone(),
+                score: e.score,
+            })
             .collect()
     });
     ClusterReport {
@@ -409,7 +456,12 @@ pub fn token_set(normalized: &str) -> String {
     t.join(" ")
 }
 
-fn union_by_key(groups: &mut UnionFind, forms: &[String], key: impl Fn(&str) -> String + Sync, digits: Digits) {
+fn union_by_key(
+    groups: &mut UnionFind,
+    forms: &[String],
+    key: impl Fn(&str) -> String + Sync,
+    digits: Digits,
+) {
     let keys: Vec<String> = forms
         .par_iter()
         .map(|f| match digits {
@@ -426,15 +478,24 @@ fn union_by_key(groups: &mut UnionFind, forms: &[String], key: impl Fn(&str) -> 
 }
 
 /// Similar pairs of forms (ids into `chars`), block by block.
-fn fuzzy_pairs(chars: &[Vec<char>], text: &[String], method: &Fuzzy, opts: &ClusterOptions) -> Found {
+fn fuzzy_pairs(
+    chars: &[Vec<char>],
+    text: &[String],
+    method: &Fuzzy,
+    opts: &ClusterOptions,
+) -> Found {
     let blocks: Vec<Vec<u32>> = match opts.digits {
         Digits::Loose => vec![(0..chars.len() as u32).collect()],
         Digits::Strict => {
             let mut by_digits: HashMap<String, Vec<u32>> = HashMap::new();
             for (i, t) in text.iter().enumerate() {
-                by_digits.entry(digit_signature(t)).or_default().push(i as u32);
+                by_digits
+                    .entry(digit_signature(t))
+                    .or_default()
+                    .push(i as u32);
             }
-            let mut blocks: Vec<Vec<u32>> = by_digits.into_values().filter(|b| b.len() > 1).collect();
+            let mut blocks: Vec<Vec<u32>> =
+                by_digits.into_values().filter(|b| b.len() > 1).collect();
             blocks.sort_unstable_by_key(|b| b[0]);
             blocks
         }
@@ -443,10 +504,18 @@ fn fuzzy_pairs(chars: &[Vec<char>], text: &[String], method: &Fuzzy, opts: &Clus
         .par_iter()
         .map(|block| {
             let values: Vec<Vec<char>> = block.iter().map(|&i| chars[i as usize].clone()).collect();
-            let mut f = if opts.exhaustive { index::all_pairs(&values, method) } else { index::similar_pairs(&values, method) };
+            let mut f = if opts.exhaustive {
+                index::all_pairs(&values, method)
+            } else {
+                index::similar_pairs(&values, method)
+            };
             for e in &mut f.edges {
                 let (a, b) = (block[e.a as usize], block[e.b as usize]);
-                *e = Edge { a: a.min(b), b: a.max(b), score: e.score };
+                *e = Edge {
+                    a: a.min(b),
+                    b: a.max(b),
+                    score: e.score,
+                };
             }
             f
         })
@@ -456,11 +525,21 @@ fn fuzzy_pairs(chars: &[Vec<char>], text: &[String], method: &Fuzzy, opts: &Clus
 
 /// Union edges strongest first, refusing a union that would put two forms
 /// further apart than `cap` in one group.
-fn union_capped(groups: &mut UnionFind, edges: &[Edge], chars: &[Vec<char>], method: &Fuzzy, cap: &Fuzzy) {
+fn union_capped(
+    groups: &mut UnionFind,
+    edges: &[Edge],
+    chars: &[Vec<char>],
+    method: &Fuzzy,
+    cap: &Fuzzy,
+) {
     let mut order: Vec<&Edge> = edges.iter().collect();
     let distance = method.is_distance();
     order.sort_by(|x, y| {
-        let by_score = if distance { x.score.total_cmp(&y.score) } else { y.score.total_cmp(&x.score) };
+        let by_score = if distance {
+            x.score.total_cmp(&y.score)
+        } else {
+            y.score.total_cmp(&x.score)
+        };
         by_score.then((x.a, x.b).cmp(&(y.a, y.b)))
     });
     let mut members: Vec<Vec<u32>> = (0..chars.len() as u32).map(|i| vec![i]).collect();
@@ -469,9 +548,11 @@ fn union_capped(groups: &mut UnionFind, edges: &[Edge], chars: &[Vec<char>], met
         if ra == rb {
             continue;
         }
-        let fits = members[ra as usize]
-            .iter()
-            .all(|&x| members[rb as usize].iter().all(|&y| method.within(cap, &chars[x as usize], &chars[y as usize])));
+        let fits = members[ra as usize].iter().all(|&x| {
+            members[rb as usize]
+                .iter()
+                .all(|&y| method.within(cap, &chars[x as usize], &chars[y as usize]))
+        });
         if fits {
             groups.union(ra, rb);
             let root = groups.find(ra);
@@ -521,10 +602,16 @@ fn gather(vocab: &Vocabulary, forms: &Forms, groups: &mut UnionFind) -> Vec<Clus
                     y.value.as_bytes(),
                 ))
             });
-            Some(Cluster { canonical: tidy(&members[0].value), rows: members.iter().map(|m| m.rows).sum(), members })
+            Some(Cluster {
+                canonical: tidy(&members[0].value),
+                rows: members.iter().map(|m| m.rows).sum(),
+                members,
+            })
         })
         .collect();
-    clusters.sort_by(|x, y| (Reverse(x.rows), x.canonical.as_bytes()).cmp(&(Reverse(y.rows), y.canonical.as_bytes())));
+    clusters.sort_by(|x, y| {
+        (Reverse(x.rows), x.canonical.as_bytes()).cmp(&(Reverse(y.rows), y.canonical.as_bytes()))
+    });
     clusters
 }
 
@@ -537,7 +624,10 @@ pub struct UnionFind {
 
 impl UnionFind {
     pub fn new(n: usize) -> Self {
-        UnionFind { parent: (0..n as u32).collect(), size: vec![1; n] }
+        UnionFind {
+            parent: (0..n as u32).collect(),
+            size: vec![1; n],
+        }
     }
 
     pub fn find(&mut self, mut x: u32) -> u32 {
@@ -571,7 +661,11 @@ mod tests {
     }
 
     fn groups(report: &ClusterReport) -> Vec<Vec<String>> {
-        report.clusters.iter().map(|c| c.members.iter().map(|m| m.value.clone()).collect()).collect()
+        report
+            .clusters
+            .iter()
+            .map(|c| c.members.iter().map(|m| m.value.clone()).collect())
+            .collect()
     }
 
     #[test]
@@ -585,7 +679,12 @@ mod tests {
 
     #[test]
     fn tokens_ignore_order() {
-        let v = vocab(&["6 speed auto", "auto 6-speed", "speed auto", "6 speed manual"]);
+        let v = vocab(&[
+            "6 speed auto",
+            "auto 6-speed",
+            "speed auto",
+            "6 speed manual",
+        ]);
         let r = cluster(&v, "t", &ClusterOptions::new(Method::Tokens));
         assert_eq!(groups(&r), vec![vec!["6 speed auto", "auto 6-speed"]]);
     }
@@ -596,11 +695,22 @@ mod tests {
         let lev = Method::Fuzzy(Fuzzy::Levenshtein(EditLimit::Edits(1)));
         let strict = cluster(&v, "p", &ClusterOptions::new(lev));
         assert_eq!(groups(&strict), vec![vec!["PMP-0750", "pmp 0750"]]);
-        let loose = cluster(&v, "p", &ClusterOptions { digits: Digits::Loose, ..ClusterOptions::new(lev) });
+        let loose = cluster(
+            &v,
+            "p",
+            &ClusterOptions {
+                digits: Digits::Loose,
+                ..ClusterOptions::new(lev)
+            },
+        );
         assert_eq!(loose.clusters.len(), 1);
         assert_eq!(loose.clusters[0].members.len(), 3);
         // Key and tokens keep digits apart too: "1,800" and "1800" differ.
-        let key = cluster(&vocab(&["1,800 cc", "1800 cc"]), "e", &ClusterOptions::new(Method::Key));
+        let key = cluster(
+            &vocab(&["1,800 cc", "1800 cc"]),
+            "e",
+            &ClusterOptions::new(Method::Key),
+        );
         assert!(key.clusters.is_empty());
     }
 
@@ -614,9 +724,16 @@ mod tests {
         let capped = cluster(
             &v,
             "c",
-            &ClusterOptions { max_diameter: Some(Fuzzy::Levenshtein(EditLimit::Edits(1))), ..ClusterOptions::new(Method::Fuzzy(lev)) },
+            &ClusterOptions {
+                max_diameter: Some(Fuzzy::Levenshtein(EditLimit::Edits(1))),
+                ..ClusterOptions::new(Method::Fuzzy(lev))
+            },
         );
-        assert!(capped.clusters.iter().all(|c| c.members.len() == 2), "{:?}", groups(&capped));
+        assert!(
+            capped.clusters.iter().all(|c| c.members.len() == 2),
+            "{:?}",
+            groups(&capped)
+        );
         assert_eq!(capped.clusters.len(), 2);
     }
 
@@ -636,7 +753,10 @@ mod tests {
     fn blanks_are_not_values() {
         let v = Vocabulary::build([Some(" "), None, Some(""), Some("x"), Some("X")]);
         let r = cluster(&v, "t", &ClusterOptions::new(Method::Key));
-        assert_eq!((r.null_rows, r.blank_rows, r.values, r.normalized_forms), (1, 2, 2, 1));
+        assert_eq!(
+            (r.null_rows, r.blank_rows, r.values, r.normalized_forms),
+            (1, 2, 2, 1)
+        );
     }
 
     #[test]

@@ -16,12 +16,20 @@ pub fn cluster_text(r: &ClusterReport, top: usize) -> String {
         _ => String::new(),
     };
     let q = m.q.map(|q| format!(" q={q}")).unwrap_or_default();
-    let cap = m.max_diameter.map(|d| format!(", diameter capped at {d}")).unwrap_or_default();
+    let cap = m
+        .max_diameter
+        .map(|d| format!(", diameter capped at {d}"))
+        .unwrap_or_default();
     let digits = match m.digits {
         Digits::Strict => "strict",
         Digits::Loose => "loose",
     };
-    let _ = writeln!(out, "column {}  method {}{q}{threshold}, digits {digits}{cap}", shown(&r.column), m.name);
+    let _ = writeln!(
+        out,
+        "column {}  method {}{q}{threshold}, digits {digits}{cap}",
+        shown(&r.column),
+        m.name
+    );
     let _ = writeln!(
         out,
         "rows {}  null {}  blank {}  distinct values {}  normalized forms {}",
@@ -48,14 +56,30 @@ pub fn cluster_text(r: &ClusterReport, top: usize) -> String {
         thousands(r.rows_clustered)
     );
     for (i, c) in r.clusters.iter().take(top).enumerate() {
-        let _ = writeln!(out, "\n#{} {} ({} rows, {} values)", i + 1, shown(&c.canonical), thousands(c.rows), c.members.len());
+        let _ = writeln!(
+            out,
+            "\n#{} {} ({} rows, {} values)",
+            i + 1,
+            shown(&c.canonical),
+            thousands(c.rows),
+            c.members.len()
+        );
         for (j, member) in c.members.iter().enumerate() {
             let mark = if j == 0 { "*" } else { " " };
-            let _ = writeln!(out, "  {mark} {:>9}  {}", thousands(member.rows), shown(&member.value));
+            let _ = writeln!(
+                out,
+                "  {mark} {:>9}  {}",
+                thousands(member.rows),
+                shown(&member.value)
+            );
         }
     }
     if r.clusters.len() > top {
-        let _ = writeln!(out, "\n... {} more clusters (--top N lists more; --format json lists all)", r.clusters.len() - top);
+        let _ = writeln!(
+            out,
+            "\n... {} more clusters (--top N lists more; --format json lists all)",
+            r.clusters.len() - top
+        );
     }
     out
 }

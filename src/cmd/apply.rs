@@ -84,7 +84,9 @@ pub struct Args {
 
 pub fn run(args: Args) -> anyhow::Result<ExitCode> {
     if args.column.is_some() && args.rules.len() > 1 {
-        bail!("--column applies to a single ruleset; with several, name each column in its ruleset");
+        bail!(
+            "--column applies to a single ruleset; with several, name each column in its ruleset"
+        );
     }
     let descriptions = args
         .rules
@@ -99,7 +101,11 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
     let opts = args.input.read_options();
     let streaming = !args.in_memory && can_stream(&args.input.input, &opts);
     let summary = if streaming {
-        check_collisions(&descriptions, &table_columns(&args.input.input, &opts)?, &args)?;
+        check_collisions(
+            &descriptions,
+            &table_columns(&args.input.input, &opts)?,
+            &args,
+        )?;
         apply_in_batches(&args, descriptions, format)?
     } else {
         apply_in_memory(&args, descriptions, format)?
@@ -138,7 +144,10 @@ impl Summary {
             .filter_map(|c| batch.column(c).ok())
             .map(|c| c.as_materialized_series().estimated_size())
             .sum::<usize>();
-        self.feature_bytes += features.iter().map(|c| c.as_materialized_series().estimated_size()).sum::<usize>();
+        self.feature_bytes += features
+            .iter()
+            .map(|c| c.as_materialized_series().estimated_size())
+            .sum::<usize>();
     }
 
     fn finish(mut self, describer: &Describer) -> Summary {
@@ -151,7 +160,11 @@ fn sources(descriptions: &[Description]) -> Vec<String> {
     descriptions.iter().map(|d| d.column.clone()).collect()
 }
 
-fn apply_in_memory(args: &Args, descriptions: Vec<Description>, format: OutputFormat) -> anyhow::Result<Summary> {
+fn apply_in_memory(
+    args: &Args,
+    descriptions: Vec<Description>,
+    format: OutputFormat,
+) -> anyhow::Result<Summary> {
     let names = sources(&descriptions);
     let columns: Vec<&str> = names.iter().map(String::as_str).collect();
     let table = Table::read(&args.input.input, &columns, &args.input.read_options())?;
@@ -166,7 +179,11 @@ fn apply_in_memory(args: &Args, descriptions: Vec<Description>, format: OutputFo
     Ok(summary.finish(&describer))
 }
 
-fn apply_in_batches(args: &Args, descriptions: Vec<Description>, format: OutputFormat) -> anyhow::Result<Summary> {
+fn apply_in_batches(
+    args: &Args,
+    descriptions: Vec<Description>,
+    format: OutputFormat,
+) -> anyhow::Result<Summary> {
     let names = sources(&descriptions);
     let columns: Vec<&str> = names.iter().map(String::as_str).collect();
     let opts = args.input.read_options();
@@ -181,17 +198,27 @@ fn apply_in_batches(args: &Args, descriptions: Vec<Description>, format: OutputF
     let mut describer = Describer::new(descriptions, full);
     let mut sink: Option<TableSink> = None;
     let mut summary = Summary::default();
-    let notes = for_each_batch(&args.input.input, &columns, None, &opts, args.batch_rows, |batch| {
-        let features = describer.features(&batch).map_err(|e| output_error(args, e.into()))?;
-        summary.add_batch(&batch, &columns, &features);
-        let mut out = output_batch(batch, &columns, features, args).map_err(|e| output_error(args, e))?;
-        if sink.is_none() {
-            sink = Some(TableSink::create(&args.output, format, out.schema())?);
-        }
-        sink.as_mut().expect("created").write(&mut out)?;
-        progress.rows(summary.rows);
-        Ok(())
-    })?;
+    let notes = for_each_batch(
+        &args.input.input,
+        &columns,
+        None,
+        &opts,
+        args.batch_rows,
+        |batch| {
+            let features = describer
+                .features(&batch)
+                .map_err(|e| output_error(args, e.into()))?;
+            summary.add_batch(&batch, &columns, &features);
+            let mut out =
+                output_batch(batch, &columns, features, args).map_err(|e| output_error(args, e))?;
+            if sink.is_none() {
+                sink = Some(TableSink::create(&args.output, format, out.schema())?);
+            }
+            sink.as_mut().expect("created").write(&mut out)?;
+            progress.rows(summary.rows);
+            Ok(())
+        },
+    )?;
     progress.done();
     print_notes(&notes, args.quiet);
     match sink {
@@ -203,29 +230,46 @@ fn apply_in_batches(args: &Args, descriptions: Vec<Description>, format: OutputF
 }
 
 fn output_error(args: &Args, e: anyhow::Error) -> descry::Error {
-    descry::Error::Output { path: args.output.clone(), message: format!("{e:#}") }
+    descry::Error::Output {
+        path: args.output.clone(),
+        message: format!("{e:#}"),
+    }
 }
 
 /// The complete vocabulary of each described column, without row codes.
 fn first_pass(args: &Args, columns: &[&str]) -> anyhow::Result<Vec<Option<GrowingVocabulary>>> {
     let mut vocabs = vec![GrowingVocabulary::default(); columns.len()];
     let opts = args.input.read_options();
-    for_each_batch(&args.input.input, columns, Some(columns), &opts, args.batch_rows, |batch| {
-        for (vocab, c) in vocabs.iter_mut().zip(columns) {
-            let text = batch.column(c).and_then(|c| c.str().cloned()).map_err(|e| descry::Error::Input {
-                path: args.input.input.clone(),
-                message: e.to_string(),
-            })?;
-            let rows: Vec<Option<&str>> = text.iter().collect();
-            vocab.codes_for(&rows);
-        }
-        Ok(())
-    })?;
+    for_each_batch(
+        &args.input.input,
+        columns,
+        Some(columns),
+        &opts,
+        args.batch_rows,
+        |batch| {
+            for (vocab, c) in vocabs.iter_mut().zip(columns) {
+                let text = batch
+                    .column(c)
+                    .and_then(|c| c.str().cloned())
+                    .map_err(|e| descry::Error::Input {
+                        path: args.input.input.clone(),
+                        message: e.to_string(),
+                    })?;
+                let rows: Vec<Option<&str>> = text.iter().collect();
+                vocab.codes_for(&rows);
+            }
+            Ok(())
+        },
+    )?;
     Ok(vocabs.into_iter().map(Some).collect())
 }
 
 /// A feature may not take the name of an input column that stays in the output.
-fn check_collisions(descriptions: &[Description], names: &[String], args: &Args) -> anyhow::Result<()> {
+fn check_collisions(
+    descriptions: &[Description],
+    names: &[String],
+    args: &Args,
+) -> anyhow::Result<()> {
     for d in descriptions {
         for f in &d.rules.features {
             let dropped = (args.drop_source && descriptions.iter().any(|d| d.column == f.output))
@@ -245,14 +289,23 @@ fn check_collisions(descriptions: &[Description], names: &[String], args: &Args)
     }
     if args.only_features {
         if let Some(k) = args.keep.iter().find(|k| !names.contains(k)) {
-            bail!("{}: --keep names no column \"{k}\"; the columns are: {}", args.input.input.display(), names.join(", "));
+            bail!(
+                "{}: --keep names no column \"{k}\"; the columns are: {}",
+                args.input.input.display(),
+                names.join(", ")
+            );
         }
     }
     Ok(())
 }
 
 /// The input batch reduced as asked, with the features appended.
-fn output_batch(batch: DataFrame, sources: &[&str], features: Vec<Column>, args: &Args) -> anyhow::Result<DataFrame> {
+fn output_batch(
+    batch: DataFrame,
+    sources: &[&str],
+    features: Vec<Column>,
+    args: &Args,
+) -> anyhow::Result<DataFrame> {
     let height = batch.height();
     let mut frame = if args.only_features {
         batch.select(args.keep.iter().map(|s| PlSmallStr::from(s.as_str())))?
@@ -281,8 +334,10 @@ impl Progress {
         } else {
             let bar = indicatif::ProgressBar::new_spinner();
             bar.set_style(
-                indicatif::ProgressStyle::with_template("{spinner} {prefix} {msg}: {human_pos} rows ({per_sec}, {elapsed})")
-                    .expect("valid template"),
+                indicatif::ProgressStyle::with_template(
+                    "{spinner} {prefix} {msg}: {human_pos} rows ({per_sec}, {elapsed})",
+                )
+                .expect("valid template"),
             );
             bar.set_prefix(input.display().to_string());
             bar.enable_steady_tick(std::time::Duration::from_millis(200));

@@ -4,11 +4,14 @@
 use std::process::ExitCode;
 
 use descry::read::{can_stream, for_each_batch, Table};
-use descry::vocabulary::GrowingVocabulary;
 use descry::render::check_text;
+use descry::vocabulary::GrowingVocabulary;
 use descry::CoverageReport;
 
-use super::common::{column_notes, emit, json_out, load_ruleset, print_notes, source_column, vocabulary_of, Format, InputArgs};
+use super::common::{
+    column_notes, emit, json_out, load_ruleset, print_notes, source_column, vocabulary_of, Format,
+    InputArgs,
+};
 
 pub const ABOUT: &str = "\
 Test a ruleset on every distinct value of a column and report coverage.
@@ -61,13 +64,19 @@ fn parse_share(s: &str) -> Result<f64, String> {
     if (0.0..=1.0).contains(&v) {
         Ok(v)
     } else {
-        Err(format!("{v} is not a fraction between 0 and 1 (write 0.95 for 95%)"))
+        Err(format!(
+            "{v} is not a fraction between 0 and 1 (write 0.95 for 95%)"
+        ))
     }
 }
 
 /// The vocabulary of one column; files that can be streamed are read in
 /// batches, keeping only the vocabulary.
-pub fn column_vocabulary(input: &InputArgs, column: &str, quiet: bool) -> anyhow::Result<descry::Vocabulary> {
+pub fn column_vocabulary(
+    input: &InputArgs,
+    column: &str,
+    quiet: bool,
+) -> anyhow::Result<descry::Vocabulary> {
     let opts = input.read_options();
     if !can_stream(&input.input, &opts) {
         let table = Table::read_columns(&input.input, &[column], &opts)?;
@@ -75,13 +84,26 @@ pub fn column_vocabulary(input: &InputArgs, column: &str, quiet: bool) -> anyhow
         return vocabulary_of(&table, column);
     }
     let mut vocab = GrowingVocabulary::default();
-    let notes = for_each_batch(&input.input, &[column], Some(&[column]), &opts, 1 << 20, |batch| {
-        let col = batch.column(column).map_err(|e| descry::Error::Input { path: input.input.clone(), message: e.to_string() })?;
-        let text = col.str().map_err(|e| descry::Error::Input { path: input.input.clone(), message: e.to_string() })?;
-        let rows: Vec<Option<&str>> = text.iter().collect();
-        vocab.codes_for(&rows);
-        Ok(())
-    })?;
+    let notes = for_each_batch(
+        &input.input,
+        &[column],
+        Some(&[column]),
+        &opts,
+        1 << 20,
+        |batch| {
+            let col = batch.column(column).map_err(|e| descry::Error::Input {
+                path: input.input.clone(),
+                message: e.to_string(),
+            })?;
+            let text = col.str().map_err(|e| descry::Error::Input {
+                path: input.input.clone(),
+                message: e.to_string(),
+            })?;
+            let rows: Vec<Option<&str>> = text.iter().collect();
+            vocab.codes_for(&rows);
+            Ok(())
+        },
+    )?;
     print_notes(&notes, quiet);
     Ok(vocab.to_vocabulary())
 }
@@ -107,8 +129,15 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
             );
         }
         if report.examples_failed > 0 {
-            eprintln!("descry: gate failed: {} example(s) failed", report.examples_failed);
+            eprintln!(
+                "descry: gate failed: {} example(s) failed",
+                report.examples_failed
+            );
         }
     }
-    Ok(if passes { ExitCode::SUCCESS } else { ExitCode::from(1) })
+    Ok(if passes {
+        ExitCode::SUCCESS
+    } else {
+        ExitCode::from(1)
+    })
 }

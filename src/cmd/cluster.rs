@@ -139,7 +139,11 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
         },
         (Some(_), _) => bail!("--max-diameter applies to the fuzzy methods (qgram, levenshtein, osa, jaro-winkler); key and tokens groups are exact"),
     };
-    let table = Table::read_columns(&args.input.input, &[&args.column], &args.input.read_options())?;
+    let table = Table::read_columns(
+        &args.input.input,
+        &[&args.column],
+        &args.input.read_options(),
+    )?;
     print_notes(&table.notes, args.quiet);
     let vocab = vocabulary_of(&table, &args.column)?;
     let digits = match args.digits {
@@ -177,14 +181,18 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
 /// The method with its threshold (the method's default when none is given).
 fn method_of(name: MethodName, threshold: Option<&str>, q: usize) -> anyhow::Result<Method> {
     let similarity = |default: f64| -> anyhow::Result<f64> {
-        let Some(t) = threshold else { return Ok(default) };
+        let Some(t) = threshold else {
+            return Ok(default);
+        };
         match t.trim().parse::<f64>() {
             Ok(s) if s > 0.0 && s <= 1.0 => Ok(s),
             _ => bail!("--threshold {t:?}: a similarity between 0 and 1 is needed for this method, e.g. --threshold {default}"),
         }
     };
     let edits = || -> anyhow::Result<EditLimit> {
-        let Some(t) = threshold else { return Ok(EditLimit::Ratio(0.2)) };
+        let Some(t) = threshold else {
+            return Ok(EditLimit::Ratio(0.2));
+        };
         let t = t.trim();
         if let Ok(k) = t.parse::<usize>() {
             return Ok(EditLimit::Edits(k));
@@ -207,10 +215,15 @@ fn method_of(name: MethodName, threshold: Option<&str>, q: usize) -> anyhow::Res
             if !(1..=16).contains(&q) {
                 bail!("--q {q}: the q-gram length must be between 1 and 16 (3 is usual)");
             }
-            Method::Fuzzy(Fuzzy::QGram { q, min_similarity: similarity(0.7)? })
+            Method::Fuzzy(Fuzzy::QGram {
+                q,
+                min_similarity: similarity(0.7)?,
+            })
         }
         MethodName::Levenshtein => Method::Fuzzy(Fuzzy::Levenshtein(edits()?)),
         MethodName::Osa => Method::Fuzzy(Fuzzy::Osa(edits()?)),
-        MethodName::JaroWinkler => Method::Fuzzy(Fuzzy::JaroWinkler { min_similarity: similarity(0.93)? }),
+        MethodName::JaroWinkler => Method::Fuzzy(Fuzzy::JaroWinkler {
+            min_similarity: similarity(0.93)?,
+        }),
     })
 }

@@ -26,7 +26,10 @@ pub struct InputArgs {
 
 impl InputArgs {
     pub fn read_options(&self) -> ReadOptions {
-        ReadOptions { delimiter: self.delimiter, lossy_utf8: self.lossy_utf8 }
+        ReadOptions {
+            delimiter: self.delimiter,
+            lossy_utf8: self.lossy_utf8,
+        }
     }
 }
 
@@ -34,7 +37,9 @@ fn parse_delimiter(s: &str) -> Result<u8, String> {
     match s {
         "tab" | "\\t" | "\t" => Ok(b'\t'),
         _ if s.len() == 1 && s.is_ascii() => Ok(s.as_bytes()[0]),
-        _ => Err(format!("the delimiter must be one ASCII character or \"tab\", not {s:?}")),
+        _ => Err(format!(
+            "the delimiter must be one ASCII character or \"tab\", not {s:?}"
+        )),
     }
 }
 

@@ -77,7 +77,11 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
                 steps: t.steps,
             })
             .collect();
-        explained.push(Explained { value: value.clone(), normalized, features });
+        explained.push(Explained {
+            value: value.clone(),
+            normalized,
+            features,
+        });
     }
     match args.format {
         Format::Text => emit(&text)?,

@@ -71,6 +71,8 @@ fn set_threads(n: usize) -> anyhow::Result<()> {
         anyhow::bail!("--threads must be at least 1");
     }
     std::env::set_var("POLARS_MAX_THREADS", n.to_string());
-    rayon::ThreadPoolBuilder::new().num_threads(n).build_global()?;
+    rayon::ThreadPoolBuilder::new()
+        .num_threads(n)
+        .build_global()?;
     Ok(())
 }

@@ -46,8 +46,16 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
         Variants::Standard => descry::sample::Variants::Standard,
         Variants::Extended => descry::sample::Variants::Extended,
     };
-    let opts = descry::sample::SampleOptions { rows: args.rows, seed: args.seed, variants };
+    let opts = descry::sample::SampleOptions {
+        rows: args.rows,
+        seed: args.seed,
+        variants,
+    };
     descry::sample::write_sample(&args.out_dir, &opts)?;
-    eprintln!("wrote {} rows to {}", args.rows, args.out_dir.join("listings.csv").display());
+    eprintln!(
+        "wrote {} rows to {}",
+        args.rows,
+        args.out_dir.join("listings.csv").display()
+    );
     Ok(ExitCode::SUCCESS)
 }

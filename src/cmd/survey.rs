@@ -76,13 +76,26 @@ pub struct Args {
 }
 
 pub fn run(args: Args) -> anyhow::Result<ExitCode> {
-    let table = Table::read_columns(&args.input.input, &[&args.column], &args.input.read_options())?;
+    let table = Table::read_columns(
+        &args.input.input,
+        &[&args.column],
+        &args.input.read_options(),
+    )?;
     print_notes(&table.notes, args.quiet);
     let vocab = vocabulary_of(&table, &args.column)?;
-    let mut placeholders: Vec<String> =
-        if args.no_default_placeholders { Vec::new() } else { DEFAULT_PLACEHOLDERS.iter().map(|s| s.to_string()).collect() };
+    let mut placeholders: Vec<String> = if args.no_default_placeholders {
+        Vec::new()
+    } else {
+        DEFAULT_PLACEHOLDERS.iter().map(|s| s.to_string()).collect()
+    };
     placeholders.extend(args.placeholders);
-    let opts = SurveyOptions { placeholders, top: args.top, examples: args.examples, long: args.long, ..SurveyOptions::default() };
+    let opts = SurveyOptions {
+        placeholders,
+        top: args.top,
+        examples: args.examples,
+        long: args.long,
+        ..SurveyOptions::default()
+    };
     let report = survey(&vocab, &args.column, &opts);
     match args.format {
         Format::Text => print!("{}", survey_text(&report)),

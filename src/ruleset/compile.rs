@@ -16,10 +16,18 @@ struct Place<'a> {
 
 impl Place<'_> {
     fn line_of(&self, offset: usize) -> usize {
-        self.text[..offset.min(self.text.len())].matches('\n').count() + 1
+        self.text[..offset.min(self.text.len())]
+            .matches('\n')
+            .count()
+            + 1
     }
 
-    fn err(&self, rule: Option<String>, line: Option<usize>, msg: impl Into<String>) -> RulesetError {
+    fn err(
+        &self,
+        rule: Option<String>,
+        line: Option<usize>,
+        msg: impl Into<String>,
+    ) -> RulesetError {
         let mut e = RulesetError::new(self.file, msg).line(line);
         e.rule = rule;
         e
@@ -63,8 +71,16 @@ pub(super) fn compile(text: &str, file: &str) -> Result<Ruleset, RulesetError> {
 }
 
 fn toml_error(file: &str, text: &str, e: toml::de::Error) -> RulesetError {
-    let line = e.span().map(|s| text[..s.start.min(text.len())].matches('\n').count() + 1);
-    let message = e.message().trim().lines().map(str::trim).collect::<Vec<_>>().join(": ");
+    let line = e
+        .span()
+        .map(|s| text[..s.start.min(text.len())].matches('\n').count() + 1);
+    let message = e
+        .message()
+        .trim()
+        .lines()
+        .map(str::trim)
+        .collect::<Vec<_>>()
+        .join(": ");
     let hint = if message.contains("unknown field") {
         Some("see rulesets/README.md for the keys each table accepts")
     } else if message.contains("missing field") {
@@ -82,13 +98,21 @@ fn rule_title(kind: &str, name: &str) -> String {
 }
 
 /// Name checks shared by every kind; returns (title, line).
-fn named(place: &Place, kind: &str, name: &Spanned<String>) -> Result<(String, usize), RulesetError> {
+fn named(
+    place: &Place,
+    kind: &str,
+    name: &Spanned<String>,
+) -> Result<(String, usize), RulesetError> {
     let line = place.line_of(name.span().start);
     let title = rule_title(kind, name.get_ref());
     let bad = name.get_ref().trim().is_empty() || name.get_ref().chars().any(char::is_control);
     if bad {
         return Err(place
-            .err(Some(title), Some(line), "the rule's name is empty or contains control characters")
+            .err(
+                Some(title),
+                Some(line),
+                "the rule's name is empty or contains control characters",
+            )
             .hint("give every rule a short name such as \"gears\"; it becomes the output column"));
     }
     Ok((title, line))
@@ -96,7 +120,12 @@ fn named(place: &Place, kind: &str, name: &Spanned<String>) -> Result<(String, u
 
 fn feature(spec: &RulesetSpec, name: &Spanned<String>, line: usize, rule: Rule) -> Feature {
     let name = name.get_ref().clone();
-    Feature { output: format!("{}{}", spec.prefix, name), name, line, rule }
+    Feature {
+        output: format!("{}{}", spec.prefix, name),
+        name,
+        line,
+        rule,
+    }
 }
 
 fn pattern(
@@ -127,10 +156,18 @@ fn matcher(
 ) -> Result<Matcher, RulesetError> {
     match (any, pat) {
         (Some(_), Some(_)) => Err(place
-            .err(Some(title.into()), Some(line), "has both `any` and `pattern`")
+            .err(
+                Some(title.into()),
+                Some(line),
+                "has both `any` and `pattern`",
+            )
             .hint("keep one: `any` for whole-word literals, `pattern` for a regex")),
         (None, None) => Err(place
-            .err(Some(title.into()), Some(line), "has neither `any` nor `pattern`")
+            .err(
+                Some(title.into()),
+                Some(line),
+                "has neither `any` nor `pattern`",
+            )
             .hint("add `any = [\"word\", ...]` or `pattern = '...'`")),
         (Some(words), None) => literals(place, title, line, words, spec).map(Matcher::Literals),
         (None, Some(p)) => pattern(place, title, line, p, fancy, spec).map(Matcher::Pattern),
@@ -148,16 +185,26 @@ fn literals(
     let words: Vec<String> = words.iter().map(|w| spec.normalize.apply(w)).collect();
     if words.is_empty() || words.iter().any(|w| w.is_empty()) {
         return Err(place
-            .err(Some(title.into()), Some(line), "`any` is empty or holds an empty word")
+            .err(
+                Some(title.into()),
+                Some(line),
+                "`any` is empty or holds an empty word",
+            )
             .hint("list at least one non-blank word"));
     }
-    Literals::new(words).map_err(|e| place.err(Some(title.into()), Some(line), format!("`any`: {e}")))
+    Literals::new(words)
+        .map_err(|e| place.err(Some(title.into()), Some(line), format!("`any`: {e}")))
 }
 
 fn compile_flag(place: &Place, spec: &RulesetSpec, f: &FlagSpec) -> Result<Feature, RulesetError> {
     let (title, line) = named(place, "flag", &f.name)?;
     let matcher = matcher(place, &title, line, &f.any, &f.pattern, f.fancy, spec)?;
-    Ok(feature(spec, &f.name, line, Rule::Flag(FlagRule { matcher })))
+    Ok(feature(
+        spec,
+        &f.name,
+        line,
+        Rule::Flag(FlagRule { matcher }),
+    ))
 }
 
 fn required_pattern<'a>(
@@ -174,25 +221,42 @@ fn required_pattern<'a>(
 }
 
 /// Every `{int}` / `{num}` must sit inside a capture group, and there must be one.
-fn check_number_groups(place: &Place, title: &str, line: usize, p: &Pattern) -> Result<(), RulesetError> {
+fn check_number_groups(
+    place: &Place,
+    title: &str,
+    line: usize,
+    p: &Pattern,
+) -> Result<(), RulesetError> {
     for &m in p.macro_offsets() {
         if !p.groups().iter().any(|g| g.span.contains(&m)) {
             return Err(place
-                .err(Some(title.into()), Some(line), "a number macro is not inside a capture group")
+                .err(
+                    Some(title.into()),
+                    Some(line),
+                    "a number macro is not inside a capture group",
+                )
                 .at(p.source(), m)
                 .hint("wrap it in parentheses, e.g. ({num}), so its value can be read"));
         }
     }
     if p.groups().is_empty() {
         return Err(place
-            .err(Some(title.into()), Some(line), "the pattern has no capture group to read a number from")
+            .err(
+                Some(title.into()),
+                Some(line),
+                "the pattern has no capture group to read a number from",
+            )
             .at(p.source(), 0)
             .hint("wrap the number in parentheses, e.g. '({int})\\s*cyl'"));
     }
     Ok(())
 }
 
-fn compile_count(place: &Place, spec: &RulesetSpec, c: &CountSpec) -> Result<Feature, RulesetError> {
+fn compile_count(
+    place: &Place,
+    spec: &RulesetSpec,
+    c: &CountSpec,
+) -> Result<Feature, RulesetError> {
     let (title, line) = named(place, "count", &c.name)?;
     let source = required_pattern(place, &title, line, &c.pattern)?;
     let pattern = pattern(place, &title, line, source, c.fancy, spec)?;
@@ -200,17 +264,31 @@ fn compile_count(place: &Place, spec: &RulesetSpec, c: &CountSpec) -> Result<Fea
     let range = match c.range {
         Some([lo, hi]) if lo > hi => {
             return Err(place
-                .err(Some(title), Some(line), format!("`range = [{lo}, {hi}]` is reversed"))
-                .hint(format!("write the smaller bound first: range = [{hi}, {lo}]")))
+                .err(
+                    Some(title),
+                    Some(line),
+                    format!("`range = [{lo}, {hi}]` is reversed"),
+                )
+                .hint(format!(
+                    "write the smaller bound first: range = [{hi}, {lo}]"
+                )))
         }
         Some([lo, hi]) => Some((lo, hi)),
         None => None,
     };
-    let rule = CountRule { pattern, range, missing: c.missing };
+    let rule = CountRule {
+        pattern,
+        range,
+        missing: c.missing,
+    };
     Ok(feature(spec, &c.name, line, Rule::Count(rule)))
 }
 
-fn compile_measure(place: &Place, spec: &RulesetSpec, m: &MeasureSpec) -> Result<Feature, RulesetError> {
+fn compile_measure(
+    place: &Place,
+    spec: &RulesetSpec,
+    m: &MeasureSpec,
+) -> Result<Feature, RulesetError> {
     let (title, line) = named(place, "measure", &m.name)?;
     let source = required_pattern(place, &title, line, &m.pattern)?;
     let pattern = pattern(place, &title, line, source, m.fancy, spec)?;
@@ -225,7 +303,11 @@ fn compile_measure(place: &Place, spec: &RulesetSpec, m: &MeasureSpec) -> Result
     }
     let range = match m.range {
         Some([lo, hi]) if lo > hi => {
-            return Err(place.err(Some(title), Some(line), format!("`range = [{lo}, {hi}]` is reversed")))
+            return Err(place.err(
+                Some(title),
+                Some(line),
+                format!("`range = [{lo}, {hi}]` is reversed"),
+            ))
         }
         other => other.map(|[lo, hi]| (lo, hi)),
     };
@@ -250,9 +332,16 @@ fn measure_groups(p: &Pattern) -> (Vec<usize>, Vec<usize>) {
     if number.is_empty() {
         number.push(0);
     }
-    let encloses_number =
-        |i: usize| number.iter().any(|&n| n != i && groups[i].span.start <= groups[n].span.start && groups[n].span.end <= groups[i].span.end);
-    let unit = (0..groups.len()).filter(|i| !number.contains(i) && !encloses_number(*i)).collect();
+    let encloses_number = |i: usize| {
+        number.iter().any(|&n| {
+            n != i
+                && groups[i].span.start <= groups[n].span.start
+                && groups[n].span.end <= groups[i].span.end
+        })
+    };
+    let unit = (0..groups.len())
+        .filter(|i| !number.contains(i) && !encloses_number(*i))
+        .collect();
     (number, unit)
 }
 
@@ -281,13 +370,21 @@ fn measure_units(
     Ok(units)
 }
 
-fn compile_label(place: &Place, spec: &RulesetSpec, l: &LabelSpec) -> Result<Feature, RulesetError> {
+fn compile_label(
+    place: &Place,
+    spec: &RulesetSpec,
+    l: &LabelSpec,
+) -> Result<Feature, RulesetError> {
     let (title, line) = named(place, "label", &l.name)?;
     let mut cases_spec = Vec::new();
     for (i, c) in l.case.iter().enumerate() {
         let Some(label) = &c.label else {
             return Err(place
-                .err(Some(title), Some(line), format!("case {} has no `label`", i + 1))
+                .err(
+                    Some(title),
+                    Some(line),
+                    format!("case {} has no `label`", i + 1),
+                )
                 .hint("each [[label.case]] needs `label = \"...\"` and `any` or `pattern`"));
         };
         let case_line = place.line_of(label.span().start);
@@ -298,13 +395,32 @@ fn compile_label(place: &Place, spec: &RulesetSpec, l: &LabelSpec) -> Result<Fea
     let mut cases = Vec::new();
     for (label, case_line, c) in &cases_spec {
         let case_title = format!("{title} case \"{label}\"");
-        let matcher = matcher(place, &case_title, *case_line, &c.any, &c.pattern, c.fancy, spec)?;
-        cases.push(LabelCase { label: index(label), matcher });
+        let matcher = matcher(
+            place,
+            &case_title,
+            *case_line,
+            &c.any,
+            &c.pattern,
+            c.fancy,
+            spec,
+        )?;
+        cases.push(LabelCase {
+            label: index(label),
+            matcher,
+        });
     }
-    let map: HashMap<String, u32> =
-        l.map.iter().map(|(k, v)| (spec.normalize.apply(k), index(v))).collect();
+    let map: HashMap<String, u32> = l
+        .map
+        .iter()
+        .map(|(k, v)| (spec.normalize.apply(k), index(v)))
+        .collect();
     let default = l.default.as_deref().map(index);
-    let rule = LabelRule { categories, default, map, cases };
+    let rule = LabelRule {
+        categories,
+        default,
+        map,
+        cases,
+    };
     Ok(feature(spec, &l.name, line, Rule::Label(rule)))
 }
 
@@ -317,10 +433,18 @@ fn label_categories(
     l: &LabelSpec,
     cases: &[(String, usize, &CaseSpec)],
 ) -> Result<Vec<String>, RulesetError> {
-    let used: Vec<&String> =
-        cases.iter().map(|(label, _, _)| label).chain(l.map.values()).chain(l.default.iter()).collect();
+    let used: Vec<&String> = cases
+        .iter()
+        .map(|(label, _, _)| label)
+        .chain(l.map.values())
+        .chain(l.default.iter())
+        .collect();
     if let Some(label) = used.iter().find(|s| s.is_empty()) {
-        return Err(place.err(Some(title.into()), Some(line), format!("label {label:?} is empty")));
+        return Err(place.err(
+            Some(title.into()),
+            Some(line),
+            format!("label {label:?} is empty"),
+        ));
     }
     let Some(declared) = &l.categories else {
         let mut out: Vec<String> = Vec::new();
@@ -334,7 +458,11 @@ fn label_categories(
     let mut seen = IndexMap::new();
     for c in declared {
         if seen.insert(c.clone(), ()).is_some() {
-            return Err(place.err(Some(title.into()), Some(line), format!("category \"{c}\" is listed twice")));
+            return Err(place.err(
+                Some(title.into()),
+                Some(line),
+                format!("category \"{c}\" is listed twice"),
+            ));
         }
     }
     if let Some(missing) = used.iter().find(|u| !seen.contains_key(u.as_str())) {
@@ -367,7 +495,11 @@ fn check_unique_outputs(place: &Place, features: &[Feature]) -> Result<(), Rules
     Ok(())
 }
 
-fn compile_example(place: &Place, rules: &Ruleset, e: &ExampleSpec) -> Result<Example, RulesetError> {
+fn compile_example(
+    place: &Place,
+    rules: &Ruleset,
+    e: &ExampleSpec,
+) -> Result<Example, RulesetError> {
     let line = place.line_of(e.value.span().start);
     let title = format!("[[example]] {:?}", e.value.get_ref());
     let mut expect = Vec::new();
@@ -375,19 +507,30 @@ fn compile_example(place: &Place, rules: &Ruleset, e: &ExampleSpec) -> Result<Ex
         let Some(idx) = rules.feature_index(key) else {
             let names: Vec<&str> = rules.features.iter().map(|f| f.name.as_str()).collect();
             return Err(place
-                .err(Some(title), Some(line), format!("`expect` names an unknown feature \"{key}\""))
+                .err(
+                    Some(title),
+                    Some(line),
+                    format!("`expect` names an unknown feature \"{key}\""),
+                )
                 .hint(format!("the features are: {}", names.join(", "))));
         };
         let expected = expected_value(&rules.features[idx], value).ok_or_else(|| {
             place.err(
                 Some(title.clone()),
                 Some(line),
-                format!("`expect.{key}` = {value} does not fit a {} rule", rules.features[idx].rule.kind()),
+                format!(
+                    "`expect.{key}` = {value} does not fit a {} rule",
+                    rules.features[idx].rule.kind()
+                ),
             )
         })?;
         expect.push((idx, expected));
     }
-    Ok(Example { value: e.value.get_ref().clone(), line, expect })
+    Ok(Example {
+        value: e.value.get_ref().clone(),
+        line,
+        expect,
+    })
 }
 
 fn expected_value(f: &Feature, v: &toml::Value) -> Option<Expected> {
@@ -396,7 +539,9 @@ fn expected_value(f: &Feature, v: &toml::Value) -> Option<Expected> {
         (Rule::Count(_), toml::Value::Integer(i)) => Some(Expected::Int(*i)),
         (Rule::Measure(_), toml::Value::Integer(i)) => Some(Expected::Float(*i as f64)),
         (Rule::Measure(_), toml::Value::Float(x)) => Some(Expected::Float(*x)),
-        (Rule::Label(l), toml::Value::String(s)) if l.categories.contains(s) => Some(Expected::Text(s.clone())),
+        (Rule::Label(l), toml::Value::String(s)) if l.categories.contains(s) => {
+            Some(Expected::Text(s.clone()))
+        }
         _ => None,
     }
 }

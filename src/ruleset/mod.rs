@@ -164,6 +164,8 @@ impl Ruleset {
 
     /// The index of a feature by its name or its output name.
     pub fn feature_index(&self, name: &str) -> Option<usize> {
-        self.features.iter().position(|f| f.name == name || f.output == name)
+        self.features
+            .iter()
+            .position(|f| f.name == name || f.output == name)
     }
 }

@@ -40,7 +40,9 @@ pub fn run(args: &[&str], cwd: Option<&Path>) -> Output {
 pub fn assert_no_panic(out: &Output) {
     let stderr = String::from_utf8_lossy(&out.stderr);
     assert!(
-        !stderr.contains("panicked") && !stderr.contains("RUST_BACKTRACE") && !stderr.contains("stack backtrace"),
+        !stderr.contains("panicked")
+            && !stderr.contains("RUST_BACKTRACE")
+            && !stderr.contains("stack backtrace"),
         "descry panicked:\n{stderr}"
     );
 }
@@ -89,12 +91,22 @@ pub fn python() -> PathBuf {
             if out.status.success() {
                 Ok(())
             } else {
-                Err(format!("{what} failed:\n{}", String::from_utf8_lossy(&out.stderr)))
+                Err(format!(
+                    "{what} failed:\n{}",
+                    String::from_utf8_lossy(&out.stderr)
+                ))
             }
         };
-        step(std::process::Command::new("python3").args(["-m", "venv"]).arg(&venv), "python3 -m venv")?;
         step(
-            std::process::Command::new(&py).args(["-m", "pip", "install", "--quiet", "-r"]).arg(&requirements),
+            std::process::Command::new("python3")
+                .args(["-m", "venv"])
+                .arg(&venv),
+            "python3 -m venv",
+        )?;
+        step(
+            std::process::Command::new(&py)
+                .args(["-m", "pip", "install", "--quiet", "-r"])
+                .arg(&requirements),
             "pip install -r tests/python/requirements.txt",
         )?;
         std::fs::copy(&requirements, &stamp).map_err(|e| e.to_string())?;
@@ -118,7 +130,14 @@ pub fn run_python(script: &str, args: &[&str]) -> String {
         .args(args)
         .output()
         .expect("python runs");
-    let text = format!("{}{}", String::from_utf8_lossy(&out.stdout), String::from_utf8_lossy(&out.stderr));
-    assert!(out.status.success(), "{script} reports disagreement:\n{text}");
+    let text = format!(
+        "{}{}",
+        String::from_utf8_lossy(&out.stdout),
+        String::from_utf8_lossy(&out.stderr)
+    );
+    assert!(
+        out.status.success(),
+        "{script} reports disagreement:\n{text}"
+    );
     text
 }
