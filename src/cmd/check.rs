@@ -9,8 +9,8 @@ use descry::vocabulary::GrowingVocabulary;
 use descry::CoverageReport;
 
 use super::common::{
-    column_notes, emit, json_out, load_ruleset, print_notes, source_column, vocabulary_of, Format,
-    InputArgs,
+    column_notes, emit, json_out, load_ruleset, parse_share, print_notes, source_column,
+    vocabulary_of, Format, InputArgs,
 };
 
 pub const ABOUT: &str = "\
@@ -57,17 +57,6 @@ pub struct Args {
     /// Print no notes on standard error.
     #[arg(long, short = 'q')]
     pub quiet: bool,
-}
-
-fn parse_share(s: &str) -> Result<f64, String> {
-    let v: f64 = s.parse().map_err(|_| format!("{s:?} is not a number"))?;
-    if (0.0..=1.0).contains(&v) {
-        Ok(v)
-    } else {
-        Err(format!(
-            "{v} is not a fraction between 0 and 1 (write 0.95 for 95%)"
-        ))
-    }
 }
 
 /// The vocabulary of one column; files that can be streamed are read in

@@ -43,6 +43,18 @@ fn parse_delimiter(s: &str) -> Result<u8, String> {
     }
 }
 
+/// A command-line fraction between 0 and 1 (`0.95` for 95%).
+pub fn parse_share(s: &str) -> Result<f64, String> {
+    let v: f64 = s.parse().map_err(|_| format!("{s:?} is not a number"))?;
+    if (0.0..=1.0).contains(&v) {
+        Ok(v)
+    } else {
+        Err(format!(
+            "{v} is not a fraction between 0 and 1 (write 0.95 for 95%)"
+        ))
+    }
+}
+
 /// Report output format.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
 pub enum Format {
