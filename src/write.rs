@@ -68,6 +68,35 @@ pub fn check_output_path(output: &Path, inputs: &[&Path]) -> Result<OutputFormat
     Ok(format)
 }
 
+/// Write a small text file (a ruleset) atomically: a temporary file in the
+/// same folder, synced, then renamed over `path`. A crash leaves either the
+/// old file or the new one, never half of one.
+pub fn write_text_atomically(path: &Path, text: &str) -> Result<(), Error> {
+    let err = |e: std::io::Error| Error::Output {
+        path: path.to_owned(),
+        message: format!("cannot write: {e}"),
+    };
+    let folder = parent_folder(path);
+    if !folder.is_dir() {
+        return Err(Error::Output {
+            path: path.to_owned(),
+            message: format!(
+                "the folder {} does not exist; create it first",
+                folder.display()
+            ),
+        });
+    }
+    let mut temp = tempfile::Builder::new()
+        .prefix(".descry-")
+        .suffix(".partial")
+        .tempfile_in(&folder)
+        .map_err(err)?;
+    std::io::Write::write_all(&mut temp, text.as_bytes()).map_err(err)?;
+    temp.as_file().sync_all().map_err(err)?;
+    temp.persist(path).map_err(|e| err(e.error))?;
+    Ok(())
+}
+
 fn parent_folder(path: &Path) -> PathBuf {
     match path.parent() {
         Some(p) if !p.as_os_str().is_empty() => p.to_owned(),
