@@ -17,6 +17,8 @@
 //! 6. [`write`]: the output table, written atomically.
 //!
 //! The engine (stages 2 to 5) has no command-line, terminal or file code.
+//! Before rules exist, [`survey`] and [`cluster`] profile a column and
+//! [`propose`] drafts a ruleset from its vocabulary.
 //!
 //! ```
 //! use descry::{CoverageReport, Ruleset, Vocabulary};
@@ -50,6 +52,7 @@ pub mod normalize;
 pub mod numbers;
 pub mod pattern;
 pub mod pipeline;
+pub mod propose;
 pub mod read;
 pub mod render;
 pub mod report;

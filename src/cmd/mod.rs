@@ -7,6 +7,7 @@ pub mod check;
 pub mod cluster;
 pub mod common;
 pub mod explain;
+pub mod propose;
 pub mod sample;
 pub mod survey;
 
@@ -40,6 +41,9 @@ pub enum Command {
     /// Show what every rule does to given values.
     #[command(long_about = explain::ABOUT)]
     Explain(explain::Args),
+    /// Draft a ruleset from a column's distinct values, tested on all of them.
+    #[command(long_about = propose::ABOUT)]
+    Propose(propose::Args),
     /// Write the demo marketplace listings and their true features.
     #[command(long_about = sample::ABOUT)]
     Sample(sample::Args),
@@ -59,6 +63,7 @@ pub fn run(cli: Cli) -> anyhow::Result<ExitCode> {
         Command::Check(args) => check::run(args),
         Command::Apply(args) => apply::run(args),
         Command::Explain(args) => explain::run(args),
+        Command::Propose(args) => propose::run(args),
         Command::Sample(args) => sample::run(args),
         Command::Survey(args) => survey::run(args),
         Command::Cluster(args) => cluster::run(args),

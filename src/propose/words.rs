@@ -1,0 +1,422 @@
+//! Words of a column: which values hold each word, spellings grouped, and
+//! the flags and labels proposed from them.
+//!
+//! A word is a run of letters of a normalized value. Two spellings are one
+//! group when one is a typo of the other (same first letter, one edit, two
+//! from eight letters on, and a Jaro-Winkler similarity of at least 0.9), or
+//! an abbreviation of it (`man` / `manual`, `dsl` / `diesel`: the short one
+//! is a prefix, or from three letters on a subsequence with the same first
+//! letter), unless the long one is the short one glued to another word of the
+//! column (`powershift` is `power` + `shift`, not a spelling of `power`).
+
+use hashbrown::{HashMap, HashSet};
+use rayon::prelude::*;
+
+use super::{rule_name, shared_rows, union, Corpus, Proposal, ProposeOptions, ProposedRule};
+use crate::cluster::distance::{jaro_winkler, osa};
+use crate::cluster::UnionFind;
+use crate::shape::{runs, CharClass};
+
+/// Words too common in descriptions to mean anything alone (common practice).
+const FILLER: &[&str] = &[
+    "w/", "with", "and", "or", "the", "of", "for", "in", "on", "to", "at", "by", "plus", "a", "an",
+];
+
+/// A label case must share at most this share of its rows with each other case.
+const EXCLUSIVE: f64 = 0.10;
+/// Two words that share this share of the rows of both are one marker.
+const TOGETHER: f64 = 0.95;
+
+/// Which values hold each word and each two-word phrase.
+pub(crate) struct WordIndex {
+    /// Word (or `t/c`-style abbreviation) -> sorted entries holding it.
+    pub words: HashMap<String, Vec<u32>>,
+    /// Two words joined by one space or hyphen (`power shift`) -> entries.
+    pub phrases: HashMap<String, Vec<u32>>,
+}
+
+impl WordIndex {
+    pub fn build(corpus: &Corpus) -> WordIndex {
+        let per_entry: Vec<(Vec<String>, Vec<String>)> =
+            corpus.normalized.par_iter().map(|v| words_of(v)).collect();
+        let mut words: HashMap<String, Vec<u32>> = HashMap::new();
+        let mut phrases: HashMap<String, Vec<u32>> = HashMap::new();
+        for (entry, (ws, ps)) in per_entry.into_iter().enumerate() {
+            for w in ws {
+                words.entry(w).or_default().push(entry as u32);
+            }
+            for p in ps {
+                phrases.entry(p).or_default().push(entry as u32);
+            }
+        }
+        WordIndex { words, phrases }
+    }
+
+    pub fn rows(&self, corpus: &Corpus, word: &str) -> u64 {
+        self.words.get(word).map_or(0, |s| corpus.rows_of(s))
+    }
+}
+
+/// The distinct words and phrases of one normalized value.
+fn words_of(value: &str) -> (Vec<String>, Vec<String>) {
+    let runs: Vec<_> = runs(value).collect();
+    let mut words = Vec::new();
+    let mut phrases = Vec::new();
+    for (i, r) in runs.iter().enumerate() {
+        if r.class != CharClass::Letter {
+            continue;
+        }
+        let letter = |k: usize| runs.get(k).filter(|r| r.class == CharClass::Letter);
+        let single = r.text.chars().count() == 1;
+        // `t/c`, `p/s`, `w/`: a single letter, a slash, a single letter or
+        // nothing, standing apart (not `16f/16r`).
+        let apart = |k: Option<usize>| {
+            k.and_then(|k| runs.get(k))
+                .is_none_or(|r| matches!(r.class, CharClass::Space | CharClass::Other))
+        };
+        if single && runs.get(i + 1).is_some_and(|s| s.text == "/") && apart(i.checked_sub(1)) {
+            match runs.get(i + 2) {
+                Some(b)
+                    if b.class == CharClass::Letter
+                        && b.text.chars().count() == 1
+                        && apart(Some(i + 3)) =>
+                {
+                    words.push(format!("{}/{}", r.text, b.text))
+                }
+                None => words.push(format!("{}/", r.text)),
+                Some(b) if b.class == CharClass::Space => words.push(format!("{}/", r.text)),
+                _ => {}
+            }
+        }
+        words.push(r.text.to_owned());
+        if let (Some(sep), Some(next)) = (runs.get(i + 1), letter(i + 2)) {
+            if sep.text == " " || sep.text == "-" {
+                phrases.push(format!("{}{}{}", r.text, sep.text, next.text));
+            }
+        }
+    }
+    words.sort_unstable();
+    words.dedup();
+    phrases.sort_unstable();
+    phrases.dedup();
+    (words, phrases)
+}
+
+fn letters(s: &str) -> String {
+    s.chars().filter(|c| c.is_alphabetic()).collect()
+}
+
+fn is_subsequence(short: &str, long: &str) -> bool {
+    let mut it = long.chars();
+    short.chars().all(|c| it.any(|d| d == c))
+}
+
+/// Whether two spellings are typos of each other: same first letter, one
+/// edit (two from eight letters on), Jaro-Winkler at least 0.9.
+pub(crate) fn typo(a: &str, b: &str) -> bool {
+    let (la, lb) = (a.chars().count(), b.chars().count());
+    a.chars().next() == b.chars().next()
+        && la.min(lb) >= 4
+        && osa(a, b) <= if la.max(lb) >= 8 { 2 } else { 1 }
+        && jaro_winkler(a, b) >= 0.9
+}
+
+/// Whether `short` abbreviates `long`: a prefix of it, or from three letters
+/// on a subsequence with the same first letter; not when `long` is `short`
+/// glued to another word of the column (`known`).
+pub(crate) fn abbreviates(short: &str, long: &str, known: &dyn Fn(&str) -> bool) -> bool {
+    let ls = short.chars().count();
+    if ls < 2 || ls >= long.chars().count() || short.chars().next() != long.chars().next() {
+        return false;
+    }
+    if !short.chars().all(char::is_alphabetic) || !long.chars().all(char::is_alphabetic) {
+        return false;
+    }
+    if let Some(rest) = long.strip_prefix(short) {
+        return !known(rest);
+    }
+    ls >= 3 && is_subsequence(short, long)
+}
+
+/// Whether two spellings of one word are one group (see the module docs).
+/// `known` tells whether a string is a word of the column.
+pub(crate) fn same_word(a: &str, b: &str, known: &dyn Fn(&str) -> bool) -> bool {
+    a == b || typo(a, b) || abbreviates(a, b, known) || abbreviates(b, a, known)
+}
+
+/// A group of spellings of one word.
+struct Group {
+    /// Spellings, most rows first.
+    spellings: Vec<String>,
+    entries: Vec<u32>,
+    rows: u64,
+    /// How each spelling joined: "typo or abbreviation of ..." notes.
+    grouped: Vec<String>,
+}
+
+/// Flags and labels from the words that are not number markers.
+pub(crate) fn flags_and_labels(
+    corpus: &Corpus,
+    index: &WordIndex,
+    marker_words: &HashSet<String>,
+    opts: &ProposeOptions,
+) -> Vec<Proposal> {
+    let total = corpus.total_rows.max(1) as f64;
+    let min_rows = (opts.min_share * total).ceil().max(1.0) as u64;
+    let max_rows = (opts.max_share * total).floor() as u64;
+    let groups = word_groups(corpus, index, marker_words, min_rows);
+    let mut groups: Vec<Group> = groups
+        .into_iter()
+        .filter(|g| g.rows >= min_rows && g.rows <= max_rows)
+        .collect();
+    groups.sort_by(|a, b| {
+        b.rows
+            .cmp(&a.rows)
+            .then_with(|| a.spellings[0].cmp(&b.spellings[0]))
+    });
+
+    let mut out = Vec::new();
+    if opts.kinds.label {
+        // One family: the words that exclude each other with the most rows.
+        // Further "families" among the leftovers were mostly unrelated words
+        // that happen not to meet; they stay flags.
+        if let Some(family) = exclusive_family(corpus, &groups) {
+            let mut members: Vec<Group> = family.iter().rev().map(|&i| groups.remove(i)).collect();
+            members.reverse();
+            out.push(label_proposal(corpus, &members, opts));
+        }
+    }
+    if opts.kinds.flag {
+        for g in &groups {
+            out.push(Proposal {
+                name: rule_name(&g.spellings[0]),
+                rule: ProposedRule::Flag {
+                    any: g.spellings.clone(),
+                },
+                distinct: g.entries.len() as u64,
+                rows: g.rows,
+                examples: corpus.examples(&g.entries, opts.examples),
+                notes: g.grouped.clone(),
+            });
+        }
+    }
+    out
+}
+
+/// Spelling groups of the words in at least `min_rows` rows, with the rarer
+/// spellings (typos, abbreviations) that belong to them.
+fn word_groups(
+    corpus: &Corpus,
+    index: &WordIndex,
+    marker_words: &HashSet<String>,
+    min_rows: u64,
+) -> Vec<Group> {
+    let known = |w: &str| index.words.contains_key(w);
+    let mut terms: Vec<(&String, &Vec<u32>, u64)> = index
+        .words
+        .iter()
+        .filter(|(w, _)| {
+            w.chars().count() >= 2 && !marker_words.contains(*w) && !FILLER.contains(&w.as_str())
+        })
+        .map(|(w, s)| (w, s, corpus.rows_of(s)))
+        .collect();
+    terms.sort_by(|a, b| b.2.cmp(&a.2).then_with(|| a.0.cmp(b.0)));
+    let heads = terms.iter().take_while(|t| t.2 >= min_rows).count();
+    let mut uf = UnionFind::new(terms.len());
+    let mut joined: Vec<Option<(usize, &'static str)>> = vec![None; terms.len()];
+    // Typos and words always written together are one group (transitively).
+    let links: Vec<(usize, usize, &'static str)> = (0..heads)
+        .into_par_iter()
+        .flat_map_iter(|i| {
+            let terms = &terms;
+            ((i + 1)..heads).filter_map(move |j| {
+                if typo(terms[i].0, terms[j].0) {
+                    return Some((i, j, "a typo of"));
+                }
+                let shared = shared_rows(corpus, terms[i].1, terms[j].1);
+                (shared as f64 >= TOGETHER * terms[i].2.max(terms[j].2) as f64).then_some((
+                    i,
+                    j,
+                    "always written together with",
+                ))
+            })
+        })
+        .collect();
+    for (i, j, how) in links {
+        uf.union(i as u32, j as u32);
+        joined[j].get_or_insert((i, how));
+    }
+    // Any other spelling joins the one frequent word it is a typo or an
+    // abbreviation of, the one with the most rows; abbreviations never chain
+    // two words together (`pwr` does not make `power` a `powershift`).
+    let attach: Vec<Option<(usize, &'static str)>> = (0..terms.len())
+        .into_par_iter()
+        .map(|j| {
+            let w = terms[j].0;
+            (0..heads).filter(|&i| i != j).find_map(|i| {
+                let h = terms[i].0;
+                if j >= heads && typo(w, h) {
+                    Some((i, "a typo of"))
+                } else if abbreviates(w, h, &known) {
+                    Some((i, "an abbreviation of"))
+                } else {
+                    None
+                }
+            })
+        })
+        .collect();
+    for (j, found) in attach.into_iter().enumerate() {
+        if let Some((i, how)) = found {
+            if uf.find(i as u32) != uf.find(j as u32) {
+                uf.union(i as u32, j as u32);
+                joined[j] = Some((i, how));
+            }
+        }
+    }
+    let mut by_root: HashMap<u32, Vec<usize>> = HashMap::new();
+    for i in 0..terms.len() {
+        by_root.entry(uf.find(i as u32)).or_default().push(i);
+    }
+    // Members are in index order, so a group holding a frequent word starts with it.
+    let mut groups: Vec<Group> = by_root
+        .into_values()
+        .filter(|members| members[0] < heads)
+        .map(|members| {
+            let mut spellings: Vec<String> = members.iter().map(|&i| terms[i].0.clone()).collect();
+            let mut entries: Vec<u32> = Vec::new();
+            for &i in &members {
+                entries = union(&entries, terms[i].1);
+            }
+            // Two-word spellings with the same letters (`power shift` for `powershift`).
+            let keys: HashSet<String> = spellings.iter().map(|s| letters(s)).collect();
+            let mut phrases: Vec<(&String, &Vec<u32>)> = index
+                .phrases
+                .iter()
+                .filter(|(p, _)| keys.contains(&letters(p)))
+                .collect();
+            phrases.sort_by(|a, b| {
+                corpus
+                    .rows_of(b.1)
+                    .cmp(&corpus.rows_of(a.1))
+                    .then_with(|| a.0.cmp(b.0))
+            });
+            for (p, s) in phrases {
+                spellings.push(p.clone());
+                entries = union(&entries, s);
+            }
+            let grouped = members
+                .iter()
+                .filter_map(|&j| {
+                    joined[j].map(|(i, how)| format!("{:?} is {how} {:?}", terms[j].0, terms[i].0))
+                })
+                .collect();
+            let rows = corpus.rows_of(&entries);
+            Group {
+                spellings,
+                entries,
+                rows,
+                grouped,
+            }
+        })
+        .collect();
+    groups.sort_by(|a, b| {
+        b.rows
+            .cmp(&a.rows)
+            .then_with(|| a.spellings[0].cmp(&b.spellings[0]))
+    });
+    groups
+}
+
+/// The largest set (by rows) of at least three groups that rarely share a
+/// value, each with its index in `groups` (ascending).
+fn exclusive_family(corpus: &Corpus, groups: &[Group]) -> Option<Vec<usize>> {
+    let n = groups.len();
+    let exclusive: Vec<Vec<bool>> = (0..n)
+        .into_par_iter()
+        .map(|a| {
+            (0..n)
+                .map(|b| {
+                    let (ga, gb) = (&groups[a], &groups[b]);
+                    a == b
+                        || shared_rows(corpus, &ga.entries, &gb.entries) as f64
+                            <= EXCLUSIVE * ga.rows.min(gb.rows) as f64
+                })
+                .collect()
+        })
+        .collect();
+    let mut best: Option<(u64, Vec<usize>)> = None;
+    for seed in 0..n {
+        let mut family = vec![seed];
+        for i in (seed + 1)..n {
+            if family.iter().all(|&m| exclusive[m][i]) {
+                family.push(i);
+            }
+        }
+        if family.len() < 3 {
+            continue;
+        }
+        let rows: u64 = family.iter().map(|&m| groups[m].rows).sum();
+        if best.as_ref().is_none_or(|(r, _)| rows > *r) {
+            best = Some((rows, family));
+        }
+    }
+    best.map(|(_, f)| f)
+}
+
+fn label_proposal(corpus: &Corpus, members: &[Group], opts: &ProposeOptions) -> Proposal {
+    let mut entries = Vec::new();
+    for m in members {
+        entries = union(&entries, &m.entries);
+    }
+    let mut notes = vec![format!(
+        "{} word groups that rarely share a value (each shares at most {:.0}% of its rows with another): one case each",
+        members.len(),
+        EXCLUSIVE * 100.0
+    )];
+    notes.extend(members.iter().flat_map(|m| m.grouped.iter().cloned()));
+    Proposal {
+        name: "family".to_owned(),
+        rule: ProposedRule::Label {
+            cases: members
+                .iter()
+                .map(|m| (m.spellings[0].clone(), m.spellings.clone()))
+                .collect(),
+            default: Some("other".to_owned()),
+        },
+        distinct: entries.len() as u64,
+        rows: corpus.rows_of(&entries),
+        examples: corpus.examples(&entries, opts.examples),
+        notes,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn none(_: &str) -> bool {
+        false
+    }
+
+    #[test]
+    fn typos_and_abbreviations_group() {
+        assert!(same_word("turbo", "trubo", &none));
+        assert!(same_word("dsl", "diesel", &none));
+        assert!(same_word("man", "manual", &none));
+        assert!(same_word("auto", "automatic", &none));
+        assert!(!same_word("gas", "diesel", &none));
+        assert!(!same_word("x", "xl", &none));
+        // `powershift` is `power` glued to `shift`, a word of its own.
+        assert!(!same_word("power", "powershift", &|w| w == "shift"));
+    }
+
+    #[test]
+    fn words_and_phrases_of_a_value() {
+        let (w, p) = words_of("16 spd power-shift w/ creeper t/c");
+        for word in ["spd", "power", "shift", "w/", "creeper", "t/c"] {
+            assert!(w.contains(&word.to_owned()), "{word} in {w:?}");
+        }
+        assert!(p.contains(&"power-shift".to_owned()), "{p:?}");
+        assert!(!w.contains(&"16".to_owned()));
+    }
+}
