@@ -1,0 +1,104 @@
+"""Time `descry propose` on columns with at least 100,000 distinct values.
+
+Generates the demo listings (invented data) with enough rows, counts the
+distinct values of each column with `descry survey`, then runs
+`descry propose` on each column several times and prints the median wall
+time, the peak memory (the child's maximum RSS) and the draft's coverage.
+The target is under 30 seconds per column on the 2-core CI machine.
+
+Standard library only: python3 benches/propose_scale.py target/release/descry
+"""
+
+import argparse
+import json
+import os
+import platform
+import statistics
+import subprocess
+import sys
+import time
+
+
+def run_with_rss(cmd):
+    start = time.perf_counter()
+    pid = os.fork()
+    if pid == 0:
+        with open(os.devnull, "wb") as null:
+            os.dup2(null.fileno(), 2)
+        out = os.open(cmd_out_path(), os.O_WRONLY | os.O_CREAT | os.O_TRUNC, 0o644)
+        os.dup2(out, 1)
+        os.execv(cmd[0], cmd)
+    _, status, usage = os.wait4(pid, 0)
+    seconds = time.perf_counter() - start
+    if os.waitstatus_to_exitcode(status) != 0:
+        sys.exit(f"failed ({os.waitstatus_to_exitcode(status)}): {' '.join(cmd)}")
+    with open(cmd_out_path()) as f:
+        out = f.read()
+    return seconds, usage.ru_maxrss / 1024, out
+
+
+OUT_DIR = "bench-out/propose"
+
+
+def cmd_out_path():
+    return os.path.join(OUT_DIR, "last-stdout.json")
+
+
+def main():
+    ap = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
+    ap.add_argument("descry")
+    ap.add_argument("--rows", type=int, default=900_000, help="listings to generate (default 900,000)")
+    ap.add_argument("--runs", type=int, default=3)
+    ap.add_argument("--columns", default="transmission,engine")
+    ap.add_argument("--min-distinct", type=int, default=100_000)
+    args = ap.parse_args()
+    os.makedirs(OUT_DIR, exist_ok=True)
+    data = os.path.join(OUT_DIR, f"rows-{args.rows}")
+    csv = os.path.join(data, "listings.csv")
+    if not os.path.exists(csv):
+        print(f"generating {args.rows:,} listings in {data} ...", flush=True)
+        subprocess.run([args.descry, "sample", "--rows", str(args.rows), "--seed", "7", "-o", data], check=True)
+    results = []
+    for column in args.columns.split(","):
+        survey = subprocess.run(
+            [args.descry, "survey", csv, "--column", column, "--format", "json", "--quiet"],
+            check=True, capture_output=True,
+        )
+        distinct = json.loads(survey.stdout)["distinct"]
+        if distinct < args.min_distinct:
+            sys.exit(f"{column} has {distinct:,} distinct values, fewer than {args.min_distinct:,}: give more --rows")
+        draft = os.path.join(OUT_DIR, f"{column}.draft.toml")
+        times, rss = [], []
+        for _ in range(args.runs):
+            seconds, peak, out = run_with_rss(
+                [args.descry, "propose", csv, "--column", column, "-o", draft, "--force", "--quiet", "--format", "json"]
+            )
+            times.append(seconds)
+            rss.append(peak)
+        report = json.loads(out)
+        results.append({
+            "column": column,
+            "distinct": distinct,
+            "rules": len(report["draft"]["proposals"]),
+            "coverage": report["check"]["coverage"]["row_share"],
+            "median_s": statistics.median(times),
+            "runs_s": times,
+            "peak_mib": max(rss),
+        })
+    print(f"\nmachine: {platform.machine()}, {os.cpu_count()} cores, {platform.system()} {platform.release()}")
+    print(f"data: descry sample --rows {args.rows:,} --seed 7 (CSV {os.path.getsize(csv) / 2**20:,.0f} MiB)\n")
+    print("| column | distinct values | rules | draft coverage | median time | runs | peak memory | target |")
+    print("|---|---:|---:|---:|---:|---|---:|---|")
+    for r in results:
+        runs = ", ".join(f"{t:.1f}" for t in r["runs_s"])
+        verdict = "met" if r["median_s"] < 30 else "NOT met"
+        print(
+            f"| {r['column']} | {r['distinct']:,} | {r['rules']} | {r['coverage'] * 100:.2f}% | "
+            f"{r['median_s']:.1f} s | {runs} | {r['peak_mib']:,.0f} MiB | < 30 s: {verdict} |"
+        )
+    with open(os.path.join(OUT_DIR, "propose-latest.json"), "w") as f:
+        json.dump(results, f, indent=2)
+
+
+if __name__ == "__main__":
+    main()
