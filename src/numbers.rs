@@ -1,5 +1,5 @@
-//! The `{int}` and `{num}` pattern macros: the regex text they expand to and
-//! the parser that turns their captured text into a number.
+//! The `{int}`, `{num}` and `{count}` pattern macros: the regex text they
+//! expand to and the parser that turns their captured text into a number.
 //!
 //! The expansion and the parser are written together so that whatever the
 //! macro can match, the parser can read.
@@ -39,10 +39,89 @@ impl DecimalMark {
 pub enum Macro {
     Int,
     Num,
+    /// `{int}` or an English number word from zero to ninety-nine.
+    Count,
+}
+
+/// English number words, longest first within each family so that the
+/// leftmost-first regex never stops at `seven` in `seventeen`.
+const TEENS: &[(&str, u32)] = &[
+    ("thirteen", 13),
+    ("fourteen", 14),
+    ("fifteen", 15),
+    ("sixteen", 16),
+    ("seventeen", 17),
+    ("eighteen", 18),
+    ("nineteen", 19),
+    ("eleven", 11),
+    ("twelve", 12),
+    ("ten", 10),
+];
+const UNITS: &[(&str, u32)] = &[
+    ("zero", 0),
+    ("one", 1),
+    ("two", 2),
+    ("three", 3),
+    ("four", 4),
+    ("five", 5),
+    ("six", 6),
+    ("seven", 7),
+    ("eight", 8),
+    ("nine", 9),
+];
+const TENS: &[(&str, u32)] = &[
+    ("twenty", 20),
+    ("thirty", 30),
+    ("forty", 40),
+    ("fifty", 50),
+    ("sixty", 60),
+    ("seventy", 70),
+    ("eighty", 80),
+    ("ninety", 90),
+];
+
+fn words(list: &[(&str, u32)]) -> String {
+    list.iter().map(|(w, _)| *w).collect::<Vec<_>>().join("|")
+}
+
+/// The value of an English number word (`six`, `twelve`, `thirty-two`,
+/// `thirty two`), any case; `None` otherwise.
+///
+/// ```
+/// use descry::numbers::number_word;
+/// assert_eq!(number_word("Twelve"), Some(12));
+/// assert_eq!(number_word("thirty-two"), Some(32));
+/// assert_eq!(number_word("4"), None);
+/// ```
+pub fn number_word(text: &str) -> Option<u32> {
+    let text = text.trim().to_lowercase();
+    let find = |list: &[(&str, u32)], w: &str| list.iter().find(|(x, _)| *x == w).map(|(_, v)| *v);
+    let mut parts = text.split(['-', ' ']).filter(|p| !p.is_empty());
+    let first = parts.next()?;
+    match (parts.next(), parts.next()) {
+        (None, _) => find(UNITS, first)
+            .or_else(|| find(TEENS, first))
+            .or_else(|| find(TENS, first)),
+        (Some(second), None) => Some(find(TENS, first)? + find(UNITS, second).filter(|&u| u > 0)?),
+        _ => None,
+    }
 }
 
 impl Macro {
-    pub const ALL: [(Macro, &'static str); 2] = [(Macro::Int, "{int}"), (Macro::Num, "{num}")];
+    pub const ALL: [(Macro, &'static str); 3] = [
+        (Macro::Int, "{int}"),
+        (Macro::Num, "{num}"),
+        (Macro::Count, "{count}"),
+    ];
+
+    /// Text as long as the macro's name that stands for "one number" while
+    /// the user's pattern is checked, so error offsets fall in the pattern.
+    pub fn placeholder(self) -> &'static str {
+        match self {
+            Macro::Int | Macro::Num => r"\d{1}",
+            Macro::Count => r"\d{1,1}",
+        }
+    }
 
     /// The regex fragment (a non-capturing group) the macro expands to.
     ///
@@ -54,6 +133,13 @@ impl Macro {
         let grouped = format!(r"\d{{1,3}}(?:{t}\d{{3}})+");
         match self {
             Macro::Int => format!(r"(?:{grouped}|\d+)"),
+            Macro::Count => {
+                let (tens, teens, units) = (words(TENS), words(TEENS), words(UNITS));
+                let ones = words(&UNITS[1..]);
+                format!(
+                    r"(?:{grouped}|\d+|(?i:\b(?:(?:{tens})(?:[- ]?(?:{ones}))?|{teens}|{units})\b))"
+                )
+            }
             Macro::Num => {
                 // U+2044 FRACTION SLASH is what NFKC makes of "½" and friends.
                 let slash = r"[/\u{2044}]";
@@ -65,10 +151,12 @@ impl Macro {
     }
 }
 
-/// Parse text captured by `{int}` or `{num}` (or a user's own digits group).
+/// Parse text captured by `{int}`, `{num}` or `{count}` (or a user's own
+/// digits group).
 ///
 /// Accepts plain integers, thousands separators, decimals (also `.75`),
-/// simple fractions `1/2` and mixed numbers `7-1/2` / `7 1/2`.
+/// simple fractions `1/2`, mixed numbers `7-1/2` / `7 1/2`, and the number
+/// words of `{count}` ([`number_word`]).
 ///
 /// ```
 /// use descry::numbers::{parse_number, DecimalMark};
@@ -84,7 +172,7 @@ pub fn parse_number(text: &str, mark: DecimalMark) -> Option<f64> {
     if let Some(value) = parse_fraction_forms(text) {
         return Some(value);
     }
-    parse_decimal(text, mark)
+    parse_decimal(text, mark).or_else(|| number_word(text).map(f64::from))
 }
 
 /// Parse a whole number; `None` when the text is not an integer (`4.5`).
@@ -167,6 +255,34 @@ mod tests {
     fn whole_match(m: Macro, mark: DecimalMark, text: &str) -> bool {
         let re = Regex::new(&format!("^{}$", m.expansion(mark))).unwrap();
         re.is_match(text)
+    }
+
+    #[test]
+    fn count_reads_digits_and_number_words() {
+        let re = regex::Regex::new(&format!("^{}$", Macro::Count.expansion(P))).unwrap();
+        for (text, value) in [
+            ("6", 6),
+            ("1,800", 1800),
+            ("six", 6),
+            ("Twelve", 12),
+            ("seventeen", 17),
+            ("seventy", 70),
+            ("thirty-two", 32),
+            ("thirty two", 32),
+            ("ninety-nine", 99),
+            ("zero", 0),
+        ] {
+            assert!(re.is_match(text), "{{count}} should match {text}");
+            assert_eq!(parse_integer(text, P), Some(value), "{text}");
+        }
+        for text in ["twenty-zero", "sixs", "phone", "hundred", "4.5"] {
+            assert!(!re.is_match(text), "{{count}} should not match {text}");
+        }
+        // Inside a longer word there is no number.
+        let spd =
+            regex::Regex::new(&format!(r"({})\s?-?speed", Macro::Count.expansion(P))).unwrap();
+        assert_eq!(&spd.captures("eighteen-speed").unwrap()[1], "eighteen");
+        assert!(spd.captures("often-speed").is_none());
     }
 
     #[test]

@@ -72,10 +72,6 @@ enum Engine {
     Fancy(fancy_regex::Regex),
 }
 
-/// The same length as `{int}` and `{num}`, so that error offsets found in
-/// the placeholder text are offsets in the user's pattern too.
-const PLACEHOLDER: &str = r"\d{1}";
-
 impl Pattern {
     /// Compile `source`; errors carry the position in `source`.
     pub fn compile(source: &str, fancy: bool, mark: DecimalMark) -> Result<Pattern, RulesetError> {
@@ -171,7 +167,9 @@ fn expand_macros(source: &str, mark: DecimalMark) -> (String, String, Vec<usize>
         match hit {
             Some((m, name)) => {
                 offsets.push(rest);
-                placeholder.push_str(PLACEHOLDER);
+                // As long as the macro's name: error offsets found in the
+                // placeholder text are offsets in the user's pattern too.
+                placeholder.push_str(m.placeholder());
                 expanded.push_str(&m.expansion(mark));
                 rest += name.len();
             }
