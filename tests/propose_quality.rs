@@ -1,7 +1,7 @@
 //! How good an unedited `propose` draft is, on data it was not drafted from.
 //!
 //! The draft is proposed from the demo generator's standard spellings
-//! (seed 7) and scored on a drop drawn with another seed (8) and the
+//! (seed 7) and scored on two drops drawn with other seeds (8 and 9) and the
 //! extended variants: formats the drafting data never contains (`six-speed`,
 //! `(6)`, `cyl x4`, `straight-6`, `4 1/2 L`, `1,800 cc`, `PS`, ...). Scored
 //! against the generator's truth:
@@ -28,6 +28,8 @@ use descry::sample::{generate, Entry, Sample, SampleOptions, Variants};
 use descry::{CoverageReport, Ruleset, Vocabulary};
 
 const ROWS: usize = 20_000;
+/// Seeds of the drops the draft is scored on (it is drafted from seed 7).
+const DROP_SEEDS: [u64; 2] = [8, 9];
 
 fn sample(seed: u64, variants: Variants) -> Sample {
     generate(&SampleOptions {
@@ -158,16 +160,23 @@ fn run<F>(
     truth: fn(&Sample) -> &BTreeMap<String, Entry<F>>,
     numeric: &[Numeric<F>],
     family: &[Family<F>],
-) -> (Scores, Scores) {
+) -> Vec<Scores> {
     let drafting = sample(7, Variants::Standard);
-    let drop = sample(8, Variants::Extended);
     let vocab = vocabulary(drafting.listings.iter().map(pick));
     let draft = propose(&vocab, column, &ProposeOptions::default()).unwrap();
     let toml = draft.to_toml();
     let rules = Ruleset::from_toml(&toml, "draft.toml").expect("the draft loads unchanged");
     let inside = score(&rules, &vocab, truth(&drafting), numeric, family);
-    let test_vocab = vocabulary(drop.listings.iter().map(pick));
-    let outside = score(&rules, &test_vocab, truth(&drop), numeric, family);
+    // Two new drops, so that a figure is not the luck of one seed.
+    let drops: Vec<(String, Scores)> = DROP_SEEDS
+        .iter()
+        .map(|&seed| {
+            let drop = sample(seed, Variants::Extended);
+            let test_vocab = vocabulary(drop.listings.iter().map(pick));
+            let scores = score(&rules, &test_vocab, truth(&drop), numeric, family);
+            (format!("new drop (seed {seed}, extended)"), scores)
+        })
+        .collect();
     println!(
         "\n== {column}: draft of {} rules from {} distinct values",
         draft.proposals.len(),
@@ -176,10 +185,10 @@ fn run<F>(
     if std::env::var_os("DESCRY_SHOW_DRAFT").is_some() {
         println!("{toml}");
     }
-    for (what, s) in [
-        ("drafting data (seed 7, standard)", &inside),
-        ("new drop (seed 8, extended)", &outside),
-    ] {
+    let inside_name = "drafting data (seed 7, standard)".to_owned();
+    for (what, s) in
+        std::iter::once((&inside_name, &inside)).chain(drops.iter().map(|(w, s)| (w, s)))
+    {
         println!(
             "{column}, {what}: coverage {:.2}% of rows",
             s.coverage * 100.0
@@ -194,7 +203,7 @@ fn run<F>(
             println!("    disagrees: {note}");
         }
     }
-    (inside, outside)
+    drops.into_iter().map(|(_, s)| s).collect()
 }
 
 fn share_of(s: &Scores, attr: &str) -> f64 {
@@ -213,7 +222,7 @@ fn assert_floor(what: &str, got: f64, floor: f64) {
 #[test]
 fn transmission_draft_on_a_new_drop() {
     use descry::sample::GearboxFeatures as G;
-    let (_, s) = run(
+    let drops = run(
         "transmission",
         |l| l.transmission.as_deref(),
         |s| &s.truth.transmission,
@@ -223,20 +232,21 @@ fn transmission_draft_on_a_new_drop() {
         ],
         &[("kind", |f: &G| Some(f.kind.label().to_owned()))],
     );
-    // Measured (README, "propose"): coverage 94.16%, gears 87.74%,
-    // max_speed_kmh 100%, kind 88.42%. Most misses are spellings the
-    // drafting data never shows: number words (`twelve-speed`, which the
-    // `{int}` macro does not read) and new kind words (`H.S.T.`, `stick`).
-    assert_floor("transmission coverage", s.coverage, 0.93);
-    for (attr, floor) in [("gears", 0.86), ("max_speed_kmh", 0.99), ("kind", 0.87)] {
-        assert_floor(attr, share_of(&s, attr), floor);
+    // Floors a little under the lowest of the two drops; the figures are in
+    // the README ("How good is an unedited draft?"). The misses are forms the
+    // drafting data never shows (`5-gear`, `19 ratios`, `(8)`, `stick`).
+    for s in &drops {
+        assert_floor("transmission coverage", s.coverage, 0.96);
+        for (attr, floor) in [("gears", 0.92), ("max_speed_kmh", 0.99), ("kind", 0.88)] {
+            assert_floor(attr, share_of(s, attr), floor);
+        }
     }
 }
 
 #[test]
 fn engine_draft_on_a_new_drop() {
     use descry::sample::EngineFeatures as E;
-    let (_, s) = run(
+    let drops = run(
         "engine",
         |l| l.engine.as_deref(),
         |s| &s.truth.engine,
@@ -247,17 +257,17 @@ fn engine_draft_on_a_new_drop() {
         ],
         &[("fuel", |f: &E| f.fuel.map(|x| x.label().to_owned()))],
     );
-    // Measured (README, "propose"): coverage 98.18%, cylinders 88.02%,
-    // displacement_l 99.99%, power_hp 99.98%, fuel 92.91%. Cylinder misses
-    // are number words (`four cyl`) and forms the drafting data never shows
-    // (`cyl x4`, `inline 4`).
-    assert_floor("engine coverage", s.coverage, 0.97);
-    for (attr, floor) in [
-        ("cylinders", 0.86),
-        ("displacement_l", 0.99),
-        ("power_hp", 0.99),
-        ("fuel", 0.91),
-    ] {
-        assert_floor(attr, share_of(&s, attr), floor);
+    // Floors a little under the lowest of the two drops (README). Cylinder
+    // misses are a form the drafting data never shows (`cyl x4`).
+    for s in &drops {
+        assert_floor("engine coverage", s.coverage, 0.97);
+        for (attr, floor) in [
+            ("cylinders", 0.94),
+            ("displacement_l", 0.99),
+            ("power_hp", 0.99),
+            ("fuel", 0.92),
+        ] {
+            assert_floor(attr, share_of(s, attr), floor);
+        }
     }
 }

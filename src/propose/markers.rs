@@ -46,6 +46,8 @@ const MAX_COUNT: i64 = 999;
 static NUMBER: LazyLock<Regex> =
     LazyLock::new(|| Regex::new(&Macro::Num.expansion(DecimalMark::Point)).expect("number regex"));
 static WORD_AFTER: LazyLock<Regex> = LazyLock::new(|| Regex::new(r"^\s?-?\s?(\p{L}+)").unwrap());
+static WORD_AHEAD: LazyLock<Regex> =
+    LazyLock::new(|| Regex::new(r"(?:^|[^\p{L}])(\p{L}+) $").unwrap());
 static WORD_BEFORE: LazyLock<Regex> =
     LazyLock::new(|| Regex::new(r"(?:^|[^\p{L}])(\p{L}+)-?$").unwrap());
 static UNIT_AFTER: LazyLock<Regex> = LazyLock::new(|| {
@@ -73,6 +75,8 @@ enum Mark {
     After(String),
     /// A word glued before it (`v8`).
     Before(String),
+    /// A word and one space before it (`inline 4`).
+    Ahead(String),
     /// `12/12`: a slash and another number after it.
     Slash,
     /// `(6)`.
@@ -160,6 +164,11 @@ fn scan(entry: u32, value: &str) -> (Vec<Seen>, Vec<UnitSeen>) {
             let w = c.get(1).expect("word group");
             if w.start() >= unit_end {
                 push(Mark::Before(w.as_str().to_owned()));
+            }
+        } else if let Some(c) = WORD_AHEAD.captures(before) {
+            let w = c.get(1).expect("word group");
+            if w.start() >= unit_end {
+                push(Mark::Ahead(w.as_str().to_owned()));
             }
         }
     }
@@ -302,7 +311,7 @@ fn counts(
     // unit (`v` in `v8` and in `48v`).
     let mut adjacent: HashMap<&str, Vec<u32>> = HashMap::new();
     for s in seen {
-        if let Mark::After(w) | Mark::Before(w) = &s.mark {
+        if let Mark::After(w) | Mark::Before(w) | Mark::Ahead(w) = &s.mark {
             adjacent.entry(w.as_str()).or_default().push(s.entry);
         }
     }
@@ -335,6 +344,9 @@ fn counts(
             Mark::After(w) | Mark::Before(w) => {
                 bound_rows(w) as f64 >= BINDING * words.rows(corpus, w) as f64
             }
+            // A spaced word ahead is a marker only if it stands there
+            // itself most of the time (`inline 4`, not `diesel 4 cyl`).
+            Mark::Ahead(w) => rows as f64 >= BINDING * words.rows(corpus, w) as f64,
             Mark::Slash | Mark::Paren => true,
         };
         if !bound {
@@ -380,7 +392,7 @@ fn counts(
     let mut out = Vec::new();
     for node in nodes.into_iter().filter(|n| n.rows >= min_rows) {
         for m in &node.marks {
-            if let Mark::After(w) | Mark::Before(w) = m {
+            if let Mark::After(w) | Mark::Before(w) | Mark::Ahead(w) = m {
                 marker_words.insert(w.clone());
             }
         }
@@ -398,9 +410,9 @@ fn group_spellings(nodes: &mut Vec<Node>, words: &WordIndex) {
         while j < nodes.len() {
             let same = nodes[i].marks.iter().any(|x| {
                 nodes[j].marks.iter().any(|y| match (x, y) {
-                    (Mark::After(a), Mark::After(b)) | (Mark::Before(a), Mark::Before(b)) => {
-                        same_word(a, b, &known)
-                    }
+                    (Mark::After(a), Mark::After(b))
+                    | (Mark::Before(a), Mark::Before(b))
+                    | (Mark::Ahead(a), Mark::Ahead(b)) => same_word(a, b, &known),
                     _ => false,
                 })
             });
@@ -461,31 +473,37 @@ fn alternative(mark: &Mark, spellings: &[&str]) -> String {
     };
     match mark {
         Mark::After(_) => format!(
-            r"(?:^|[^\d.,])({{int}})\s?-?\s?(?:{})\.?(?:[^\p{{L}}]|$)",
+            r"(?:^|[^\d.,])({{count}})\s?-?\s?(?:{})\.?(?:[^\p{{L}}]|$)",
             alt()
         ),
         Mark::Before(_) => format!(
-            r"(?:^|[^\p{{L}}])(?:{})-?({{int}})(?:[^\d.,]|[.,]\D|[.,]?$)",
+            r"(?:^|[^\p{{L}}])(?:{})-?({{count}})(?:[^\d.,]|[.,]\D|[.,]?$)",
             alt()
         ),
-        Mark::Slash => r"(?:^|[^\d.,/])({int})\s?/\s?\d".to_owned(),
-        Mark::Paren => r"\(\s?({int})\s?\)".to_owned(),
+        Mark::Ahead(_) => format!(
+            r"(?:^|[^\p{{L}}])(?:{}) ({{count}})(?:[^\d.,]|[.,]\D|[.,]?$)",
+            alt()
+        ),
+        Mark::Slash => r"(?:^|[^\d.,/])({count})\s?/\s?\d".to_owned(),
+        Mark::Paren => r"\(\s?({count})\s?\)".to_owned(),
     }
 }
 
 fn count_proposal(corpus: &Corpus, node: &Node, opts: &ProposeOptions) -> Proposal {
     let mut after: Vec<&str> = Vec::new();
     let mut before: Vec<&str> = Vec::new();
+    let mut ahead: Vec<&str> = Vec::new();
     let mut others: Vec<&Mark> = Vec::new();
     for m in &node.marks {
         match m {
             Mark::After(w) => after.push(w),
             Mark::Before(w) => before.push(w),
+            Mark::Ahead(w) => ahead.push(w),
             _ => others.push(m),
         }
     }
     // Longest spellings first, so `speed` is tried before `sp`.
-    for list in [&mut after, &mut before] {
+    for list in [&mut after, &mut before, &mut ahead] {
         list.sort_by(|a, b| b.len().cmp(&a.len()).then_with(|| a.cmp(b)));
     }
     let mut parts = Vec::new();
@@ -494,6 +512,9 @@ fn count_proposal(corpus: &Corpus, node: &Node, opts: &ProposeOptions) -> Propos
     }
     if !before.is_empty() {
         parts.push(alternative(&Mark::Before(String::new()), &before));
+    }
+    if !ahead.is_empty() {
+        parts.push(alternative(&Mark::Ahead(String::new()), &ahead));
     }
     others.sort();
     parts.extend(others.iter().map(|m| alternative(m, &[])));
@@ -506,7 +527,9 @@ fn count_proposal(corpus: &Corpus, node: &Node, opts: &ProposeOptions) -> Propos
             .marks
             .iter()
             .find_map(|m| match m {
-                Mark::After(w) | Mark::Before(w) => Some(format!("{}_count", rule_name(w))),
+                Mark::After(w) | Mark::Before(w) | Mark::Ahead(w) => {
+                    Some(format!("{}_count", rule_name(w)))
+                }
                 _ => None,
             })
             .unwrap_or_else(|| "count".to_owned()),
@@ -515,6 +538,7 @@ fn count_proposal(corpus: &Corpus, node: &Node, opts: &ProposeOptions) -> Propos
     let describe = |m: &Mark| match m {
         Mark::After(w) => format!("\"N {w}\""),
         Mark::Before(w) => format!("\"{w}N\""),
+        Mark::Ahead(w) => format!("\"{w} N\""),
         Mark::Slash => "\"N/N\"".to_owned(),
         Mark::Paren => "\"(N)\"".to_owned(),
     };
@@ -540,7 +564,9 @@ fn best_spelling(node: &Node) -> Option<String> {
         .marks
         .iter()
         .filter_map(|m| match m {
-            Mark::After(w) | Mark::Before(w) if w.chars().count() >= 2 => Some(w.as_str()),
+            Mark::After(w) | Mark::Before(w) | Mark::Ahead(w) if w.chars().count() >= 2 => {
+                Some(w.as_str())
+            }
             _ => None,
         })
         .collect();

@@ -144,6 +144,15 @@ pub(crate) fn same_word(a: &str, b: &str, known: &dyn Fn(&str) -> bool) -> bool 
     a == b || typo(a, b) || abbreviates(a, b, known) || abbreviates(b, a, known)
 }
 
+/// `h.s.t.` for an acronym-like word: two to four ASCII letters, no vowel.
+fn dotted_acronym(word: &str) -> Option<String> {
+    let acronym = (2..=4).contains(&word.len())
+        && word
+            .bytes()
+            .all(|b| b.is_ascii_lowercase() && !b"aeiou".contains(&b));
+    acronym.then(|| word.chars().map(|c| format!("{c}.")).collect())
+}
+
 /// A group of spellings of one word.
 struct Group {
     /// Spellings, most rows first.
@@ -304,12 +313,25 @@ fn word_groups(
                 spellings.push(p.clone());
                 entries = union(&entries, s);
             }
-            let grouped = members
+            let mut grouped: Vec<String> = members
                 .iter()
                 .filter_map(|&j| {
                     joined[j].map(|(i, how)| format!("{:?} is {how} {:?}", terms[j].0, terms[i].0))
                 })
                 .collect();
+            // Acronyms are also written with periods (`hst`, `h.s.t.`).
+            let dotted: Vec<String> = spellings
+                .iter()
+                .filter_map(|s| dotted_acronym(s))
+                .filter(|d| !spellings.contains(d))
+                .collect();
+            if !dotted.is_empty() {
+                grouped.push(format!(
+                    "acronyms with periods added: {}",
+                    dotted.join(", ")
+                ));
+                spellings.extend(dotted);
+            }
             let rows = corpus.rows_of(&entries);
             Group {
                 spellings,
@@ -408,6 +430,15 @@ mod tests {
         assert!(!same_word("x", "xl", &none));
         // `powershift` is `power` glued to `shift`, a word of its own.
         assert!(!same_word("power", "powershift", &|w| w == "shift"));
+    }
+
+    #[test]
+    fn acronyms_get_their_dotted_spelling() {
+        assert_eq!(dotted_acronym("hst").as_deref(), Some("h.s.t."));
+        assert_eq!(dotted_acronym("cvt").as_deref(), Some("c.v.t."));
+        assert_eq!(dotted_acronym("auto"), None);
+        assert_eq!(dotted_acronym("shft"), Some("s.h.f.t.".to_owned()));
+        assert_eq!(dotted_acronym("powershift"), None);
     }
 
     #[test]
