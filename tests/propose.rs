@@ -88,6 +88,35 @@ fn engine_draft_proposes_every_kind() {
 }
 
 #[test]
+fn the_draft_is_the_same_whatever_the_thread_count() {
+    let dir = tempfile::tempdir().unwrap();
+    let csv = sample_csv();
+    let mut drafts = Vec::new();
+    for threads in ["1", "2", "3"] {
+        let out = dir.path().join(format!("t{threads}.toml"));
+        let o = run(
+            &[
+                "--threads",
+                threads,
+                "propose",
+                s(&csv),
+                "-c",
+                "engine",
+                "-o",
+                s(&out),
+            ],
+            None,
+        );
+        assert!(o.status.success(), "{}", stderr(&o));
+        drafts.push(std::fs::read(&out).unwrap());
+    }
+    assert!(
+        drafts.windows(2).all(|w| w[0] == w[1]),
+        "drafts differ across --threads"
+    );
+}
+
+#[test]
 fn kinds_max_rules_and_prefix_are_obeyed() {
     let dir = tempfile::tempdir().unwrap();
     let (rules, _) = draft(

@@ -17,8 +17,8 @@ use super::common::{column_notes, emit, json_out, parse_share, print_notes, Form
 pub const ABOUT: &str = "\
 Draft a ruleset from a column's distinct values.
 
-Mines every distinct value once and proposes, each with the distinct values
-and rows it was found on and example values as comments:
+Mines every distinct value once and proposes rules, each written with the
+distinct values and rows it fires on and example values as comments:
   counts    a number next to a marker: \"6 spd\", \"4-cyl\", \"v8\", \"16F/16R\",
             \"5x1\", \"(6)\"; near-duplicate markers are grouped, and markers
             that read the same thing in different values are one count;

@@ -11,7 +11,7 @@ use serde::Serialize;
 use super::{Corpus, Draft, Proposal, ProposeOptions, ProposedRule};
 use crate::cluster::{cluster, tidy, ClusterOptions, Method};
 use crate::normalize::{CaseFold, UnicodeForm};
-use crate::pattern::Matcher;
+use crate::pattern::{Found, MatchError};
 use crate::render::{shown, thousands};
 use crate::ruleset::{Feature, Rule, Ruleset};
 
@@ -272,19 +272,19 @@ fn one_line(s: &str) -> String {
 /// matching label case, the number and unit groups of a count or measure.
 /// Label maps match whole values and are left out.
 fn spans(feature: &Feature, value: &str) -> Vec<Range<usize>> {
-    let groups = |m: &Matcher| match m.find(value) {
+    let read = |found: Result<Option<Found>, MatchError>| match found {
         Ok(Some(found)) if found.groups.is_empty() => vec![found.span],
         Ok(Some(found)) => found.groups.into_iter().flatten().collect(),
         _ => Vec::new(),
     };
     match &feature.rule {
-        Rule::Flag(f) => groups(&f.matcher),
-        Rule::Count(c) => groups(&Matcher::Pattern(c.pattern.clone())),
-        Rule::Measure(m) => groups(&Matcher::Pattern(m.pattern.clone())),
+        Rule::Flag(f) => read(f.matcher.find(value)),
+        Rule::Count(c) => read(c.pattern.find(value)),
+        Rule::Measure(m) => read(m.pattern.find(value)),
         Rule::Label(l) => l
             .cases
             .iter()
-            .map(|c| groups(&c.matcher))
+            .map(|c| read(c.matcher.find(value)))
             .find(|s| !s.is_empty())
             .unwrap_or_default(),
     }

@@ -20,6 +20,7 @@
 //! Numbers that look like parts of a code are skipped: with a leading zero
 //! (`0750`), or right after a digit and a `-`, `_`, `.` or `/` (`0181-1l`).
 
+use std::collections::BTreeMap;
 use std::sync::LazyLock;
 
 use hashbrown::{HashMap, HashSet};
@@ -180,8 +181,8 @@ struct Node {
     marks: Vec<Mark>,
     entries: Vec<u32>,
     rows: u64,
-    /// Whole number -> rows.
-    values: HashMap<i64, u64>,
+    /// Whole number -> rows (ordered, so that sums do not depend on a hash).
+    values: BTreeMap<i64, u64>,
     /// (entry, number read), sorted.
     readings: Vec<(u32, i64)>,
 }
@@ -352,7 +353,7 @@ fn counts(
         if !bound {
             continue;
         }
-        let mut values: HashMap<i64, u64> = HashMap::new();
+        let mut values: BTreeMap<i64, u64> = BTreeMap::new();
         let mut readings = Vec::new();
         let mut whole_rows = 0;
         let mut last = None;
