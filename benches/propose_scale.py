@@ -47,19 +47,25 @@ def cmd_out_path():
 def main():
     ap = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
     ap.add_argument("descry")
-    ap.add_argument("--rows", type=int, default=900_000, help="listings to generate (default 900,000)")
+    ap.add_argument(
+        "--plan",
+        default="transmission@900000,engine@280000,engine@900000",
+        help="column@rows,...: each column on a table of that many listings (the default gives "
+        "about 112,000, 124,000 and 343,000 distinct values)",
+    )
     ap.add_argument("--runs", type=int, default=3)
-    ap.add_argument("--columns", default="transmission,engine")
     ap.add_argument("--min-distinct", type=int, default=100_000)
     args = ap.parse_args()
     os.makedirs(OUT_DIR, exist_ok=True)
-    data = os.path.join(OUT_DIR, f"rows-{args.rows}")
-    csv = os.path.join(data, "listings.csv")
-    if not os.path.exists(csv):
-        print(f"generating {args.rows:,} listings in {data} ...", flush=True)
-        subprocess.run([args.descry, "sample", "--rows", str(args.rows), "--seed", "7", "-o", data], check=True)
     results = []
-    for column in args.columns.split(","):
+    for item in args.plan.split(","):
+        column, rows = item.split("@")
+        rows = int(rows)
+        data = os.path.join(OUT_DIR, f"rows-{rows}")
+        csv = os.path.join(data, "listings.csv")
+        if not os.path.exists(csv):
+            print(f"generating {rows:,} listings in {data} ...", flush=True)
+            subprocess.run([args.descry, "sample", "--rows", str(rows), "--seed", "7", "-o", data], check=True)
         survey = subprocess.run(
             [args.descry, "survey", csv, "--column", column, "--format", "json", "--quiet"],
             check=True, capture_output=True,
@@ -67,7 +73,7 @@ def main():
         distinct = json.loads(survey.stdout)["distinct"]
         if distinct < args.min_distinct:
             sys.exit(f"{column} has {distinct:,} distinct values, fewer than {args.min_distinct:,}: give more --rows")
-        draft = os.path.join(OUT_DIR, f"{column}.draft.toml")
+        draft = os.path.join(OUT_DIR, f"{column}-{rows}.draft.toml")
         times, rss = [], []
         for _ in range(args.runs):
             seconds, peak, out = run_with_rss(
@@ -78,6 +84,8 @@ def main():
         report = json.loads(out)
         results.append({
             "column": column,
+            "rows": rows,
+            "csv_mib": os.path.getsize(csv) / 2**20,
             "distinct": distinct,
             "rules": len(report["draft"]["proposals"]),
             "coverage": report["check"]["coverage"]["row_share"],
@@ -86,14 +94,14 @@ def main():
             "peak_mib": max(rss),
         })
     print(f"\nmachine: {platform.machine()}, {os.cpu_count()} cores, {platform.system()} {platform.release()}")
-    print(f"data: descry sample --rows {args.rows:,} --seed 7 (CSV {os.path.getsize(csv) / 2**20:,.0f} MiB)\n")
-    print("| column | distinct values | rules | draft coverage | median time | runs | peak memory | target |")
-    print("|---|---:|---:|---:|---:|---|---:|---|")
+    print("data: descry sample --rows N --seed 7\n")
+    print("| column | listings (CSV) | distinct values | rules | draft coverage | median time | runs | peak memory | target |")
+    print("|---|---:|---:|---:|---:|---:|---|---:|---|")
     for r in results:
         runs = ", ".join(f"{t:.1f}" for t in r["runs_s"])
         verdict = "met" if r["median_s"] < 30 else "NOT met"
         print(
-            f"| {r['column']} | {r['distinct']:,} | {r['rules']} | {r['coverage'] * 100:.2f}% | "
+            f"| {r['column']} | {r['rows']:,} ({r['csv_mib']:.0f} MiB) | {r['distinct']:,} | {r['rules']} | {r['coverage'] * 100:.2f}% | "
             f"{r['median_s']:.1f} s | {runs} | {r['peak_mib']:,.0f} MiB | < 30 s: {verdict} |"
         )
     with open(os.path.join(OUT_DIR, "propose-latest.json"), "w") as f:
