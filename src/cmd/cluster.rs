@@ -10,9 +10,8 @@ use clap::ValueEnum;
 use descry::cluster::map::write_label_map;
 use descry::cluster::text::cluster_text;
 use descry::cluster::{cluster, ClusterOptions, Digits, EditLimit, Fuzzy, Method};
-use descry::read::Table;
 
-use super::common::{json_out, print_notes, vocabulary_of, Format, InputArgs};
+use super::common::{json_out, read_vocabulary, Format, InputArgs};
 
 pub const ABOUT: &str = "\
 Group the distinct values of a column that are probably the same thing
@@ -139,13 +138,7 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
         },
         (Some(_), _) => bail!("--max-diameter applies to the fuzzy methods (qgram, levenshtein, osa, jaro-winkler); key and tokens groups are exact"),
     };
-    let table = Table::read_columns(
-        &args.input.input,
-        &[&args.column],
-        &args.input.read_options(),
-    )?;
-    print_notes(&table.notes, args.quiet);
-    let vocab = vocabulary_of(&table, &args.column)?;
+    let vocab = read_vocabulary(&args.input, &args.column, args.quiet)?;
     let digits = match args.digits {
         DigitsArg::Strict => Digits::Strict,
         DigitsArg::Loose => Digits::Loose,
