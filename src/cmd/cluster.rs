@@ -42,11 +42,12 @@ Digits are identity: values whose digit runs differ (PMP-0750 / PMP-0751,
 Groups are transitive (a~b and b~c group a, b and c); --max-diameter caps
 how far apart two members of one group may be, in the method's units.
 
-The fuzzy methods use a q-gram index (prefix filtering) instead of comparing
-all pairs: near-linear in the number of distinct values. It is exact for
-levenshtein, osa and qgram (every pair --exhaustive finds); for jaro-winkler
-it is a heuristic that finds at least 99% of them in our measurements. The
-output is the same whatever --threads is.
+The fuzzy methods use an index instead of comparing all pairs: segments
+for levenshtein and osa, rarest q-grams or characters for qgram and
+jaro-winkler. It finds every pair --exhaustive finds, except jaro-winkler on
+very large sets (about a hundred thousand values in one block, as with
+--digits loose), where a faster heuristic may miss a few (under 1% in our
+measurements). The output is the same whatever --threads is.
 
 --write-map FILE --label NAME adds a [[label]] named NAME to the ruleset FILE
 (created if missing) with a map from each member's normalized form to its
