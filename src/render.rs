@@ -11,6 +11,7 @@ use comfy_table::{presets, CellAlignment, ContentArrangement, Table};
 use crate::evaluate::{Cell, Trace};
 use crate::report::{cell_json, CoverageReport};
 use crate::ruleset::Ruleset;
+use crate::shape::is_invisible;
 
 /// Longest value shown in full in a text report, in characters.
 pub const SHOWN_MAX_CHARS: usize = 120;
@@ -40,11 +41,6 @@ pub fn shown(value: &str) -> String {
         );
     }
     out
-}
-
-/// Characters that render as nothing or as a plain space but are not one.
-fn is_invisible(c: char) -> bool {
-    matches!(c, '\u{a0}' | '\u{200b}'..='\u{200f}' | '\u{2028}'..='\u{202f}' | '\u{2060}'..='\u{206f}' | '\u{feff}')
 }
 
 /// `1234567` as `1,234,567`.

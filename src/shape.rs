@@ -54,6 +54,33 @@ pub fn class(c: char) -> CharClass {
     }
 }
 
+/// Zero-width characters: spaces and joiners that print as nothing.
+pub fn is_zero_width(c: char) -> bool {
+    matches!(
+        c,
+        '\u{200b}' | '\u{200c}' | '\u{200d}' | '\u{2060}' | '\u{feff}'
+    )
+}
+
+/// Bidirectional controls: they print as nothing but reorder what follows.
+pub fn is_bidi_control(c: char) -> bool {
+    matches!(c, '\u{200e}' | '\u{200f}' | '\u{202a}'..='\u{202e}' | '\u{2066}'..='\u{2069}')
+}
+
+/// Characters a terminal shows as nothing, or as a plain space although
+/// they are not one: the no-break spaces, line and paragraph separators,
+/// zero-width characters, bidirectional controls and the other invisible
+/// format characters. Text reports escape them (with the control
+/// characters), and `survey` reports them.
+pub fn is_invisible(c: char) -> bool {
+    is_zero_width(c)
+        || is_bidi_control(c)
+        || matches!(
+            c,
+            '\u{a0}' | '\u{2028}' | '\u{2029}' | '\u{202f}' | '\u{2061}'..='\u{2065}' | '\u{206a}'..='\u{206f}'
+        )
+}
+
 /// Longest digit run written out in full in a shape.
 const DIGITS_WRITTEN_OUT: usize = 6;
 
@@ -179,6 +206,16 @@ mod tests {
         assert_eq!(shape("eXtra"), "aA");
         assert_eq!(shape("12345678"), "9{8}");
         assert_eq!(shape(""), "");
+    }
+
+    #[test]
+    fn invisible_characters_are_the_spaces_zero_widths_and_format_controls() {
+        let expected = |c: char| matches!(c, '\u{a0}' | '\u{200b}'..='\u{200f}' | '\u{2028}'..='\u{202f}' | '\u{2060}'..='\u{206f}' | '\u{feff}');
+        for c in (0..=0x10ffff).filter_map(char::from_u32) {
+            assert_eq!(is_invisible(c), expected(c), "U+{:04X}", c as u32);
+        }
+        assert!(is_zero_width('\u{feff}') && is_bidi_control('\u{202e}'));
+        assert!(!is_invisible(' ') && !is_invisible('a'));
     }
 
     #[test]

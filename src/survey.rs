@@ -29,7 +29,9 @@ use unicode_normalization::UnicodeNormalization;
 
 use crate::normalize::Normalizer;
 use crate::render::{shown, thousands};
-use crate::shape::{class, letters_and_digits, shape, tokens, CharClass};
+use crate::shape::{
+    class, is_bidi_control, is_zero_width, letters_and_digits, shape, tokens, CharClass,
+};
 use crate::vocabulary::Vocabulary;
 
 pub const SURVEY_SCHEMA: &str = "descry.survey/1";
@@ -393,16 +395,11 @@ fn profile(
 }
 
 fn is_unusual_space(c: char) -> bool {
-    (c.is_whitespace() && c != ' ' && !c.is_control())
-        || matches!(
-            c,
-            '\u{200b}' | '\u{200c}' | '\u{200d}' | '\u{2060}' | '\u{feff}'
-        )
+    (c.is_whitespace() && c != ' ' && !c.is_control()) || is_zero_width(c)
 }
 
 fn is_control(c: char) -> bool {
-    c.is_control()
-        || matches!(c, '\u{200e}' | '\u{200f}' | '\u{202a}'..='\u{202e}' | '\u{2066}'..='\u{2069}')
+    c.is_control() || is_bidi_control(c)
 }
 
 /// The per-value anomalies of a non-blank value, as a bit set.
@@ -474,19 +471,23 @@ fn shapes(
         out[at].distinct += 1;
         out[at].rows += vocab.counts[i];
     }
-    out.sort_by(|a, b| {
-        (Reverse(a.rows), Reverse(a.distinct), &a.shape).cmp(&(
-            Reverse(b.rows),
-            Reverse(b.distinct),
-            &b.shape,
-        ))
-    });
-    let count = out.len() as u64;
-    out.truncate(top);
+    let count = rank_top(&mut out, top, |s| (s.rows, s.distinct, &s.shape));
     for s in &mut out {
         s.share = row_share(s.rows);
     }
     (count, out)
+}
+
+/// Sort most rows first, then most distinct values, then by name, and keep
+/// the first `top`; returns how many there were.
+fn rank_top<T>(items: &mut Vec<T>, top: usize, key: impl Fn(&T) -> (u64, u64, &str)) -> u64 {
+    items.sort_by(|a, b| {
+        let ((ra, da, na), (rb, db, nb)) = (key(a), key(b));
+        (Reverse(ra), Reverse(da), na).cmp(&(Reverse(rb), Reverse(db), nb))
+    });
+    let count = items.len() as u64;
+    items.truncate(top);
+    count
 }
 
 fn token_counts(vocab: &Vocabulary, profiles: &[Profile], top: usize) -> (u64, Vec<TokenCount>) {
@@ -524,15 +525,7 @@ fn token_counts(vocab: &Vocabulary, profiles: &[Profile], top: usize) -> (u64, V
             row_share: rows as f64 / rows_total,
         })
         .collect();
-    out.sort_by(|a, b| {
-        (Reverse(a.rows), Reverse(a.distinct), &a.token).cmp(&(
-            Reverse(b.rows),
-            Reverse(b.distinct),
-            &b.token,
-        ))
-    });
-    let count = out.len() as u64;
-    out.truncate(top);
+    let count = rank_top(&mut out, top, |t| (t.rows, t.distinct, &t.token));
     (count, out)
 }
 

@@ -168,29 +168,14 @@ fn the_index_finds_the_pairs_that_all_pairs_finds() {
                     },
                 );
                 let (found, truth) = (indexed.pairs.clone().unwrap(), all.pairs.clone().unwrap());
-                if let Fuzzy::JaroWinkler { .. } = method {
-                    // The Jaro-Winkler index is a heuristic: nothing invented.
-                    // Measured recall here: 0.89 to 0.92 on transmission, 0.64
-                    // and 0.51 on part numbers with --digits loose (0.996 on the
-                    // benchmark's values). The goal of 0.99 is not met on the
-                    // sample yet; this floor only guards against getting worse.
-                    assert!(
-                        found.iter().all(|p| truth.contains(p)),
-                        "{column} {method:?} {digits:?}"
-                    );
-                    assert!(
-                        found.len() as f64 >= 0.5 * truth.len() as f64,
-                        "{column} {method:?} {digits:?}: {} of {}",
-                        found.len(),
-                        truth.len()
-                    );
-                } else {
-                    assert_eq!(found, truth, "{column} {method:?} {digits:?}");
-                    assert_eq!(
-                        indexed.clusters, all.clusters,
-                        "{column} {method:?} {digits:?}"
-                    );
-                }
+                // Every method's index is exact on the sample (Jaro-Winkler
+                // switches to its heuristic only far above this size): the
+                // same pairs with the same scores, the same groups.
+                assert_eq!(found, truth, "{column} {method:?} {digits:?}");
+                assert_eq!(
+                    indexed.clusters, all.clusters,
+                    "{column} {method:?} {digits:?}"
+                );
                 println!(
                     "{column:12} {:40} {digits:?}: {} pairs, index compared {} of {} ({:.2}%)",
                     format!("{method:?}"),
@@ -303,7 +288,7 @@ fn groups_against_the_generators_truth() {
         (Method::Key, "transmission", 0.99, 0.04),
         (Method::Tokens, "transmission", 0.99, 0.05),
         (osa, "transmission", 0.97, 0.10),
-        (jaro_winkler, "transmission", 0.94, 0.12),
+        (jaro_winkler, "transmission", 0.94, 0.15),
         (Method::Key, "engine", 0.99, 0.09),
         (Method::Tokens, "engine", 0.99, 0.16),
         (osa, "engine", 0.95, 0.12),

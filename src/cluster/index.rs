@@ -1,49 +1,45 @@
 //! Finding the similar pairs among many values without comparing them all.
 //!
-//! Every fuzzy method uses the same machinery, a q-gram *prefix filter*:
-//! each value is cut into tokens (character q-grams, or single characters
-//! for Jaro-Winkler), tokens are ranked from rarest to commonest over the
-//! whole set, and an inverted index lists, for every token, the values that
-//! hold it (with the token's position). A value then looks up only its few
-//! rarest tokens (its *prefix*) and compares itself with the values found
-//! there. How long the prefix must be follows from the method's threshold:
+//! Values are first renumbered by length, so that "the values whose length
+//! lies in a band" is a range of numbers; every method then looks up, for
+//! each value, only candidates that a necessary condition of its threshold
+//! lets through, discards most of them with cheap bounds, and computes the
+//! real score of the rest.
 //!
-//! - **Levenshtein** within k edits: one edit destroys at most q of a value's
-//!   q-grams, so of any `q·k + 1` of them one survives in the other value, at
-//!   a position moved by at most k. The prefix is at most the `q·k + 1`
-//!   rarest q-grams, matched at positions within ±k. Exact: no pair is
-//!   missed. Values whose q-grams k edits can all destroy cannot promise a
-//!   survivor; they are compared with each other directly (they are few and
-//!   short). q is 3, or 2 for thresholds above 3 edits or relative to length.
-//! - **Optimal string alignment**: the same, with `q + 1` q-grams per edit (a
-//!   transposition touches two characters). Exact.
-//! - **q-gram Jaccard** at least s: two values share at least `s·|A|` of the
-//!   `|A|` distinct q-grams of the smaller one, so its `|A| − ⌈s·|A|⌉ + 1`
-//!   rarest q-grams include a shared one. Exact.
+//! - **Levenshtein and optimal string alignment** within k edits: by
+//!   *partition* (the pigeonhole principle). A value is split into `k + 1`
+//!   segments; k edits leave one of them untouched, and a counting argument
+//!   narrows where it can lie in the other value (see [`partition_pairs`]).
+//!   Every value is filed under its segments; every value looks up the
+//!   substrings at those places. A character-count bound (an edit changes
+//!   at most one count on each side) discards most candidates. Exact: no
+//!   pair is missed. The number of lookups grows with the square of the edit
+//!   limit; when it would exceed the number of pairs, all pairs are compared.
+//! - **q-gram Jaccard** at least s, by *prefix filter*: q-grams are ranked
+//!   from rarest to commonest over the whole set; two values share at least
+//!   `s·|A|` of the `|A|` distinct q-grams of the smaller one, so its
+//!   `|A| − ⌈s·|A|⌉ + 1` rarest q-grams include a shared one. Each value is
+//!   indexed under that prefix only and looks up the same prefix. Exact.
 //! - **Jaro-Winkler** at least s: the Jaro similarity is then at least
-//!   `j = (s − 0.4) / 0.6`, which needs at least `m = (3j − 1)·|a|/2` of the
-//!   shorter value's characters matched in the longer one, within the Jaro
-//!   window, and the longer value at most `|a| / (3j − 2)` long. Each of the
-//!   `u = |a| − m` unmatched characters breaks at most two bigrams; the
-//!   `u + 2` rarest bigrams are looked up, matched within the window, and a
-//!   cheap bound on the characters two values share discards candidates. This one is a heuristic, not a promise: Jaro matches
-//!   characters out of order, and a pair whose letters are scrambled enough
-//!   shares fewer bigrams than that. Its recall against all pairs is
-//!   measured by the tests and the benchmark (see the README).
+//!   `j = (s − 0.4) / 0.6`, which needs at least `m` matched characters with
+//!   `m/|a| + m/|b| >= 3j − 1`, and bounds the length ratio. Matched
+//!   characters are common characters, so a prefix filter over the
+//!   characters numbered by occurrence (`e#1`, `e#2`, ...) finds every pair:
+//!   exact. On characters (few and common) its posting lists are long, so it
+//!   is used when the postings it would visit stay under
+//!   [`EXACT_JARO_BUDGET`] (a few seconds of work). Above that (a large set
+//!   of values, such as 100,000 in one block with `--digits loose`) a
+//!   heuristic takes over (see [`large_jaro_winkler`]): values beginning
+//!   with the same four characters are searched together (exactly, group by
+//!   group), and the other pairs, whose Winkler bonus is smaller and whose
+//!   Jaro similarity must therefore be higher, by a bigram prefix filter
+//!   (see [`jaro_winkler_bigrams`]). The tests compare both with all pairs,
+//!   and the benchmark measures the heuristic's recall on 100,000 values
+//!   (see the README).
 //!
-//! For Jaccard and Jaro-Winkler both values of a pair look up their prefix,
-//! so the index holds only each value's prefix (the classic symmetric
-//! prefix filter): posting lists of common q-grams stay short.
-//!
-//! For the edit distances the prefix is shortened further: it only has to
-//! be long enough that k edits cannot destroy all of its q-grams, and one
-//! edit destroys only q-grams that start near each other (the fewest edits
-//! that destroy a set of q-grams is counted greedily). On top of the prefix,
-//! a length filter and a position filter discard most candidates before they
-//! are compared.
-//! Cost: the index holds one entry per token of every value (8 bytes each);
-//! time grows with the number of values times the length of the posting
-//! lists of their rarest tokens, which stays small on real vocabularies.
+//! Cost: the indexes hold a few entries of 8 to 16 bytes per character of
+//! every value; time grows with the number of values times the length of
+//! the posting lists of their rarest tokens.
 
 use hashbrown::HashMap;
 use rayon::prelude::*;
@@ -70,51 +66,14 @@ pub struct Found {
 /// Blocks smaller than this are compared pair by pair: an index costs more.
 const SMALL_BLOCK: usize = 48;
 
-/// q for the edit-distance indexes. Trigrams are the more selective, but a
-/// value can promise a surviving q-gram only while k edits cannot destroy
-/// all of its q-grams: with a threshold relative to the length (k grows
-/// with it) or above 3 edits, bigrams keep that promise for most values.
-fn edit_q(limit: &EditLimit) -> usize {
-    match limit {
-        EditLimit::Edits(k) if *k <= 3 => 3,
-        _ => 2,
-    }
-}
-
-/// The shortest prefix (in rank order) of a value's q-grams that `k` edits
-/// cannot all destroy, when one edit destroys the q-grams starting within
-/// `span` neighbouring positions; `None` when k edits can destroy them all.
-///
-/// The fewest edits that destroy a set of q-grams is found greedily: the
-/// leftmost q-gram not yet destroyed takes one edit, which also destroys
-/// every q-gram starting within `span` of it.
-fn promising_prefix(grams: &[(u32, u16)], span: usize, k: usize) -> Option<usize> {
-    let mut starts: Vec<usize> = Vec::with_capacity(grams.len());
-    for (taken, &(_, pos)) in grams.iter().enumerate() {
-        let at = starts.partition_point(|&p| p < pos as usize);
-        starts.insert(at, pos as usize);
-        let (mut edits, mut covered_to) = (0, None);
-        for &p in &starts {
-            if covered_to.is_none_or(|end| p > end) {
-                edits += 1;
-                covered_to = Some(p + span - 1);
-            }
-        }
-        if edits > k {
-            return Some(taken + 1);
-        }
-    }
-    None
-}
-
 /// All pairs of `values` within the method's limit, through the index.
 pub fn similar_pairs(values: &[Vec<char>], method: &Fuzzy) -> Found {
     if values.len() < SMALL_BLOCK {
         return all_pairs(values, method);
     }
     match method {
-        Fuzzy::Levenshtein(limit) => edit_pairs(values, *limit, edit_q(limit), edit_q(limit)),
-        Fuzzy::Osa(limit) => edit_pairs(values, *limit, edit_q(limit), edit_q(limit) + 1),
+        Fuzzy::Levenshtein(limit) => partition_pairs(values, *limit, false),
+        Fuzzy::Osa(limit) => partition_pairs(values, *limit, true),
         Fuzzy::QGram { q, min_similarity } => jaccard_pairs(values, *q, *min_similarity),
         Fuzzy::JaroWinkler { min_similarity } => jaro_winkler_pairs(values, *min_similarity),
     }
@@ -250,24 +209,10 @@ impl GramTable {
         }
     }
 
-    /// For every rank, the values holding it (ascending) with the position.
-    fn postings(&self, with_duplicates: bool) -> Vec<Vec<(u32, u16)>> {
-        let mut postings: Vec<Vec<(u32, u16)>> = vec![Vec::new(); self.distinct];
-        for (v, grams) in self.grams.iter().enumerate() {
-            let mut last = u32::MAX;
-            for &(r, pos) in grams {
-                if with_duplicates || r != last {
-                    postings[r as usize].push((v as u32, pos));
-                }
-                last = r;
-            }
-        }
-        postings
-    }
-
-    /// Like [`GramTable::postings`], but each value is entered only under the
-    /// first `prefix(value)` of its q-grams (rarest first): `distinct` counts
-    /// distinct q-grams, otherwise occurrences.
+    /// For every rank, the values holding it (ascending) with the position,
+    /// each value entered only under the first `prefix(value)` of its
+    /// q-grams (rarest first): `distinct` counts distinct q-grams, otherwise
+    /// occurrences.
     fn prefix_postings(
         &self,
         prefix: impl Fn(usize) -> usize,
@@ -368,86 +313,178 @@ where
 // Edit distances
 // ---------------------------------------------------------------------------
 
-fn edit_pairs(values: &[Vec<char>], limit: EditLimit, q: usize, grams_per_edit: usize) -> Found {
+/// The `τ + 1` segments of an even partition of a value of `len`
+/// characters: (start, length), the longer segments last.
+fn segments(len: usize, tau: usize) -> impl Iterator<Item = (usize, usize)> {
+    let parts = tau + 1;
+    let (base, longer) = (len / parts, len % parts);
+    (0..parts).map(move |i| {
+        let start = i * base + i.saturating_sub(parts - longer);
+        let length = base + usize::from(i >= parts - longer);
+        (start, length)
+    })
+}
+
+/// The key a segment is filed under: the value's length, the edit limit the
+/// partition is for, the segment's number and its characters, hashed. A
+/// hash collision only adds a candidate, which verification discards.
+fn segment_key(len: usize, tau: usize, segment: usize, chars: impl Iterator<Item = char>) -> u64 {
+    let mut h = ((len as u64) << 42) ^ ((tau as u64) << 21) ^ segment as u64;
+    h = h.wrapping_mul(0x9e37_79b9_7f4a_7c15);
+    for c in chars {
+        h = (h.rotate_left(23) ^ c as u64).wrapping_mul(0x9e37_79b9_7f4a_7c15);
+    }
+    h ^ (h >> 29)
+}
+
+/// Pairs within an edit limit, by partition (the pigeonhole principle):
+/// split a value `s` into `τ + 1` segments; a value within `τ` edits of it
+/// holds one of them unchanged. Which one, and where, is narrowed down: of
+/// the edits, there is a segment `i` (from 0) left untouched with at most
+/// `i` edits before it and at most `τ − i` after it, so it starts in the
+/// other value within `i` of where it starts in `s`, and within `τ − i` of
+/// that position moved by the difference in length. Every value is filed
+/// under its segments (for each edit limit a longer partner may give it);
+/// every value then looks up, for each shorter or equally long partner
+/// length, only the substrings at those positions. Exact.
+///
+/// For optimal string alignment a transposition across two segments
+/// changes both: counting it against the left one, the untouched segment
+/// may still have its first character swapped with the character before
+/// it, so that spelling is looked up too.
+fn partition_pairs(values: &[Vec<char>], limit: EditLimit, osa: bool) -> Found {
+    // About (τ + 1)² / 2 lookups per shorter partner length: with long
+    // values and a large limit, comparing all pairs is cheaper.
+    let lookups: u64 = values
+        .iter()
+        .map(|v| {
+            let lr = v.len();
+            (0..=lr)
+                .rev()
+                .map(|ls| (ls, limit.max_edits(ls, lr)))
+                .take_while(|&(ls, tau)| lr - ls <= tau)
+                .map(|(_, tau)| ((tau + 1) * (tau + 2) / 2) as u64)
+                .sum::<u64>()
+        })
+        .sum();
+    let n = values.len() as u64;
+    if lookups > n * n.saturating_sub(1) / 2 {
+        let method = if osa {
+            Fuzzy::Osa(limit)
+        } else {
+            Fuzzy::Levenshtein(limit)
+        };
+        return all_pairs(values, &method);
+    }
     let by_size = BySize::new(values.iter().map(Vec::len).collect());
     let values = by_size.reorder(values);
-    let table = GramTable::build(&values, q);
-    let postings = table.postings(true);
     let n = values.len();
-    let reach: Vec<usize> = by_size.sizes.iter().map(|&len| limit.reach(len)).collect();
-    // The prefix each value must look up, if it can promise a survivor.
-    let prefix: Vec<Option<usize>> = (0..n)
-        .map(|v| {
-            if values[v].len() < q {
-                None
-            } else {
-                promising_prefix(&table.grams[v], grams_per_edit, reach[v])
-            }
-        })
-        .collect();
-    let long: Vec<bool> = prefix.iter().map(Option::is_some).collect();
-    let compare = |a: u32, b: u32, cmp: &Comparator, found: &mut Found| {
-        let (la, lb) = (values[a as usize].len(), values[b as usize].len());
-        let k = limit.max_edits(la, lb);
-        if la.abs_diff(lb) > k {
-            return;
-        }
-        found.compared += 1;
-        if let Some(d) = cmp.distance_within(&values[b as usize], k) {
-            found.edges.push(by_size.edge(a, b, d as f64));
-        }
-    };
     let comparator = |v: &[char]| {
-        if grams_per_edit > q {
+        if osa {
             Comparator::osa(v)
         } else {
             Comparator::levenshtein(v)
         }
     };
-    let mut found = probe_all(n, |a, seen, found| {
-        let av = a as usize;
-        let Some(prefix) = prefix[av] else {
-            return;
-        };
-        let k = reach[av];
-        let len = values[av].len();
-        let (lo, hi) = by_size.ids_with_size(len.saturating_sub(k), len + k);
-        let cmp = comparator(&values[av]);
-        for &(rank, pos) in table.grams[av].iter().take(prefix) {
-            for &(b, bpos) in id_range(&postings[rank as usize], lo, hi) {
-                // Each pair is compared once: by the smaller id, unless only
-                // the larger can promise to find it.
-                if b == a
-                    || (b < a && long[b as usize])
-                    || seen[b as usize] == a
-                    || bpos.abs_diff(pos) as usize > k
-                {
-                    continue;
-                }
-                seen[b as usize] = a;
-                compare(a, b, &cmp, found);
-            }
-        }
-    });
-    // Short values (no promise from either side): each against each.
-    let short: Vec<u32> = (0..n as u32).filter(|&v| !long[v as usize]).collect();
-    let parts: Vec<Found> = short
-        .par_iter()
-        .enumerate()
-        .map(|(i, &a)| {
-            let mut f = Found::default();
-            let cmp = comparator(&values[a as usize]);
-            for &b in &short[i + 1..] {
-                compare(a, b, &cmp, &mut f);
-            }
-            f
+    // Partner lengths of a value of length `short` that are at least as
+    // long and within reach, with the edit limit for each.
+    let longer_partners = |short: usize| {
+        (short..)
+            .map(move |long| (long, limit.max_edits(short, long)))
+            .take_while(move |&(long, tau)| long - short <= tau)
+    };
+    // Every value filed under its segments, for every limit it may meet.
+    let mut filed: Vec<(u64, u32)> = (0..n)
+        .into_par_iter()
+        .flat_map_iter(|s| {
+            let v = &values[s];
+            let len = v.len();
+            let mut taus: Vec<usize> = longer_partners(len).map(|(_, tau)| tau).collect();
+            taus.dedup();
+            taus.into_iter()
+                .filter(move |&tau| len > tau)
+                .flat_map(move |tau| {
+                    segments(len, tau).enumerate().map(move |(i, (start, l))| {
+                        (
+                            segment_key(len, tau, i, v[start..start + l].iter().copied()),
+                            s as u32,
+                        )
+                    })
+                })
         })
         .collect();
-    let rest = merge(parts);
-    found.compared += rest.compared;
-    found.edges.extend(rest.edges);
-    found.edges.sort_by(|x, y| (x.a, x.b).cmp(&(y.a, y.b)));
-    found
+    filed.par_sort_unstable();
+    let mut lists: HashMap<u64, (u32, u32)> = HashMap::new();
+    let mut start = 0;
+    while start < filed.len() {
+        let key = filed[start].0;
+        let end = start + filed[start..].partition_point(|&(k, _)| k == key);
+        lists.insert(key, (start as u32, end as u32));
+        start = end;
+    }
+    let ids: Vec<u32> = filed.iter().map(|&(_, id)| id).collect();
+    drop(filed);
+    let histograms: Vec<[u8; 32]> = values.iter().map(|v| char_histogram(v)).collect();
+    let lookup = |key: u64| -> &[u32] {
+        match lists.get(&key) {
+            Some(&(a, b)) => &ids[a as usize..b as usize],
+            None => &[],
+        }
+    };
+    probe_all(n, |r, seen, found| {
+        let rv = &values[r as usize];
+        let lr = rv.len();
+        let cmp = comparator(rv);
+        let mut check = |s: u32, tau: usize, found: &mut Found| {
+            if s >= r || seen[s as usize] == r {
+                return;
+            }
+            seen[s as usize] = r;
+            if fewest_edits(&histograms[r as usize], &histograms[s as usize]) > tau {
+                return;
+            }
+            found.compared += 1;
+            if let Some(d) = cmp.distance_within(&values[s as usize], tau) {
+                found.edges.push(by_size.edge(s, r, d as f64));
+            }
+        };
+        // Partners at most as long: r is their longer partner.
+        for ls in (0..=lr).rev() {
+            let tau = limit.max_edits(ls, lr);
+            if lr - ls > tau {
+                break;
+            }
+            if ls == 0 {
+                continue;
+            }
+            if ls <= tau {
+                // Too short to split: every value of that length.
+                let (lo, hi) = by_size.ids_with_size(ls, ls);
+                for s in lo..hi {
+                    check(s, tau, found);
+                }
+                continue;
+            }
+            let delta = lr - ls;
+            for (i, (p, l)) in segments(ls, tau).enumerate() {
+                let lo = (p.saturating_sub(i)).max((p + delta).saturating_sub(tau - i));
+                let hi = (p + i).min(p + delta + (tau - i)).min(lr - l);
+                for x in lo..=hi {
+                    let key = segment_key(ls, tau, i, rv[x..x + l].iter().copied());
+                    for &s in lookup(key) {
+                        check(s, tau, found);
+                    }
+                    if osa && i > 0 && x > 0 {
+                        let swapped =
+                            std::iter::once(rv[x - 1]).chain(rv[x + 1..x + l].iter().copied());
+                        for &s in lookup(segment_key(ls, tau, i, swapped)) {
+                            check(s, tau, found);
+                        }
+                    }
+                }
+            }
+        }
+    })
 }
 
 // ---------------------------------------------------------------------------
@@ -510,11 +547,20 @@ pub fn least_jaro(s: f64) -> f64 {
     ((s - 0.4) / 0.6).max(0.0)
 }
 
+/// The least number of matched characters two values of these lengths
+/// need for a Jaro similarity of `(1 + tau) / 3`: `m/|a| + m/|b| >= tau`.
+fn least_matches(tau: f64, la: usize, lb: usize) -> usize {
+    let m = tau * (la * lb) as f64 / (la + lb) as f64;
+    ((m - 1e-9).ceil().max(1.0)) as usize
+}
+
+/// Above this estimate of posting entries to visit, the exact
+/// Jaro-Winkler search gives way to the bigram search.
+pub const EXACT_JARO_BUDGET: u64 = 250_000_000;
+
 fn jaro_winkler_pairs(values: &[Vec<char>], min: f64) -> Found {
     let by_size = BySize::new(values.iter().map(Vec::len).collect());
     let values = by_size.reorder(values);
-    let table = GramTable::build(&values, 2);
-    let n = values.len();
     // Jaro = (m/|a| + m/|b| + (m − t)/m) / 3 >= j needs m/|a| + m/|b| >= tau.
     let tau = 3.0 * least_jaro(min) - 1.0;
     if tau <= 0.0 {
@@ -526,86 +572,374 @@ fn jaro_winkler_pairs(values: &[Vec<char>], min: f64) -> Found {
         )
         .remap(&by_size);
     }
-    // Of a value's characters, at least tau·|a|/2 are matched (when it is
-    // the shorter). Each unmatched one breaks at most two of its bigrams;
-    // looking up two bigrams more than there are unmatched characters finds
-    // at least 0.99 of the pairs in practice (measured: see the README).
-    let prefix_of = |len: usize| {
-        let matched = ((tau * len as f64 / 2.0) - 1e-9).ceil().max(1.0) as usize;
-        (len - matched.min(len)) + 2
-    };
-    let postings = table.prefix_postings(|v| prefix_of(values[v].len()), false);
-    let histograms: Vec<[u8; 32]> = values.iter().map(|v| char_histogram(v)).collect();
-    probe_all(n, |a, seen, found| {
-        let av = a as usize;
-        let len = values[av].len();
+    let tokens = occurrence_tokens(&values);
+    if ExactJaro::cost(&tokens, tau) <= EXACT_JARO_BUDGET {
+        ExactJaro::build(tokens, tau).pairs(&values, &by_size, tau, min)
+    } else {
+        large_jaro_winkler(&values, &by_size, min)
+    }
+}
+
+/// Jaro-Winkler on a set too large for the exact search. The Winkler bonus
+/// counts at most four leading characters: pairs whose first four agree
+/// are searched within the groups of values that begin alike (exactly,
+/// where a group is small enough); the other pairs get at most three
+/// characters of bonus, so their Jaro similarity is at least
+/// `(s − 0.3) / 0.7`, and the bigram search looks for them with that
+/// stricter bound.
+fn large_jaro_winkler(values: &[Vec<char>], by_size: &BySize, min: f64) -> Found {
+    let mut groups: HashMap<&[char], Vec<u32>> = HashMap::new();
+    for (i, v) in values.iter().enumerate() {
+        if v.len() >= 4 {
+            groups.entry(&v[..4]).or_default().push(i as u32);
+        }
+    }
+    let mut groups: Vec<Vec<u32>> = groups.into_values().filter(|g| g.len() > 1).collect();
+    groups.sort_unstable_by_key(|g| g[0]);
+    let tau = 3.0 * least_jaro(min) - 1.0;
+    let mut parts: Vec<Found> = groups
+        .par_iter()
+        .map(|group| {
+            if group.len() == values.len() {
+                // One group: no help from the first characters.
+                return jaro_winkler_bigrams(values, by_size, tau, min);
+            }
+            let members: Vec<Vec<char>> =
+                group.iter().map(|&i| values[i as usize].clone()).collect();
+            let mut found = jaro_winkler_pairs(&members, min);
+            for e in &mut found.edges {
+                *e = by_size.edge(group[e.a as usize], group[e.b as usize], e.score);
+            }
+            found
+        })
+        .collect();
+    let tau = 3.0 * ((min - 0.3) / 0.7).max(0.0) - 1.0;
+    if tau > 0.0 {
+        parts.push(jaro_winkler_bigrams(values, by_size, tau, min));
+    } else {
+        parts.push(
+            all_pairs(
+                values,
+                &Fuzzy::JaroWinkler {
+                    min_similarity: min,
+                },
+            )
+            .remap(by_size),
+        );
+    }
+    let mut found = merge(parts);
+    found.edges.dedup_by_key(|e| (e.a, e.b));
+    found
+}
+
+/// The longest partner a value of length `len` may have as the shorter of
+/// the pair (m <= |a| gives |b| <= |a| / (tau − 1)).
+fn longest_partner(tau: f64, len: usize) -> usize {
+    if tau > 1.0 {
+        ((len as f64 / (tau - 1.0)) + 1e-9).floor() as usize
+    } else {
+        usize::MAX
+    }
+}
+
+/// The exact search. Matched characters are common characters: the k-th
+/// `e` of one value can only match an `e` of the other, so with every
+/// character numbered by its occurrence (`e#1`, `e#2`, ...) two values
+/// share at least m such tokens. Tokens are ranked rarest first, and two
+/// values sharing at least t tokens share one among the first `|a| − t + 1`
+/// of each (the rarest shared token is there): a value probes with its
+/// prefix as the shorter of a pair (t is least with an equally long
+/// partner) and is indexed with its prefix as the longer one (t is least
+/// with its shortest possible partner).
+struct ExactJaro {
+    tokens: Tokens,
+    postings: Vec<Vec<(u32, u16)>>,
+}
+
+impl ExactJaro {
+    /// The tokens a value of length `len` is indexed under, as the longer
+    /// of a pair.
+    fn index_prefix(tau: f64, len: usize) -> usize {
+        let shortest_partner = if tau > 1.0 {
+            (((tau - 1.0) * len as f64 - 1e-9).ceil().max(1.0) as usize).min(len)
+        } else {
+            1
+        };
+        len + 1 - least_matches(tau, shortest_partner, len).min(len)
+    }
+
+    /// Posting entries the probes would visit (ignoring lengths).
+    fn cost(tokens: &Tokens, tau: f64) -> u64 {
+        let mut indexed = vec![0u64; tokens.distinct];
+        for list in &tokens.ranks {
+            for &rank in list.iter().take(Self::index_prefix(tau, list.len())) {
+                indexed[rank as usize] += 1;
+            }
+        }
+        tokens
+            .ranks
+            .iter()
+            .flat_map(|list| list.iter().take(probe_prefix(tau, list.len())))
+            .map(|&rank| indexed[rank as usize])
+            .sum()
+    }
+
+    fn build(tokens: Tokens, tau: f64) -> ExactJaro {
+        let mut postings: Vec<Vec<(u32, u16)>> = vec![Vec::new(); tokens.distinct];
+        for (v, list) in tokens.ranks.iter().enumerate() {
+            for (pos, &rank) in list
+                .iter()
+                .take(Self::index_prefix(tau, list.len()))
+                .enumerate()
+            {
+                postings[rank as usize].push((v as u32, pos as u16));
+            }
+        }
+        ExactJaro { tokens, postings }
+    }
+
+    fn pairs(&self, values: &[Vec<char>], by_size: &BySize, tau: f64, min: f64) -> Found {
+        let search = JaroSearch::new(values, by_size, tau, min);
+        probe_all(values.len(), |a, seen, found| {
+            let Some(probe) = search.start(a) else {
+                return;
+            };
+            let ranks = &self.tokens.ranks[a as usize];
+            for (pos, &rank) in ranks.iter().take(probe_prefix(tau, probe.len)).enumerate() {
+                for &(b, bpos) in id_range(&self.postings[rank as usize], probe.lo, probe.hi) {
+                    if seen[b as usize] == a {
+                        continue;
+                    }
+                    seen[b as usize] = a;
+                    let lb = search.lens[b as usize] as usize;
+                    let needed = probe.least[lb - probe.len];
+                    // This is the rarest token the two share (a rarer one
+                    // would be in both prefixes and met first): only the
+                    // tokens after it can add to it.
+                    if 1 + (probe.len - pos - 1).min(lb - bpos as usize - 1) < needed {
+                        continue;
+                    }
+                    search.compare(&probe, b, needed, found);
+                }
+            }
+        })
+    }
+}
+
+/// What both Jaro-Winkler searches share: the values' lengths and
+/// character histograms, and how a value starts its probe and compares
+/// itself with a candidate.
+struct JaroSearch<'a> {
+    values: &'a [Vec<char>],
+    by_size: &'a BySize,
+    tau: f64,
+    min: f64,
+    lens: Vec<u32>,
+    histograms: Vec<[u8; 32]>,
+    max_len: usize,
+}
+
+/// One value's probe: the ids of its possible longer partners (`lo..hi`),
+/// the least matches for each partner length from its own, and its
+/// prepared comparator.
+struct JaroProbe {
+    a: u32,
+    len: usize,
+    lo: u32,
+    hi: u32,
+    longest: usize,
+    least: Vec<usize>,
+    cmp: Comparator,
+}
+
+impl<'a> JaroSearch<'a> {
+    fn new(values: &'a [Vec<char>], by_size: &'a BySize, tau: f64, min: f64) -> Self {
+        JaroSearch {
+            values,
+            by_size,
+            tau,
+            min,
+            lens: values.iter().map(|v| v.len() as u32).collect(),
+            histograms: values.iter().map(|v| char_histogram(v)).collect(),
+            max_len: values.last().map_or(0, Vec::len),
+        }
+    }
+
+    fn start(&self, a: u32) -> Option<JaroProbe> {
+        let len = self.values[a as usize].len();
         if len == 0 {
+            return None;
+        }
+        let longest = longest_partner(self.tau, len).min(self.max_len);
+        let (lo, hi) = self.by_size.ids_with_size(len, longest);
+        Some(JaroProbe {
+            a,
+            len,
+            lo: lo.max(a + 1),
+            hi,
+            longest,
+            least: (len..=longest)
+                .map(|lb| least_matches(self.tau, len, lb))
+                .collect(),
+            cmp: Comparator::jaro_winkler(&self.values[a as usize]),
+        })
+    }
+
+    /// Compare the probing value with `b`, unless their characters cannot
+    /// give the `needed` matches.
+    fn compare(&self, probe: &JaroProbe, b: u32, needed: usize, found: &mut Found) {
+        let bound = common_upper_bound(
+            &self.histograms[probe.a as usize],
+            &self.histograms[b as usize],
+        );
+        if (bound as usize) < needed {
             return;
         }
-        // a is the shorter: with m <= |a|, |b| <= |a| / (tau − 1).
-        let longest = if tau > 1.0 {
-            ((len as f64 / (tau - 1.0)) + 1e-9).floor() as usize
-        } else {
-            usize::MAX
+        found.compared += 1;
+        if let Some(s) = probe
+            .cmp
+            .similarity_at_least(&self.values[b as usize], self.min)
+        {
+            found.edges.push(self.by_size.edge(probe.a, b, s));
+        }
+    }
+}
+
+/// The tokens a value of length `len` looks up as the shorter of a pair.
+fn probe_prefix(tau: f64, len: usize) -> usize {
+    len + 1 - least_matches(tau, len, len).min(len)
+}
+
+/// The bigram search, for sets too large for the exact one: a heuristic.
+/// Of a value's characters at least `m` are matched when it is the shorter;
+/// each unmatched one breaks at most two of its bigrams, and looking up two
+/// bigrams more than there are unmatched characters, matched within the
+/// Jaro window, finds nearly every pair (measured: see the README). It can
+/// miss pairs whose letters are scrambled, or whose longer value's rarest
+/// bigrams are not the shared ones.
+fn jaro_winkler_bigrams(values: &[Vec<char>], by_size: &BySize, tau: f64, min: f64) -> Found {
+    let table = GramTable::build(values, 2);
+    let prefix_of = |len: usize| len - least_matches(tau, len, len).min(len) + 2;
+    let postings = table.prefix_postings(|v| prefix_of(values[v].len()), false);
+    let search = JaroSearch::new(values, by_size, tau, min);
+    probe_all(values.len(), |a, seen, found| {
+        let Some(probe) = search.start(a) else {
+            return;
         };
-        let prefix = prefix_of(len);
-        let (lo, hi) = by_size.ids_with_size(len, longest);
-        let window_max = longest.min(usize::MAX / 2) / 2;
-        let cmp = Comparator::jaro_winkler(&values[av]);
-        for &(rank, pos) in table.grams[av].iter().take(prefix) {
-            for &(b, bpos) in id_range(&postings[rank as usize], lo.max(a + 1), hi) {
-                if seen[b as usize] == a || bpos.abs_diff(pos) as usize > window_max {
+        let window_max = probe.longest / 2;
+        for &(rank, pos) in table.grams[a as usize].iter().take(prefix_of(probe.len)) {
+            for &(b, bpos) in id_range(&postings[rank as usize], probe.lo, probe.hi) {
+                if bpos.abs_diff(pos) as usize > window_max || seen[b as usize] == a {
                     continue;
                 }
-                let lb = values[b as usize].len();
-                let window = (lb.max(len) / 2).saturating_sub(1);
+                let lb = search.lens[b as usize] as usize;
+                let window = (lb.max(probe.len) / 2).saturating_sub(1);
                 if bpos.abs_diff(pos) as usize > window {
                     continue;
                 }
                 seen[b as usize] = a;
-                // Matched characters are common characters: a cheap upper
-                // bound on m rules out most candidates before Jaro runs.
-                let needed = tau * (len * lb) as f64 / (len + lb) as f64 - 1e-9;
-                if (common_upper_bound(&histograms[av], &histograms[b as usize]) as f64) < needed {
-                    continue;
-                }
-                found.compared += 1;
-                if let Some(s) = cmp.similarity_at_least(&values[b as usize], min) {
-                    found.edges.push(by_size.edge(a, b, s));
-                }
+                search.compare(&probe, b, probe.least[lb - probe.len], found);
             }
         }
     })
 }
 
-/// Character counts in 32 buckets (saturating): two values have at most
+/// Every value's characters as tokens numbered by occurrence (the second
+/// `e` of a value is another token than its first), ranked by how many
+/// values hold them (0 = rarest), each value's ranks sorted.
+struct Tokens {
+    ranks: Vec<Vec<u32>>,
+    distinct: usize,
+}
+
+fn occurrence_tokens(values: &[Vec<char>]) -> Tokens {
+    let mut ids: HashMap<(char, u32), u32> = HashMap::new();
+    let mut freq: Vec<u32> = Vec::new();
+    let mut seen_in_value: HashMap<char, u32> = HashMap::new();
+    let raw: Vec<Vec<u32>> = values
+        .iter()
+        .map(|v| {
+            seen_in_value.clear();
+            v.iter()
+                .map(|&c| {
+                    let k = seen_in_value.entry(c).or_insert(0);
+                    *k += 1;
+                    let next = ids.len() as u32;
+                    let id = *ids.entry((c, *k)).or_insert(next);
+                    if id == next {
+                        freq.push(0);
+                    }
+                    freq[id as usize] += 1;
+                    id
+                })
+                .collect()
+        })
+        .collect();
+    let mut order: Vec<u32> = (0..freq.len() as u32).collect();
+    order.sort_by_key(|&id| (freq[id as usize], id));
+    let mut rank = vec![0u32; freq.len()];
+    for (r, &id) in order.iter().enumerate() {
+        rank[id as usize] = r as u32;
+    }
+    let ranks = raw
+        .into_iter()
+        .map(|ids| {
+            let mut r: Vec<u32> = ids.into_iter().map(|id| rank[id as usize]).collect();
+            r.sort_unstable();
+            r
+        })
+        .collect();
+    Tokens {
+        ranks,
+        distinct: freq.len(),
+    }
+}
+
+/// Character counts in 32 buckets: two values have at most
 /// [`common_upper_bound`] characters in common.
 fn char_histogram(v: &[char]) -> [u8; 32] {
     histogram(v.iter().map(|&c| c as u32))
 }
 
-/// Counts of items in 32 buckets (saturating).
+/// Counts of items in 32 buckets. A count above 254 does not fit: then
+/// every bucket is 255 ("saturated"), which the bounds below allow for.
 fn histogram(items: impl Iterator<Item = u32>) -> [u8; 32] {
-    let mut h = [0u8; 32];
+    let mut h = [0u32; 32];
     for x in items {
-        let bucket = (x.wrapping_mul(0x9e37_79b1) >> 27) as usize;
-        h[bucket] = h[bucket].saturating_add(1);
+        h[(x.wrapping_mul(0x9e37_79b1) >> 27) as usize] += 1;
     }
-    h
+    if h.iter().any(|&c| c >= u8::MAX as u32) {
+        return [u8::MAX; 32];
+    }
+    h.map(|c| c as u8)
 }
 
+fn saturated(h: &[u8; 32]) -> bool {
+    h[0] == u8::MAX
+}
+
+/// A lower bound on the edits (Levenshtein or optimal string alignment)
+/// between two values, from their character histograms: each edit changes
+/// the count of at most one character on each side.
+fn fewest_edits(a: &[u8; 32], b: &[u8; 32]) -> usize {
+    if saturated(a) || saturated(b) {
+        return 0;
+    }
+    let (mut more, mut fewer) = (0u32, 0u32);
+    for (&x, &y) in a.iter().zip(b) {
+        more += x.saturating_sub(y) as u32;
+        fewer += y.saturating_sub(x) as u32;
+    }
+    more.max(fewer) as usize
+}
+
+/// An upper bound on the items two histograms have in common. With one
+/// side saturated it is the other side's total; with both, unbounded.
 fn common_upper_bound(a: &[u8; 32], b: &[u8; 32]) -> u32 {
-    // A saturated bucket may hold more: count it as unbounded.
-    a.iter()
-        .zip(b)
-        .map(|(&x, &y)| {
-            if x == u8::MAX || y == u8::MAX {
-                u32::MAX / 64
-            } else {
-                x.min(y) as u32
-            }
-        })
-        .sum()
+    if saturated(a) && saturated(b) {
+        return u32::MAX;
+    }
+    a.iter().zip(b).map(|(&x, &y)| x.min(y) as u32).sum()
 }
 
 impl Found {
@@ -704,20 +1038,94 @@ mod tests {
     }
 
     #[test]
-    fn jaro_winkler_index_finds_nearly_every_pair() {
-        // A heuristic: it may miss a pair (0.96 found here; the goal is 0.99), never invent one.
+    fn jaro_winkler_index_misses_nothing() {
+        for min_similarity in [0.8, 0.85, 0.9, 0.95] {
+            check_exact(Fuzzy::JaroWinkler { min_similarity });
+        }
+    }
+
+    #[test]
+    fn jaro_winkler_search_for_large_sets_finds_nearly_every_pair() {
+        // The heuristic for large sets, and the bigram search inside it: they
+        // may miss a pair, never invent one.
         let values = vocabulary();
+        let by_size = BySize::new(values.iter().map(Vec::len).collect());
+        let sized = by_size.reorder(&values);
         for min_similarity in [0.85, 0.9] {
             let method = Fuzzy::JaroWinkler { min_similarity };
-            let indexed = similar_pairs(&values, &method).edges;
             let all = all_pairs(&values, &method).edges;
-            assert!(indexed.iter().all(|e| all.contains(e)));
-            assert!(
-                indexed.len() as f64 >= 0.95 * all.len() as f64,
-                "{} of {}",
-                indexed.len(),
-                all.len()
-            );
+            let tau = 3.0 * least_jaro(min_similarity) - 1.0;
+            let bigrams = jaro_winkler_bigrams(&sized, &by_size, tau, min_similarity).edges;
+            let large = large_jaro_winkler(&sized, &by_size, min_similarity).edges;
+            for (name, found) in [("bigrams", &bigrams), ("large", &large)] {
+                let recall = found.len() as f64 / all.len() as f64;
+                println!(
+                    "{name} {min_similarity}: {} of {} ({recall:.3})",
+                    found.len(),
+                    all.len()
+                );
+                assert!(found.iter().all(|e| all.contains(e)), "{name}");
+                // Measured on this small vocabulary: bigrams 0.992 and 0.960,
+                // large 0.995 and 0.944 (at 0.85 and 0.9); the benchmark
+                // measures the large-set search where it is used.
+                assert!(recall >= 0.94, "{name} {min_similarity}: {recall}");
+            }
+        }
+    }
+
+    /// Random short strings over a small alphabet and their respellings:
+    /// many pairs within a few edits, transpositions across every segment
+    /// boundary.
+    fn random_values(seed: u64) -> Vec<Vec<char>> {
+        use rand::{Rng, SeedableRng};
+        let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(seed);
+        let alphabet: Vec<char> = "abcde -1é".chars().collect();
+        let mut out: Vec<Vec<char>> = Vec::new();
+        while out.len() < 400 {
+            let len = rng.gen_range(1..24);
+            let base: Vec<char> = (0..len)
+                .map(|_| alphabet[rng.gen_range(0..alphabet.len())])
+                .collect();
+            out.push(base.clone());
+            let mut v = base;
+            for _ in 0..rng.gen_range(1..5) {
+                let at = rng.gen_range(0..v.len().max(1));
+                match rng.gen_range(0..4) {
+                    0 => v.insert(at, alphabet[rng.gen_range(0..alphabet.len())]),
+                    1 if v.len() > 1 => {
+                        v.remove(at);
+                    }
+                    2 if !v.is_empty() => v[at] = alphabet[rng.gen_range(0..alphabet.len())],
+                    _ if at + 1 < v.len() => v.swap(at, at + 1),
+                    _ => {}
+                }
+                out.push(v.clone());
+            }
+        }
+        out.sort();
+        out.dedup();
+        out
+    }
+
+    #[test]
+    fn indexes_equal_all_pairs_on_random_respellings() {
+        for seed in 0..3 {
+            let values = random_values(seed);
+            for method in [
+                Fuzzy::Levenshtein(EditLimit::Edits(1)),
+                Fuzzy::Levenshtein(EditLimit::Edits(3)),
+                Fuzzy::Levenshtein(EditLimit::Ratio(0.3)),
+                Fuzzy::Osa(EditLimit::Edits(1)),
+                Fuzzy::Osa(EditLimit::Edits(2)),
+                Fuzzy::Osa(EditLimit::Ratio(0.25)),
+                Fuzzy::JaroWinkler {
+                    min_similarity: 0.88,
+                },
+            ] {
+                let indexed = similar_pairs(&values, &method);
+                let all = all_pairs(&values, &method);
+                assert_eq!(indexed.edges, all.edges, "seed {seed} {method:?}");
+            }
         }
     }
 

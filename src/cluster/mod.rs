@@ -25,10 +25,13 @@
 //! values further apart than the cap in one group; edges are then taken
 //! strongest first, so the result does not depend on the thread count.
 //!
-//! The fuzzy methods find their pairs through an index (see [`index`]):
-//! near-linear in the number of distinct values; exact for the edit
-//! distances and q-gram Jaccard, a measured heuristic (recall at least 0.99)
-//! for Jaro-Winkler. The tests compare it with all pairs.
+//! The fuzzy methods find their pairs through an index (see [`index`])
+//! instead of comparing all pairs: exact (every pair all pairs would find)
+//! for the edit distances, q-gram Jaccard, and Jaro-Winkler up to a work
+//! budget; beyond it (hundreds of thousands of values in one block, as with
+//! `--digits loose`) Jaro-Winkler uses a heuristic whose recall is measured
+//! by the benchmark (see the README). The tests compare the index with all
+//! pairs.
 //!
 //! ```
 //! use descry::cluster::{cluster, ClusterOptions, Method};

@@ -78,6 +78,14 @@ pub fn source_column(cli: Option<&str>, rules: &Ruleset) -> anyhow::Result<Strin
     }
 }
 
+/// Read one column of the input, print the reader's notes (unless
+/// `quiet`) and build the column's vocabulary.
+pub fn read_vocabulary(input: &InputArgs, column: &str, quiet: bool) -> anyhow::Result<Vocabulary> {
+    let table = descry::read::Table::read_columns(&input.input, &[column], &input.read_options())?;
+    print_notes(&table.notes, quiet);
+    vocabulary_of(&table, column)
+}
+
 /// The vocabulary of a text column of a table.
 pub fn vocabulary_of(table: &descry::read::Table, column: &str) -> anyhow::Result<Vocabulary> {
     let text = table.text(column)?;

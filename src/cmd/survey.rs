@@ -2,10 +2,9 @@
 
 use std::process::ExitCode;
 
-use descry::read::Table;
 use descry::survey::{survey, survey_text, SurveyOptions, DEFAULT_LONG, DEFAULT_PLACEHOLDERS};
 
-use super::common::{json_out, print_notes, vocabulary_of, Format, InputArgs};
+use super::common::{json_out, read_vocabulary, Format, InputArgs};
 
 pub const ABOUT: &str = "\
 Profile one column: what it holds, in which formats, with which defects,
@@ -76,13 +75,7 @@ pub struct Args {
 }
 
 pub fn run(args: Args) -> anyhow::Result<ExitCode> {
-    let table = Table::read_columns(
-        &args.input.input,
-        &[&args.column],
-        &args.input.read_options(),
-    )?;
-    print_notes(&table.notes, args.quiet);
-    let vocab = vocabulary_of(&table, &args.column)?;
+    let vocab = read_vocabulary(&args.input, &args.column, args.quiet)?;
     let mut placeholders: Vec<String> = if args.no_default_placeholders {
         Vec::new()
     } else {
