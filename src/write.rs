@@ -194,6 +194,91 @@ impl TableSink {
     }
 }
 
+/// A [`TableSink`] on its own thread: [`BackgroundSink::write`] hands a batch
+/// over and returns at once, so the next batch is read and described while
+/// this one is encoded, compressed and written. At most one batch waits in
+/// between. Batches are written in the order given, so the output is the
+/// same as a [`TableSink`]'s. Dropping it without [`BackgroundSink::finish`]
+/// waits for the thread and removes the temporary file, as a dropped
+/// [`TableSink`] does.
+pub struct BackgroundSink {
+    output: PathBuf,
+    send: Option<std::sync::mpsc::SyncSender<DataFrame>>,
+    thread: Option<std::thread::JoinHandle<Result<Option<TableSink>, Error>>>,
+}
+
+impl BackgroundSink {
+    /// Start the writing thread; the file is created with the first batch's
+    /// schema.
+    pub fn start(output: &Path, format: OutputFormat) -> BackgroundSink {
+        let (send, receive) = std::sync::mpsc::sync_channel::<DataFrame>(1);
+        let output_path = output.to_owned();
+        let output = output.to_owned();
+        let thread = std::thread::spawn(move || {
+            let mut sink: Option<TableSink> = None;
+            for mut batch in receive {
+                let sink = match sink.as_mut() {
+                    Some(sink) => sink,
+                    None => {
+                        sink.insert(TableSink::create(&output, format, &batch.schema().clone())?)
+                    }
+                };
+                sink.write(&mut batch)?;
+            }
+            Ok(sink)
+        });
+        BackgroundSink {
+            output: output_path,
+            send: Some(send),
+            thread: Some(thread),
+        }
+    }
+
+    /// Queue a batch; waits only while the previous one is still queued.
+    pub fn write(&mut self, batch: DataFrame) -> Result<(), Error> {
+        let send = self.send.as_ref().expect("open until finished");
+        if send.send(batch).is_err() {
+            // The thread stopped on an error: report it.
+            self.send = None;
+            self.join()?;
+            return Err(self.stopped());
+        }
+        Ok(())
+    }
+
+    /// Write what is queued and move the file into place. `Ok(false)`: no
+    /// batch was ever written, so there is no file.
+    pub fn finish(mut self) -> Result<bool, Error> {
+        self.send = None;
+        match self.join()? {
+            Some(sink) => sink.finish().map(|_| true),
+            None => Ok(false),
+        }
+    }
+
+    fn join(&mut self) -> Result<Option<TableSink>, Error> {
+        let thread = self.thread.take().expect("joined once");
+        thread.join().unwrap_or_else(|_| Err(self.stopped()))
+    }
+
+    fn stopped(&self) -> Error {
+        Error::Output {
+            path: self.output.clone(),
+            message: "the writer stopped unexpectedly".to_owned(),
+        }
+    }
+}
+
+impl Drop for BackgroundSink {
+    fn drop(&mut self) {
+        self.send = None;
+        if self.thread.is_some() {
+            // An unfinished sink: its temporary file goes with it.
+            let _ = self.join();
+        }
+    }
+}
+
 fn batch_writer(w: File, format: OutputFormat, schema: &Schema) -> PolarsResult<BatchFn> {
     Ok(match format {
         OutputFormat::Parquet => {
