@@ -9,6 +9,7 @@ use std::io::Write;
 use std::path::{Path, PathBuf};
 
 use polars::prelude::*;
+use rayon::prelude::*;
 
 use crate::error::Error;
 
@@ -92,6 +93,10 @@ fn sync_folder(folder: &Path) {
         let _ = dir.sync_all();
     }
 }
+
+/// Rows per Parquet row group at most (each batch is cut into row groups of
+/// this size): polars' own default, 512².
+pub const ROW_GROUP_ROWS: usize = 512 * 512;
 
 type BatchFn = Box<dyn FnMut(Option<&mut DataFrame>) -> PolarsResult<()> + Send>;
 
@@ -286,7 +291,23 @@ fn batch_writer(w: File, format: OutputFormat, schema: &Schema) -> PolarsResult<
             Box::new(move |batch: Option<&mut DataFrame>| match batch {
                 Some(df) => {
                     df.align_chunks_par();
-                    writer.as_mut().expect("open").write_batch(df)
+                    let writer = writer.as_ref().expect("open");
+                    // Row groups are encoded in parallel (a single heavy
+                    // column no longer holds up the batch), then written in
+                    // order.
+                    let parts: Vec<DataFrame> = (0..df.height())
+                        .step_by(ROW_GROUP_ROWS)
+                        .map(|at| df.slice(at as i64, ROW_GROUP_ROWS))
+                        .collect();
+                    let groups = parts
+                        .par_iter()
+                        .map(|part| writer.encode_and_compress(part).collect::<Vec<_>>())
+                        .collect::<Vec<_>>();
+                    let groups = groups
+                        .into_iter()
+                        .flatten()
+                        .collect::<PolarsResult<Vec<_>>>()?;
+                    writer.write_row_groups(groups)
                 }
                 None => writer.take().expect("open").finish().map(|_| ()),
             })

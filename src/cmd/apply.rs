@@ -77,7 +77,8 @@ pub struct Args {
     /// batches (the output is the same).
     #[arg(long)]
     pub in_memory: bool,
-    /// Rows per batch when streaming (also the Parquet row-group size).
+    /// Rows per batch when streaming; Parquet row groups hold at most
+    /// 262,144 rows (a batch is cut into several).
     #[arg(long, default_value_t = 1 << 20, hide_short_help = true)]
     pub batch_rows: usize,
 }
