@@ -1005,16 +1005,27 @@ def timed_run(cmd: list[str], log: Path) -> tuple[float, float, int]:
     return wall, usage.ru_maxrss / 1024.0, proc.returncode
 
 
+def sample_args(args, rows: int) -> list[str]:
+    """The `descry sample` options of the benchmark data."""
+    spellings = [] if args.spellings is None else ["--spellings", str(args.spellings)]
+    return ["--rows", str(rows), "--seed", str(args.seed), *spellings]
+
+
+def size_folder(args, rows: int) -> Path:
+    vocabulary = "unbounded" if args.spellings is None else f"spellings-{args.spellings}"
+    return args.out_dir / f"rows-{rows}-{vocabulary}"
+
+
 def generate(args, rows: int, folder: Path) -> Path:
     csv = folder / "listings.csv"
     stamp = folder / "generated.json"
-    want = {"rows": rows, "seed": args.seed, "descry": sh(str(args.descry), "--version")}
+    want = {"sample": sample_args(args, rows), "descry": sh(str(args.descry), "--version")}
     if args.reuse_data and csv.exists() and stamp.exists() and json.loads(stamp.read_text()) == want:
         print(f"  reusing {csv}")
         return csv
     folder.mkdir(parents=True, exist_ok=True)
-    print(f"  generating {rows:,} rows: descry sample --rows {rows} --seed {args.seed} -o {folder}")
-    subprocess.run([str(args.descry), "sample", "--rows", str(rows), "--seed", str(args.seed), "-o", str(folder)], check=True, stdout=subprocess.DEVNULL)
+    print(f"  generating: descry sample {' '.join(sample_args(args, rows))} -o {folder}")
+    subprocess.run([str(args.descry), "sample", *sample_args(args, rows), "-o", str(folder)], check=True, stdout=subprocess.DEVNULL)
     stamp.write_text(json.dumps(want))
     return csv
 
@@ -1024,7 +1035,7 @@ def median(xs: list[float]) -> float:
 
 
 def bench_size(args, rows: int, runs: int, rulesets: list[Ruleset]) -> dict:
-    folder = args.out_dir / f"rows-{rows}"
+    folder = size_folder(args, rows)
     csv = generate(args, rows, folder / "data")
     csv_mib = csv.stat().st_size / 2**20
     distinct = {}
@@ -1070,10 +1081,10 @@ def bench_size(args, rows: int, runs: int, rulesets: list[Ruleset]) -> dict:
         })
     if "descry" in args.contenders:
         distinct = json.loads(subprocess.run(
-            [sys.executable, str(Path(__file__).resolve()), "distinct", str(outputs["descry"]), *[rs.column for rs in rulesets]],
+            [sys.executable, str(Path(__file__).resolve()), "distinct", str(outputs["descry"]), *[rs.column for rs in rulesets], "part_no"],
             capture_output=True, text=True, check=True).stdout)
-    return {"rows": rows, "runs": runs, "csv_mib": csv_mib, "distinct": distinct, "table": table,
-            "disturbed_runs": disturbed}
+    return {"rows": rows, "runs": runs, "sample": " ".join(sample_args(args, rows)), "csv_mib": csv_mib,
+            "distinct": distinct, "table": table, "disturbed_runs": disturbed}
 
 
 def verify_all(args, outputs: dict[str, Path], rulesets: list[Ruleset], rows: int) -> dict[str, str]:
@@ -1128,8 +1139,8 @@ def markdown(results: list[dict], machine: dict, command: str) -> str:
     for res in results:
         distinct = ", ".join(f"{k} {v:,}" for k, v in res["distinct"].items())
         lines += [
-            f"**{res['rows']:,} rows** (CSV {res['csv_mib']:,.0f} MiB; distinct values: {distinct}; "
-            f"median of {res['runs']} alternating runs)",
+            f"**{res['rows']:,} rows** (`descry sample {res.get('sample', '')}`; CSV {res['csv_mib']:,.0f} MiB; "
+            f"distinct values: {distinct}; median of {res['runs']} alternating runs)",
             "",
             "| contender | median s | peak RSS MiB | × descry | × floor | output |",
             "|---|---:|---:|---:|---:|---|",
@@ -1200,7 +1211,7 @@ def cmd_run(args) -> int:
         print(markdown([res], machine, command).split("\n\n", 2)[2])
         if not args.keep_outputs:
             for c in args.contenders:
-                (args.out_dir / f"rows-{rows}" / f"{c}.parquet").unlink(missing_ok=True)
+                (size_folder(args, rows) / f"{c}.parquet").unlink(missing_ok=True)
     stamp = dt.datetime.now().strftime("%Y%m%d-%H%M%S")
     data = {"machine": machine, "command": command, "results": results,
             "targets": {str(r["rows"]): targets(r) for r in results}}
@@ -1220,6 +1231,9 @@ def main(argv: list[str]) -> int:
     r.add_argument("--runs", default="5,3", help="runs per contender for each size (default: 5,3; the last repeats)")
     r.add_argument("--quick", action="store_true", help="smoke run: 200,000 rows, 3 runs")
     r.add_argument("--seed", type=int, default=7)
+    r.add_argument("--spellings", default="5000",
+                   help="`descry sample --spellings`: distinct spellings per descriptor column (default 5000); "
+                        "`unbounded` for the sample's growing vocabulary")
     r.add_argument("--contenders", default=",".join(CONTENDERS))
     r.add_argument("--descry", default=str(REPO / "target" / "release" / "descry"))
     r.add_argument("--rules", nargs="+", default=[str(p) for p in DEFAULT_RULESETS])
@@ -1261,6 +1275,7 @@ def main(argv: list[str]) -> int:
         print("same" if not problems else f"{len(problems)} problems")
         return 1 if problems else 0
     args.argv = argv[1:]
+    args.spellings = None if args.spellings == "unbounded" else int(args.spellings)
     return cmd_run(args)
 
 

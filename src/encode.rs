@@ -11,6 +11,19 @@ use crate::evaluate::{Cell, Evaluation};
 use crate::ruleset::{Feature, Precision, Rule, Ruleset};
 use crate::vocabulary::{Vocabulary, NULL_CODE};
 
+/// A validity mask (`Option<Vec<bool>>`) as polars stores it (an optional
+/// bitmap); a macro because the bitmap type is not exported by polars.
+macro_rules! validity {
+    ($valid:expr) => {
+        $valid.map(|v: Vec<bool>| {
+            BooleanChunked::from_slice(PlSmallStr::EMPTY, &v)
+                .downcast_as_array()
+                .values()
+                .clone()
+        })
+    };
+}
+
 /// The integer types a count may be stored in, smallest first.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum IntType {
@@ -45,6 +58,18 @@ impl IntType {
             IntType::Int32
         } else {
             IntType::Int64
+        }
+    }
+
+    /// Whether `x` fits this type.
+    pub fn holds(self, x: i64) -> bool {
+        match self {
+            IntType::UInt8 => u8::try_from(x).is_ok(),
+            IntType::Int8 => i8::try_from(x).is_ok(),
+            IntType::UInt16 => u16::try_from(x).is_ok(),
+            IntType::Int16 => i16::try_from(x).is_ok(),
+            IntType::Int32 => i32::try_from(x).is_ok(),
+            IntType::Int64 => true,
         }
     }
 
@@ -151,71 +176,117 @@ impl Encoder {
         let slots = &self.slots[i];
         match &f.rule {
             Rule::Flag(_) => {
-                let rows = gather(codes, slots, |c| {
-                    if let Cell::Bool(b) = c {
-                        Some(b)
-                    } else {
-                        None
-                    }
+                let (values, valid) = gather(codes, slots, |c| match c {
+                    Cell::Bool(b) => Some(b),
+                    _ => None,
                 });
-                Ok(BooleanChunked::from_iter_options(name, rows.into_iter()).into_series())
+                let values = BooleanChunked::from_slice(name.clone(), &values);
+                let array = values.downcast_as_array().clone();
+                Ok(
+                    BooleanChunked::with_chunk(name, array.with_validity(validity!(valid)))
+                        .into_series(),
+                )
             }
             Rule::Count(_) => {
-                let rows = gather(codes, slots, |c| {
-                    if let Cell::Int(x) = c {
-                        Some(x)
-                    } else {
-                        None
+                let int = |c: Cell| match c {
+                    Cell::Int(x) => Some(x),
+                    _ => None,
+                };
+                let ty = self.count_types[i].unwrap_or(IntType::Int64);
+                if let Some(x) = slots.iter().filter_map(|&c| int(c)).find(|&x| !ty.holds(x)) {
+                    polars_bail!(ComputeError: "count {x} of \"{}\" does not fit {:?}", f.output, ty);
+                }
+                // Every value fits `ty` (checked above), so `as` is exact.
+                Ok(match ty {
+                    IntType::UInt8 => {
+                        numeric::<UInt8Type>(name, codes, slots, |c| int(c).map(|x| x as u8))
                     }
-                });
-                let s = Int64Chunked::from_iter_options(name, rows.into_iter()).into_series();
-                s.strict_cast(&self.count_types[i].unwrap_or(IntType::Int64).dtype())
+                    IntType::Int8 => {
+                        numeric::<Int8Type>(name, codes, slots, |c| int(c).map(|x| x as i8))
+                    }
+                    IntType::UInt16 => {
+                        numeric::<UInt16Type>(name, codes, slots, |c| int(c).map(|x| x as u16))
+                    }
+                    IntType::Int16 => {
+                        numeric::<Int16Type>(name, codes, slots, |c| int(c).map(|x| x as i16))
+                    }
+                    IntType::Int32 => {
+                        numeric::<Int32Type>(name, codes, slots, |c| int(c).map(|x| x as i32))
+                    }
+                    IntType::Int64 => numeric::<Int64Type>(name, codes, slots, int),
+                })
             }
             Rule::Measure(m) => {
-                let rows = gather(codes, slots, |c| {
-                    if let Cell::Float(x) = c {
-                        Some(x)
-                    } else {
-                        None
+                let float = |c: Cell| match c {
+                    Cell::Float(x) => Some(x),
+                    _ => None,
+                };
+                Ok(match m.precision {
+                    Precision::F64 => numeric::<Float64Type>(name, codes, slots, float),
+                    Precision::F32 => {
+                        numeric::<Float32Type>(name, codes, slots, |c| float(c).map(|x| x as f32))
                     }
-                });
-                let s = Float64Chunked::from_iter_options(name, rows.into_iter()).into_series();
-                match m.precision {
-                    Precision::F64 => Ok(s),
-                    Precision::F32 => s.cast(&DataType::Float32),
-                }
+                })
             }
             Rule::Label(l) => {
-                let rows = gather(codes, slots, |c| {
-                    if let Cell::Label(x) = c {
-                        Some(x)
-                    } else {
-                        None
-                    }
+                let (ids, valid) = gather(codes, slots, |c| match c {
+                    Cell::Label(x) => Some(x),
+                    _ => None,
                 });
-                label_series(name, &l.categories, rows)
+                label_ids_series(name, &l.categories, ids, valid)
             }
         }
     }
 }
 
-/// Gather per-value cells to rows, in parallel chunks, in row order.
-fn gather<T: Copy + Send + Sync>(
+/// Rows gathered per parallel task.
+const GATHER_CHUNK: usize = 1 << 16;
+
+/// Gather per-value cells to rows, in parallel chunks, in row order: each
+/// row's value (`T::default()` where null) and, when some row is null, which
+/// rows are valid. The result does not depend on the thread count.
+fn gather<T: Copy + Default + Send + Sync>(
     codes: &[u32],
     slots: &[Cell],
     get: impl Fn(Cell) -> Option<T> + Sync,
-) -> Vec<Option<T>> {
-    codes
-        .par_iter()
-        .with_min_len(1 << 16)
-        .map(|&c| {
-            if c == NULL_CODE {
-                None
-            } else {
-                get(slots[c as usize])
+) -> (Vec<T>, Option<Vec<bool>>) {
+    let mut values = vec![T::default(); codes.len()];
+    let mut valid = vec![false; codes.len()];
+    let nulls: usize = values
+        .par_chunks_mut(GATHER_CHUNK)
+        .zip(valid.par_chunks_mut(GATHER_CHUNK))
+        .zip(codes.par_chunks(GATHER_CHUNK))
+        .map(|((values, valid), codes)| {
+            let mut nulls = 0;
+            for ((v, ok), &c) in values.iter_mut().zip(valid.iter_mut()).zip(codes) {
+                let cell = if c == NULL_CODE {
+                    None
+                } else {
+                    get(slots[c as usize])
+                };
+                match cell {
+                    Some(x) => {
+                        *v = x;
+                        *ok = true;
+                    }
+                    None => nulls += 1,
+                }
             }
+            nulls
         })
-        .collect()
+        .sum();
+    (values, (nulls > 0).then_some(valid))
+}
+
+/// A numeric column of the gathered cells.
+fn numeric<T: PolarsNumericType>(
+    name: PlSmallStr,
+    codes: &[u32],
+    slots: &[Cell],
+    get: impl Fn(Cell) -> Option<T::Native> + Sync,
+) -> Series {
+    let (values, valid) = gather(codes, slots, get);
+    ChunkedArray::<T>::from_vec_validity(name, values, validity!(valid)).into_series()
 }
 
 /// An Enum column: its categories are the ruleset's labels, in order, so
@@ -225,23 +296,39 @@ pub fn label_series(
     categories: &[String],
     rows: Vec<Option<u32>>,
 ) -> PolarsResult<Series> {
+    let valid = rows
+        .iter()
+        .any(Option::is_none)
+        .then(|| rows.iter().map(Option::is_some).collect());
+    let ids = rows.into_iter().map(Option::unwrap_or_default).collect();
+    label_ids_series(name, categories, ids, valid)
+}
+
+/// [`label_series`] from category ids (any value where null) and, when some
+/// row is null, which rows are valid.
+fn label_ids_series(
+    name: PlSmallStr,
+    categories: &[String],
+    ids: Vec<u32>,
+    valid: Option<Vec<bool>>,
+) -> PolarsResult<Series> {
     let frozen = FrozenCategories::new(categories.iter().map(String::as_str))?;
     let dtype = DataType::from_frozen_categories(frozen);
+    // Every id indexes `categories`, so it fits the physical type polars
+    // chose for them.
     let series = match dtype.cat_physical()? {
         CategoricalPhysical::U8 => {
-            let ids =
-                UInt8Chunked::from_iter_options(name, rows.into_iter().map(|o| o.map(|x| x as u8)));
+            let ids = ids.into_iter().map(|x| x as u8).collect();
+            let ids = UInt8Chunked::from_vec_validity(name, ids, validity!(valid));
             CategoricalChunked::<Categorical8Type>::from_cats_and_dtype(ids, dtype).into_series()
         }
         CategoricalPhysical::U16 => {
-            let ids = UInt16Chunked::from_iter_options(
-                name,
-                rows.into_iter().map(|o| o.map(|x| x as u16)),
-            );
+            let ids = ids.into_iter().map(|x| x as u16).collect();
+            let ids = UInt16Chunked::from_vec_validity(name, ids, validity!(valid));
             CategoricalChunked::<Categorical16Type>::from_cats_and_dtype(ids, dtype).into_series()
         }
         CategoricalPhysical::U32 => {
-            let ids = UInt32Chunked::from_iter_options(name, rows.into_iter());
+            let ids = UInt32Chunked::from_vec_validity(name, ids, validity!(valid));
             CategoricalChunked::<Categorical32Type>::from_cats_and_dtype(ids, dtype).into_series()
         }
     };

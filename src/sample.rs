@@ -49,6 +49,22 @@
 //! separators, half-spaced, with the grade glued on, or behind a `P/N` label;
 //! 20% are lower-cased.
 //!
+//! # A bounded vocabulary
+//!
+//! By default the number of distinct transmission and engine spellings grows
+//! with the rows (about 121,000 and 375,000 at a million rows), as free text
+//! typed by many sellers does. With [`SampleOptions::spellings`] set to
+//! `Some(n)`, each of the two descriptor columns instead draws `n` spellings
+//! once per seed (each a fresh description, smudged as usual; a spelling
+//! drawn twice counts once, so a column may end up with slightly fewer) and
+//! every non-gap row takes one of them, leaning to the first
+//! (the `k`-th of `n` is taken by about `1 / (2 sqrt(k n))` of rows). Gaps
+//! (nulls, blanks, placeholders) come at the usual rates, so the column has
+//! at most `n` spellings plus the 13 gap spellings. The truth stays exact: each
+//! spelling keeps the features it was drawn with. Part numbers are not
+//! affected and stay a high-cardinality code column. The default (`None`)
+//! gives exactly the same bytes as before the option existed.
+//!
 //! # Extended variants
 //!
 //! With [`Variants::Extended`], 30% of values take one spelling that the
@@ -85,15 +101,21 @@ pub struct SampleOptions {
     pub rows: usize,
     pub seed: u64,
     pub variants: Variants,
+    /// At most this many distinct spellings in each of `transmission` and
+    /// `engine` (gaps aside), drawn once per seed; `None` (or `Some(0)`):
+    /// unbounded, growing with the rows. See "A bounded vocabulary" in the
+    /// module documentation.
+    pub spellings: Option<usize>,
 }
 
 impl Default for SampleOptions {
-    /// The committed sample: 4000 rows, seed 7, standard spellings.
+    /// The committed sample: 4000 rows, seed 7, standard spellings, unbounded.
     fn default() -> Self {
         SampleOptions {
             rows: 4000,
             seed: 7,
             variants: Variants::Standard,
+            spellings: None,
         }
     }
 }
@@ -299,6 +321,7 @@ pub struct Listings {
     opts: SampleOptions,
     row: usize,
     stock: Stock,
+    pool: Option<Pool>,
     tally: Tally,
 }
 
@@ -360,6 +383,61 @@ impl Stock {
     }
 }
 
+/// The fixed spellings of a bounded vocabulary ([`SampleOptions::spellings`]).
+struct Pool {
+    gearboxes: Vec<(Gearbox, String, GearboxFeatures)>,
+    engines: Vec<(EngineSpec, String, EngineFeatures)>,
+}
+
+/// Draws allowed per wanted spelling before a pool settles for fewer.
+const POOL_DRAWS_PER_SPELLING: usize = 20;
+
+impl Pool {
+    fn draw(d: &mut Dice, opts: &SampleOptions, n: usize) -> Pool {
+        let extended = opts.variants == Variants::Extended;
+        let gearboxes = distinct_draws(d, n, |d| {
+            let g = fit_gearbox(d);
+            let (clean, features) = describe_gearbox(d, &g, extended);
+            (g, smudge(d, clean, opts.seed), features)
+        });
+        let engines = distinct_draws(d, n, |d| {
+            let e = fit_engine(d);
+            let (clean, features) = describe_engine(d, &e, extended);
+            (e, smudge(d, clean, opts.seed), features)
+        });
+        Pool { gearboxes, engines }
+    }
+}
+
+/// Up to `n` draws with distinct texts (the first draw of a text is kept).
+fn distinct_draws<T, F>(
+    d: &mut Dice,
+    n: usize,
+    mut draw: impl FnMut(&mut Dice) -> (T, String, F),
+) -> Vec<(T, String, F)> {
+    let mut seen = std::collections::HashSet::new();
+    let mut out = Vec::with_capacity(n);
+    for _ in 0..n.saturating_mul(POOL_DRAWS_PER_SPELLING) {
+        if out.len() == n {
+            break;
+        }
+        let item = draw(d);
+        if seen.insert(item.1.clone()) {
+            out.push(item);
+        }
+    }
+    out
+}
+
+/// One of a pool's spellings, leaning to the first: index `floor(u^2 n)`.
+fn from_pool<'a, T>(d: &mut Dice, pool: &'a [T]) -> Option<&'a T> {
+    if pool.is_empty() {
+        return None;
+    }
+    let u = d.fraction();
+    Some(&pool[((u * u * pool.len() as f64) as usize).min(pool.len() - 1)])
+}
+
 /// A stock item (leaning to the first, more gently than spellings do) in
 /// `share` of draws, else none.
 fn from_stock<'a, T>(d: &mut Dice, stock: &'a [T], share: f64) -> Option<&'a T> {
@@ -373,11 +451,16 @@ impl Listings {
     pub fn new(opts: &SampleOptions) -> Self {
         let mut dice = Dice::new(opts.seed);
         let stock = Stock::lay_in(&mut dice, opts);
+        let pool = opts
+            .spellings
+            .filter(|&n| n > 0)
+            .map(|n| Pool::draw(&mut dice, opts, n));
         Listings {
             dice,
             opts: opts.clone(),
             row: 0,
             stock,
+            pool,
             tally: Tally::default(),
         }
     }
@@ -398,9 +481,16 @@ impl Listings {
         let seed = self.opts.seed;
         let d = &mut self.dice;
         let t = &mut self.tally;
-        let stock_gearbox = from_stock(d, &self.stock.gearboxes, STOCK_DESCRIPTION_SHARE);
+        // With a bounded vocabulary every description comes from the pool.
+        let stock_gearbox = match &self.pool {
+            Some(pool) => from_pool(d, &pool.gearboxes),
+            None => from_stock(d, &self.stock.gearboxes, STOCK_DESCRIPTION_SHARE),
+        };
         let gearbox = stock_gearbox.map_or_else(|| fit_gearbox(d), |s| s.0.clone());
-        let stock_engine = from_stock(d, &self.stock.engines, STOCK_DESCRIPTION_SHARE);
+        let stock_engine = match &self.pool {
+            Some(pool) => from_pool(d, &pool.engines),
+            None => from_stock(d, &self.stock.engines, STOCK_DESCRIPTION_SHARE),
+        };
         let engine = stock_engine.map_or_else(|| fit_engine(d), |s| s.0.clone());
         let part = from_stock(d, &self.stock.parts, STOCK_PART_SHARE)
             .cloned()
@@ -1982,6 +2072,14 @@ mod tests {
             rows,
             seed,
             variants,
+            spellings: None,
+        }
+    }
+
+    fn bounded(rows: usize, seed: u64, variants: Variants, n: usize) -> SampleOptions {
+        SampleOptions {
+            spellings: Some(n),
+            ..opts(rows, seed, variants)
         }
     }
 
@@ -2051,6 +2149,84 @@ mod tests {
             write_sample(b.path(), &o).unwrap();
             assert_eq!(read_all(a.path()), read_all(b.path()));
         }
+    }
+
+    #[test]
+    fn the_default_options_write_the_committed_sample() {
+        let dir = tempfile::tempdir().unwrap();
+        write_sample(dir.path(), &SampleOptions::default()).unwrap();
+        let committed = Path::new(env!("CARGO_MANIFEST_DIR")).join("samples");
+        assert!(read_all(dir.path()) == read_all(&committed));
+    }
+
+    #[test]
+    fn a_bounded_vocabulary_is_seeded_and_zero_means_unbounded() {
+        let (a, b) = (tempfile::tempdir().unwrap(), tempfile::tempdir().unwrap());
+        let o = bounded(3000, 11, Variants::Standard, 200);
+        write_sample(a.path(), &o).unwrap();
+        write_sample(b.path(), &o).unwrap();
+        assert_eq!(read_all(a.path()), read_all(b.path()));
+        let unbounded = generate(&opts(3000, 11, Variants::Standard)).listings;
+        assert_ne!(generate(&o).listings, unbounded);
+        assert_eq!(
+            generate(&bounded(3000, 11, Variants::Standard, 0)).listings,
+            unbounded
+        );
+    }
+
+    #[test]
+    fn a_bounded_vocabulary_caps_the_descriptor_columns_only() {
+        for variants in [Variants::Standard, Variants::Extended] {
+            let n = 300;
+            let mut rows = Listings::new(&bounded(60_000, 5, variants, n));
+            rows.by_ref().for_each(drop);
+            assert_eq!(rows.conflicts(), 0, "{variants:?}");
+            let t = rows.into_truth();
+            fn described<F>(c: &TruthColumn<F>) -> usize {
+                c.values().filter(|e| e.features.is_some()).count()
+            }
+            for (name, spellings) in [
+                ("transmission", described(&t.transmission)),
+                ("engine", described(&t.engine)),
+            ] {
+                // Nearly all of the pool shows up in 60,000 rows: the rarest
+                // spelling is drawn by about 1 row in 600.
+                assert!(
+                    (n * 9 / 10..=n).contains(&spellings),
+                    "{name}: {spellings} spellings, {variants:?}"
+                );
+            }
+            assert!(t.transmission.len() <= n + BLANKS.len() + PLACEHOLDERS.len());
+            assert!(t.engine.len() <= n + BLANKS.len() + PLACEHOLDERS.len());
+            assert!(t.part_no.len() as f64 > 0.6 * 60_000.0);
+        }
+    }
+
+    #[test]
+    fn a_bounded_vocabulary_keeps_the_truth_and_the_gap_rates() {
+        let s = generate(&bounded(40_000, 3, Variants::Extended, 500));
+        let mut counts: BTreeMap<&str, u64> = BTreeMap::new();
+        for l in &s.listings {
+            if let Some(v) = l.transmission.as_deref() {
+                *counts.entry(v).or_default() += 1;
+            }
+        }
+        assert_eq!(counts.len(), s.truth.transmission.len());
+        for (raw, n) in &counts {
+            assert_eq!(s.truth.transmission[*raw].rows, *n, "{raw:?}");
+        }
+        let nulls = s.listings.iter().filter(|l| l.engine.is_none()).count() as f64 / 40_000.0;
+        assert!((0.015..0.025).contains(&nulls), "nulls {nulls}");
+        // The head spelling is common, the pool's tail rare.
+        let mut rows: Vec<u64> = s
+            .truth
+            .engine
+            .values()
+            .filter(|e| e.features.is_some())
+            .map(|e| e.rows)
+            .collect();
+        rows.sort_unstable_by(|a, b| b.cmp(a));
+        assert!(rows[0] > 10 * rows[rows.len() / 2], "{rows:?}");
     }
 
     #[test]

@@ -9,6 +9,7 @@ use std::io::Write;
 use std::path::{Path, PathBuf};
 
 use polars::prelude::*;
+use rayon::prelude::*;
 
 use crate::error::Error;
 
@@ -122,6 +123,10 @@ fn sync_folder(folder: &Path) {
     }
 }
 
+/// Rows per Parquet row group at most (each batch is cut into row groups of
+/// this size): polars' own default, 512².
+pub const ROW_GROUP_ROWS: usize = 512 * 512;
+
 type BatchFn = Box<dyn FnMut(Option<&mut DataFrame>) -> PolarsResult<()> + Send>;
 
 /// An output written batch by batch (Parquet row groups, CSV lines) into a
@@ -223,6 +228,91 @@ impl TableSink {
     }
 }
 
+/// A [`TableSink`] on its own thread: [`BackgroundSink::write`] hands a batch
+/// over and returns at once, so the next batch is read and described while
+/// this one is encoded, compressed and written. At most one batch waits in
+/// between. Batches are written in the order given, so the output is the
+/// same as a [`TableSink`]'s. Dropping it without [`BackgroundSink::finish`]
+/// waits for the thread and removes the temporary file, as a dropped
+/// [`TableSink`] does.
+pub struct BackgroundSink {
+    output: PathBuf,
+    send: Option<std::sync::mpsc::SyncSender<DataFrame>>,
+    thread: Option<std::thread::JoinHandle<Result<Option<TableSink>, Error>>>,
+}
+
+impl BackgroundSink {
+    /// Start the writing thread; the file is created with the first batch's
+    /// schema.
+    pub fn start(output: &Path, format: OutputFormat) -> BackgroundSink {
+        let (send, receive) = std::sync::mpsc::sync_channel::<DataFrame>(1);
+        let output_path = output.to_owned();
+        let output = output.to_owned();
+        let thread = std::thread::spawn(move || {
+            let mut sink: Option<TableSink> = None;
+            for mut batch in receive {
+                let sink = match sink.as_mut() {
+                    Some(sink) => sink,
+                    None => {
+                        sink.insert(TableSink::create(&output, format, &batch.schema().clone())?)
+                    }
+                };
+                sink.write(&mut batch)?;
+            }
+            Ok(sink)
+        });
+        BackgroundSink {
+            output: output_path,
+            send: Some(send),
+            thread: Some(thread),
+        }
+    }
+
+    /// Queue a batch; waits only while the previous one is still queued.
+    pub fn write(&mut self, batch: DataFrame) -> Result<(), Error> {
+        let send = self.send.as_ref().expect("open until finished");
+        if send.send(batch).is_err() {
+            // The thread stopped on an error: report it.
+            self.send = None;
+            self.join()?;
+            return Err(self.stopped());
+        }
+        Ok(())
+    }
+
+    /// Write what is queued and move the file into place. `Ok(false)`: no
+    /// batch was ever written, so there is no file.
+    pub fn finish(mut self) -> Result<bool, Error> {
+        self.send = None;
+        match self.join()? {
+            Some(sink) => sink.finish().map(|_| true),
+            None => Ok(false),
+        }
+    }
+
+    fn join(&mut self) -> Result<Option<TableSink>, Error> {
+        let thread = self.thread.take().expect("joined once");
+        thread.join().unwrap_or_else(|_| Err(self.stopped()))
+    }
+
+    fn stopped(&self) -> Error {
+        Error::Output {
+            path: self.output.clone(),
+            message: "the writer stopped unexpectedly".to_owned(),
+        }
+    }
+}
+
+impl Drop for BackgroundSink {
+    fn drop(&mut self) {
+        self.send = None;
+        if self.thread.is_some() {
+            // An unfinished sink: its temporary file goes with it.
+            let _ = self.join();
+        }
+    }
+}
+
 fn batch_writer(w: File, format: OutputFormat, schema: &Schema) -> PolarsResult<BatchFn> {
     Ok(match format {
         OutputFormat::Parquet => {
@@ -230,7 +320,23 @@ fn batch_writer(w: File, format: OutputFormat, schema: &Schema) -> PolarsResult<
             Box::new(move |batch: Option<&mut DataFrame>| match batch {
                 Some(df) => {
                     df.align_chunks_par();
-                    writer.as_mut().expect("open").write_batch(df)
+                    let writer = writer.as_ref().expect("open");
+                    // Row groups are encoded in parallel (a single heavy
+                    // column no longer holds up the batch), then written in
+                    // order.
+                    let parts: Vec<DataFrame> = (0..df.height())
+                        .step_by(ROW_GROUP_ROWS)
+                        .map(|at| df.slice(at as i64, ROW_GROUP_ROWS))
+                        .collect();
+                    let groups = parts
+                        .par_iter()
+                        .map(|part| writer.encode_and_compress(part).collect::<Vec<_>>())
+                        .collect::<Vec<_>>();
+                    let groups = groups
+                        .into_iter()
+                        .flatten()
+                        .collect::<PolarsResult<Vec<_>>>()?;
+                    writer.write_row_groups(groups)
                 }
                 None => writer.take().expect("open").finish().map(|_| ()),
             })

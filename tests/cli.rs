@@ -503,3 +503,36 @@ fn help_teaches_with_the_long_usage_text() {
         );
     }
 }
+
+#[test]
+fn sample_spellings_bounds_the_descriptor_columns() {
+    let dir = TempDir::new().unwrap();
+    let out_dir = dir.path().join("bounded");
+    let out = run(
+        &[
+            "sample",
+            "-o",
+            s(&out_dir),
+            "--rows",
+            "5000",
+            "--spellings",
+            "40",
+        ],
+        None,
+    );
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    for column in ["transmission", "engine"] {
+        let truth = std::fs::read_to_string(out_dir.join(format!("truth/{column}.csv"))).unwrap();
+        let described = truth
+            .lines()
+            .skip(1)
+            .filter(|l| l.rsplit(',').nth(1) == Some("false"))
+            .count();
+        assert!(
+            (30..=40).contains(&described),
+            "{column}: {described} spellings"
+        );
+    }
+    let refused = run(&["sample", "-o", s(&out_dir), "--spellings", "0"], None);
+    assert_eq!(refused.status.code(), Some(2), "{}", stderr(&refused));
+}

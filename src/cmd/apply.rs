@@ -11,7 +11,7 @@ use descry::pipeline::{Describer, Description};
 use descry::read::{can_stream, for_each_batch, table_columns, Table};
 use descry::render::thousands;
 use descry::vocabulary::GrowingVocabulary;
-use descry::write::{check_output_path, write_table, OutputFormat, TableSink};
+use descry::write::{check_output_path, write_table, BackgroundSink, OutputFormat};
 use descry::Vocabulary;
 
 use super::common::{column_notes, load_ruleset, print_notes, source_column, InputArgs};
@@ -77,7 +77,8 @@ pub struct Args {
     /// batches (the output is the same).
     #[arg(long)]
     pub in_memory: bool,
-    /// Rows per batch when streaming (also the Parquet row-group size).
+    /// Rows per batch when streaming; Parquet row groups hold at most
+    /// 262,144 rows (a batch is cut into several).
     #[arg(long, default_value_t = 1 << 20, hide_short_help = true)]
     pub batch_rows: usize,
 }
@@ -196,7 +197,7 @@ fn apply_in_batches(
     };
     progress.phase("applying");
     let mut describer = Describer::new(descriptions, full);
-    let mut sink: Option<TableSink> = None;
+    let mut sink = BackgroundSink::start(&args.output, format);
     let mut summary = Summary::default();
     let notes = for_each_batch(
         &args.input.input,
@@ -209,22 +210,18 @@ fn apply_in_batches(
                 .features(&batch)
                 .map_err(|e| output_error(args, e.into()))?;
             summary.add_batch(&batch, &columns, &features);
-            let mut out =
+            let out =
                 output_batch(batch, &columns, features, args).map_err(|e| output_error(args, e))?;
-            if sink.is_none() {
-                sink = Some(TableSink::create(&args.output, format, out.schema())?);
-            }
-            sink.as_mut().expect("created").write(&mut out)?;
+            sink.write(out)?;
             progress.rows(summary.rows);
             Ok(())
         },
     )?;
     progress.done();
     print_notes(&notes, args.quiet);
-    match sink {
-        Some(sink) => sink.finish()?,
+    if !sink.finish()? {
         // No batch at all (a table without rows): write it whole.
-        None => return apply_in_memory(args, describer.into_descriptions(), format),
+        return apply_in_memory(args, describer.into_descriptions(), format);
     }
     Ok(summary.finish(&describer))
 }

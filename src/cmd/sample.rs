@@ -11,8 +11,15 @@ Write the demo data set: listings of a used farm-and-construction equipment
 marketplace, with free-text `transmission`, `engine` and `part_no` columns,
 and the true features of every distinct value under OUT_DIR/truth/.
 
-The generator is seeded: the same --rows, --seed and --variants always give
-byte-identical files.
+The generator is seeded: the same --rows, --seed, --variants and --spellings
+always give byte-identical files.
+
+By default the number of distinct transmission and engine spellings grows
+with the rows, as text typed by many sellers does (about 121,000 and 375,000
+at a million rows). --spellings N bounds it instead: each of the two columns
+draws N spellings once per seed and every row takes one of them (a few
+common, most rare), plus the usual nulls, blanks and placeholders; part_no
+stays a high-cardinality code column. The truth is exact either way.
 
 Memory: rows are streamed to the file; memory grows with
 the number of distinct values (one truth entry each).";
@@ -33,6 +40,11 @@ pub struct Args {
     /// `extended` (adds formats the sample does not contain, for evaluation).
     #[arg(long, value_enum, default_value_t = Variants::Standard)]
     pub variants: Variants,
+    /// At most N distinct spellings in each of transmission and engine
+    /// (besides blanks and placeholders), drawn once per seed; without it
+    /// they grow with the rows.
+    #[arg(long, value_name = "N", value_parser = clap::value_parser!(u64).range(1..))]
+    pub spellings: Option<u64>,
 }
 
 #[derive(Debug, Clone, Copy, ValueEnum)]
@@ -50,6 +62,7 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
         rows: args.rows,
         seed: args.seed,
         variants,
+        spellings: args.spellings.map(|n| n as usize),
     };
     descry::sample::write_sample(&args.out_dir, &opts)?;
     eprintln!(
