@@ -10,7 +10,6 @@
 //! Keys are normalized with the ruleset's own `[normalize]` table, because
 //! that is what the map is matched against when the ruleset runs.
 
-use std::io::Write;
 use std::path::{Path, PathBuf};
 
 use serde::Serialize;
@@ -92,7 +91,7 @@ pub fn write_label_map(
             )
         }
     };
-    write_atomically(path, &text).map_err(|e| err(format!("cannot write the ruleset: {e}")))?;
+    crate::write::write_text_atomically(path, &text)?;
     Ok(update)
 }
 
@@ -219,21 +218,6 @@ fn add_categories(label: &mut Table, entries: &[(String, String)], update: &mut 
 }
 
 /// Write to a temporary file in the same folder, then rename it into place.
-fn write_atomically(path: &Path, text: &str) -> std::io::Result<()> {
-    let folder = match path.parent() {
-        Some(p) if !p.as_os_str().is_empty() => p.to_owned(),
-        _ => PathBuf::from("."),
-    };
-    let mut temp = tempfile::Builder::new()
-        .prefix(".descry-")
-        .suffix(".partial")
-        .tempfile_in(&folder)?;
-    temp.write_all(text.as_bytes())?;
-    temp.as_file().sync_all()?;
-    temp.persist(path).map_err(|e| e.error)?;
-    Ok(())
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
