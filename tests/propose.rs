@@ -88,6 +88,15 @@ fn engine_draft_proposes_every_kind() {
 }
 
 #[test]
+fn a_column_with_nothing_to_propose_says_so() {
+    let dir = tempfile::tempdir().unwrap();
+    let (rules, report) = draft(dir.path(), "price_usd", &[]);
+    assert!(report.contains("nothing to propose"), "{report}");
+    let parsed = descry::Ruleset::from_path(&rules).unwrap();
+    assert!(parsed.features.is_empty());
+}
+
+#[test]
 fn the_draft_is_the_same_whatever_the_thread_count() {
     let dir = tempfile::tempdir().unwrap();
     let csv = sample_csv();

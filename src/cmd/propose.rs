@@ -238,6 +238,13 @@ fn report_text(
             );
         }
     }
+    if draft.proposals.is_empty() {
+        let _ = writeln!(
+            out,
+            "nothing to propose: no word, unit or numbered marker fires on --min-share of the rows; \
+             lower --min-share, or see what the column holds with `descry survey`"
+        );
+    }
     let c = &check.coverage;
     let _ = writeln!(
         out,
