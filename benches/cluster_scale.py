@@ -170,6 +170,13 @@ def cdist_pairs(values: list, scorer, kwargs: dict, cutoff, chunk: int, want_pai
                 a, b = start + r, start + c
                 if b > a:
                     pairs.add((min(values[a], values[b]), max(values[a], values[b])))
+    if want_pairs and isinstance(cutoff, float):
+        # The matrix holds float32 scores: a score just below the threshold
+        # (0.8999999999999999) can round up to it. Keep the pairs whose
+        # score, recomputed in double precision by the same scorer, is
+        # within the threshold.
+        score = lambda a, b: scorer(a, b, **kwargs.get("scorer_kwargs", {}))
+        pairs = {p for p in pairs if (score(*p) <= cutoff + 1e-12 if is_distance else score(*p) >= cutoff)}
     return total, pairs
 
 
