@@ -3,14 +3,12 @@
 
 use std::process::ExitCode;
 
-use descry::read::{can_stream, for_each_batch, Table};
 use descry::render::check_text;
-use descry::vocabulary::GrowingVocabulary;
 use descry::CoverageReport;
 
 use super::common::{
-    column_notes, emit, json_out, load_ruleset, parse_share, print_notes, source_column,
-    vocabulary_of, Format, InputArgs,
+    column_notes, emit, json_out, load_ruleset, parse_share, print_notes, read_vocabulary,
+    source_column, Format, InputArgs,
 };
 
 pub const ABOUT: &str = "\
@@ -59,48 +57,10 @@ pub struct Args {
     pub quiet: bool,
 }
 
-/// The vocabulary of one column; files that can be streamed are read in
-/// batches, keeping only the vocabulary.
-pub fn column_vocabulary(
-    input: &InputArgs,
-    column: &str,
-    quiet: bool,
-) -> anyhow::Result<descry::Vocabulary> {
-    let opts = input.read_options();
-    if !can_stream(&input.input, &opts) {
-        let table = Table::read_columns(&input.input, &[column], &opts)?;
-        print_notes(&table.notes, quiet);
-        return vocabulary_of(&table, column);
-    }
-    let mut vocab = GrowingVocabulary::default();
-    let notes = for_each_batch(
-        &input.input,
-        &[column],
-        Some(&[column]),
-        &opts,
-        1 << 20,
-        |batch| {
-            let col = batch.column(column).map_err(|e| descry::Error::Input {
-                path: input.input.clone(),
-                message: e.to_string(),
-            })?;
-            let text = col.str().map_err(|e| descry::Error::Input {
-                path: input.input.clone(),
-                message: e.to_string(),
-            })?;
-            let rows: Vec<Option<&str>> = text.iter().collect();
-            vocab.codes_for(&rows);
-            Ok(())
-        },
-    )?;
-    print_notes(&notes, quiet);
-    Ok(vocab.to_vocabulary())
-}
-
 pub fn run(args: Args) -> anyhow::Result<ExitCode> {
     let rules = load_ruleset(&args.rules)?;
     let column = source_column(args.column.as_deref(), &rules)?;
-    let vocab = column_vocabulary(&args.input, &column, args.quiet)?;
+    let vocab = read_vocabulary(&args.input, &column, args.quiet)?;
     print_notes(&column_notes(&vocab, &column), args.quiet);
     let eval = rules.evaluate_all(&vocab.values);
     let report = CoverageReport::build(&rules, &column, &vocab, &eval);

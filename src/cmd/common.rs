@@ -6,7 +6,8 @@ use std::path::{Path, PathBuf};
 use anyhow::{bail, Context};
 use clap::ValueEnum;
 
-use descry::read::ReadOptions;
+use descry::read::{can_stream, for_each_batch, ReadOptions, Table};
+use descry::vocabulary::GrowingVocabulary;
 use descry::{Ruleset, Vocabulary};
 
 /// Where the table comes from and how to read it.
@@ -79,11 +80,39 @@ pub fn source_column(cli: Option<&str>, rules: &Ruleset) -> anyhow::Result<Strin
 }
 
 /// Read one column of the input, print the reader's notes (unless
-/// `quiet`) and build the column's vocabulary.
+/// `quiet`) and build the column's vocabulary. CSV, Parquet and Arrow IPC
+/// files are read in batches, keeping only the vocabulary; standard input
+/// and NDJSON are read whole.
 pub fn read_vocabulary(input: &InputArgs, column: &str, quiet: bool) -> anyhow::Result<Vocabulary> {
-    let table = descry::read::Table::read_columns(&input.input, &[column], &input.read_options())?;
-    print_notes(&table.notes, quiet);
-    vocabulary_of(&table, column)
+    let opts = input.read_options();
+    if !can_stream(&input.input, &opts) {
+        let table = Table::read_columns(&input.input, &[column], &opts)?;
+        print_notes(&table.notes, quiet);
+        return vocabulary_of(&table, column);
+    }
+    let mut vocab = GrowingVocabulary::default();
+    let notes = for_each_batch(
+        &input.input,
+        &[column],
+        Some(&[column]),
+        &opts,
+        1 << 20,
+        |batch| {
+            let col = batch.column(column).map_err(|e| descry::Error::Input {
+                path: input.input.clone(),
+                message: e.to_string(),
+            })?;
+            let text = col.str().map_err(|e| descry::Error::Input {
+                path: input.input.clone(),
+                message: e.to_string(),
+            })?;
+            let rows: Vec<Option<&str>> = text.iter().collect();
+            vocab.codes_for(&rows);
+            Ok(())
+        },
+    )?;
+    print_notes(&notes, quiet);
+    Ok(vocab.to_vocabulary())
 }
 
 /// The vocabulary of a text column of a table.

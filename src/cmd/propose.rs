@@ -11,8 +11,9 @@ use descry::render::{shown, thousands};
 use descry::write::write_text_atomically;
 use descry::{CoverageReport, Ruleset};
 
-use super::check::column_vocabulary;
-use super::common::{column_notes, emit, json_out, parse_share, print_notes, Format, InputArgs};
+use super::common::{
+    column_notes, emit, json_out, parse_share, print_notes, read_vocabulary, Format, InputArgs,
+};
 
 pub const ABOUT: &str = "\
 Draft a ruleset from a column's distinct values.
@@ -148,7 +149,7 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
         (None, None) => bail!("say which column to mine: --column NAME"),
     };
 
-    let vocab = column_vocabulary(&args.input, &column, args.quiet)?;
+    let vocab = read_vocabulary(&args.input, &column, args.quiet)?;
     print_notes(&column_notes(&vocab, &column), args.quiet);
     let opts = ProposeOptions {
         min_share: args.min_share,

@@ -38,8 +38,9 @@ not applicable, not known, missing, no data, -, --, ?; or made only of
 punctuation and symbols. --placeholder adds to the list;
 --no-default-placeholders starts from an empty one.
 
-Memory: the column plus its vocabulary (proportional to the number of
-distinct values).
+Memory: the column's vocabulary (proportional to the number of distinct
+values); CSV, Parquet and Arrow IPC files are read in batches, standard
+input and NDJSON whole.
 
 Example:
   descry survey samples/listings.csv --column transmission --top 30";
