@@ -35,10 +35,11 @@ The output format follows the extension of -o: .parquet, .arrow/.ipc/.feather,
 into place at the end: an existing output is replaced only on success, and
 the input is never written to.
 
-Memory: one batch plus the vocabulary and each distinct value's features.
+Memory: a few batches plus the vocabulary and each distinct value's features.
 Files in CSV, Parquet and Arrow IPC are read in batches (--batch-rows) and
-the output is written as they come: memory holds one batch plus the
-vocabulary and the per-value results, so files larger than memory work.
+the output is written as they come: memory holds a few batches (one read
+ahead, one being described, one being written) plus the vocabulary and the
+per-value results, so files larger than memory work.
 Standard input, NDJSON and --in-memory read the whole table first. When a
 count rule has no `range`, its type depends on every value, so the file is
 read twice (the first pass keeps only the vocabulary).
