@@ -440,6 +440,23 @@ pub fn can_stream(path: &Path, opts: &ReadOptions) -> bool {
         )
 }
 
+/// The rows of one text column of a batch from [`for_each_batch`]; an error
+/// names the input file.
+pub fn batch_text<'a>(
+    batch: &'a DataFrame,
+    column: &str,
+    path: &Path,
+) -> Result<Vec<Option<&'a str>>, Error> {
+    let text = batch
+        .column(column)
+        .and_then(|c| c.str())
+        .map_err(|e| Error::Input {
+            path: path.to_owned(),
+            message: e.to_string(),
+        })?;
+    Ok(text.iter().collect())
+}
+
 /// Read a table in batches of about `batch_rows` rows, in file order, and
 /// hand each to `each`. Only the batch in hand (and polars' read-ahead) is
 /// in memory. `projection` limits the columns read. Returns notes for the

@@ -8,7 +8,7 @@ use anyhow::bail;
 use polars::prelude::*;
 
 use descry::pipeline::{Describer, Description};
-use descry::read::{can_stream, for_each_batch, table_columns, Table};
+use descry::read::{batch_text, can_stream, for_each_batch, table_columns, Table};
 use descry::render::thousands;
 use descry::vocabulary::GrowingVocabulary;
 use descry::write::{check_output_path, write_table, BackgroundSink, OutputFormat};
@@ -246,15 +246,7 @@ fn first_pass(args: &Args, columns: &[&str]) -> anyhow::Result<Vec<Option<Growin
         args.batch_rows,
         |batch| {
             for (vocab, c) in vocabs.iter_mut().zip(columns) {
-                let text = batch
-                    .column(c)
-                    .and_then(|c| c.str().cloned())
-                    .map_err(|e| descry::Error::Input {
-                        path: args.input.input.clone(),
-                        message: e.to_string(),
-                    })?;
-                let rows: Vec<Option<&str>> = text.iter().collect();
-                vocab.codes_for(&rows);
+                vocab.codes_for(&batch_text(&batch, c, &args.input.input)?);
             }
             Ok(())
         },

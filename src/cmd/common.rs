@@ -6,7 +6,7 @@ use std::path::{Path, PathBuf};
 use anyhow::{bail, Context};
 use clap::ValueEnum;
 
-use descry::read::{can_stream, for_each_batch, ReadOptions, Table};
+use descry::read::{batch_text, can_stream, for_each_batch, ReadOptions, Table};
 use descry::vocabulary::GrowingVocabulary;
 use descry::{Ruleset, Vocabulary};
 
@@ -98,16 +98,7 @@ pub fn read_vocabulary(input: &InputArgs, column: &str, quiet: bool) -> anyhow::
         &opts,
         1 << 20,
         |batch| {
-            let col = batch.column(column).map_err(|e| descry::Error::Input {
-                path: input.input.clone(),
-                message: e.to_string(),
-            })?;
-            let text = col.str().map_err(|e| descry::Error::Input {
-                path: input.input.clone(),
-                message: e.to_string(),
-            })?;
-            let rows: Vec<Option<&str>> = text.iter().collect();
-            vocab.codes_for(&rows);
+            vocab.codes_for(&batch_text(&batch, column, &input.input)?);
             Ok(())
         },
     )?;
