@@ -127,6 +127,9 @@ pub struct Encoder {
     count_types: Vec<Option<IntType>>,
     /// `slots[feature][value]`.
     slots: Vec<Vec<Cell>>,
+    /// The first count cell that does not fit its column's type, found when
+    /// the cells were added: (feature, value).
+    unfit: Option<(usize, i64)>,
 }
 
 impl Encoder {
@@ -142,6 +145,7 @@ impl Encoder {
         Encoder {
             count_types,
             slots: vec![Vec::new(); rules.features.len()],
+            unfit: None,
         }
     }
 
@@ -157,7 +161,17 @@ impl Encoder {
     /// Append the cells of values `from..` of `eval`.
     pub fn add_values(&mut self, eval: &Evaluation, from: usize) {
         for (i, slots) in self.slots.iter_mut().enumerate() {
+            let start = slots.len();
             slots.extend(eval.outcomes[from..].iter().map(|o| o[i].cell));
+            if let (Some(ty), None) = (self.count_types[i], self.unfit) {
+                self.unfit = slots[start..]
+                    .iter()
+                    .find_map(|&c| match c {
+                        Cell::Int(x) if !ty.holds(x) => Some(x),
+                        _ => None,
+                    })
+                    .map(|x| (i, x));
+            }
         }
     }
 
@@ -193,7 +207,7 @@ impl Encoder {
                     _ => None,
                 };
                 let ty = self.count_types[i].unwrap_or(IntType::Int64);
-                if let Some(x) = slots.iter().filter_map(|&c| int(c)).find(|&x| !ty.holds(x)) {
+                if let Some((_, x)) = self.unfit.filter(|&(feature, _)| feature == i) {
                     polars_bail!(ComputeError: "count {x} of \"{}\" does not fit {:?}", f.output, ty);
                 }
                 // Every value fits `ty` (checked above), so `as` is exact.

@@ -5,7 +5,10 @@
 //! value codes, the values seen for the first time are normalized and
 //! evaluated (in parallel), and the features are gathered for the batch's
 //! rows. A whole table in memory is simply one batch, so both paths run the
-//! same code.
+//! same code. [`with_features`] puts a describer into a polars streaming
+//! query, so that reading, describing, encoding and writing overlap.
+
+use std::sync::{Arc, Mutex, OnceLock};
 
 use polars::prelude::*;
 
@@ -103,4 +106,47 @@ impl Describer {
             .iter()
             .map(|s| (&s.description, s.vocab.to_vocabulary()))
     }
+}
+
+/// `lazy` with each morsel passed through `finish(morsel, features)`, the
+/// features being those `describer` computes for the morsel. Run with
+/// polars' streaming engine, morsels are read, finished, encoded and
+/// written in parallel, and a sink keeps them in row order; the describer
+/// itself serves one morsel at a time. The output schema is what `finish`
+/// makes of an empty morsel. The second result holds the message of the
+/// first error raised while describing or finishing a morsel, so that a
+/// failed query can be told apart from a failed read.
+pub fn with_features<F>(
+    lazy: LazyFrame,
+    describer: Arc<Mutex<Describer>>,
+    finish: F,
+) -> PolarsResult<(LazyFrame, Arc<OnceLock<String>>)>
+where
+    F: Fn(DataFrame, Vec<Column>) -> PolarsResult<DataFrame> + Send + Sync + 'static,
+{
+    let features = move |describer: &Mutex<Describer>, morsel: &DataFrame| match describer.lock() {
+        Ok(mut d) => d.features(morsel),
+        Err(_) => polars_bail!(ComputeError: "describing a batch failed before"),
+    };
+    let mut lazy = lazy;
+    let empty = DataFrame::empty_with_schema(lazy.collect_schema()?.as_ref());
+    let schema = finish(empty.clone(), features(&describer, &empty)?)?
+        .schema()
+        .clone();
+    let failure = Arc::new(OnceLock::new());
+    let first_failure = failure.clone();
+    let udf = move |morsel: DataFrame| {
+        features(&describer, &morsel)
+            .and_then(|columns| finish(morsel, columns))
+            .inspect_err(|e| {
+                let _ = first_failure.set(e.to_string());
+            })
+    };
+    let lazy = lazy.map(
+        udf,
+        OptFlags::STREAMING,
+        Some(Arc::new(move |_: &Schema| Ok(schema.clone()))),
+        Some("descry features"),
+    );
+    Ok((lazy, failure))
 }

@@ -457,6 +457,78 @@ pub fn batch_text<'a>(
     Ok(text.iter().collect())
 }
 
+/// A table opened for streaming: a lazy scan (polars' streaming engine) of
+/// a CSV, Parquet or Arrow IPC file whose described columns are cast to
+/// text, with the notes for the user and what it takes to locate a read
+/// error in the file.
+pub struct StreamedTable {
+    /// The scan; run it with `Engine::Streaming` so that only a few
+    /// morsels are in memory at a time.
+    pub lazy: LazyFrame,
+    /// Notes for the user, as [`Table::notes`].
+    pub notes: Vec<String>,
+    path: PathBuf,
+    source: Source,
+    format: TableFormat,
+    opts: ReadOptions,
+}
+
+impl StreamedTable {
+    /// Open `path` (checking that it holds `text_columns`); `projection`
+    /// limits the columns read.
+    pub fn open(
+        path: &Path,
+        text_columns: &[&str],
+        projection: Option<&[&str]>,
+        opts: &ReadOptions,
+    ) -> Result<StreamedTable, Error> {
+        let format = TableFormat::of(path, opts.delimiter)?;
+        let source = Source::open(path)?;
+        let fail = |e| read_error(path, &source, format, opts, e);
+        let names = column_names(&source, format, opts).map_err(fail)?;
+        if let Some(missing) = text_columns.iter().find(|c| !names.iter().any(|n| n == *c)) {
+            return Err(Error::MissingColumn {
+                path: path.to_owned(),
+                column: missing.to_string(),
+                available: names,
+            });
+        }
+        let mut lazy = scan(path, format, text_columns, opts).map_err(fail)?;
+        if let Some(cols) = projection {
+            lazy = lazy.select(cols.iter().map(|c| col(*c)).collect::<Vec<_>>());
+        }
+        let schema = lazy.collect_schema().map_err(fail)?;
+        let notes = text_columns
+            .iter()
+            .filter_map(|c| {
+                schema
+                    .get(c)
+                    .filter(|t| !matches!(t, DataType::String | DataType::Null))
+                    .map(|t| (c, t))
+            })
+            .map(|(c, t)| format!("column \"{c}\" holds {t} values; they were read as text"))
+            .collect();
+        let casts: Vec<Expr> = text_columns
+            .iter()
+            .map(|c| col(*c).cast(DataType::String))
+            .collect();
+        Ok(StreamedTable {
+            lazy: lazy.with_columns(casts),
+            notes,
+            path: path.to_owned(),
+            source,
+            format,
+            opts: opts.clone(),
+        })
+    }
+
+    /// An error of the running scan, located in the file when it is a CSV
+    /// the reader rejected.
+    pub fn read_error(&self, e: PolarsError) -> Error {
+        read_error(&self.path, &self.source, self.format, &self.opts, e)
+    }
+}
+
 /// Read a table in batches of about `batch_rows` rows, in file order, and
 /// hand each to `each`. Only the batch in hand (and polars' read-ahead) is
 /// in memory. `projection` limits the columns read. Returns notes for the
@@ -469,45 +541,17 @@ pub fn for_each_batch(
     batch_rows: usize,
     mut each: impl FnMut(DataFrame) -> Result<(), Error>,
 ) -> Result<Vec<String>, Error> {
-    let format = TableFormat::of(path, opts.delimiter)?;
-    let source = Source::open(path)?;
-    let fail = |e| read_error(path, &source, format, opts, e);
-    let names = column_names(&source, format, opts).map_err(fail)?;
-    if let Some(missing) = text_columns.iter().find(|c| !names.iter().any(|n| n == *c)) {
-        return Err(Error::MissingColumn {
-            path: path.to_owned(),
-            column: missing.to_string(),
-            available: names,
-        });
-    }
-    let mut lazy = scan(path, format, text_columns, opts).map_err(fail)?;
-    if let Some(cols) = projection {
-        lazy = lazy.select(cols.iter().map(|c| col(*c)).collect::<Vec<_>>());
-    }
-    let schema = lazy.collect_schema().map_err(fail)?;
-    let notes = text_columns
-        .iter()
-        .filter_map(|c| {
-            schema
-                .get(c)
-                .filter(|t| !matches!(t, DataType::String | DataType::Null))
-                .map(|t| (c, t))
-        })
-        .map(|(c, t)| format!("column \"{c}\" holds {t} values; they were read as text"))
-        .collect();
-    let casts: Vec<Expr> = text_columns
-        .iter()
-        .map(|c| col(*c).cast(DataType::String))
-        .collect();
-    lazy = lazy.with_columns(casts);
+    let table = StreamedTable::open(path, text_columns, projection, opts)?;
     let (send, receive) = std::sync::mpsc::sync_channel::<DataFrame>(2);
-    let sink = lazy
+    let sink = table
+        .lazy
+        .clone()
         .sink_batches(
             PlanCallback::new(move |df: DataFrame| Ok(send.send(df).is_err())),
             true,
             std::num::NonZeroUsize::new(batch_rows.max(1)),
         )
-        .map_err(fail)?;
+        .map_err(|e| table.read_error(e))?;
     let runner =
         std::thread::spawn(move || sink.collect_with_engine(Engine::Streaming).map(|_| ()));
     let mut failure = None;
@@ -524,7 +568,10 @@ pub fn for_each_batch(
     if let Some(e) = failure {
         return Err(e);
     }
-    read_result.map(|_| notes).map_err(fail)
+    match read_result {
+        Ok(()) => Ok(table.notes),
+        Err(e) => Err(table.read_error(e)),
+    }
 }
 
 fn encoding(opts: &ReadOptions) -> CsvEncoding {

@@ -8,6 +8,7 @@ use std::fs::File;
 use std::io::Write;
 use std::path::{Path, PathBuf};
 
+use polars::io::utils::file::{Writable, WritableTrait};
 use polars::prelude::*;
 use rayon::prelude::*;
 
@@ -116,6 +117,103 @@ pub fn write_table(
     sink.finish()
 }
 
+/// Run `lazy` with polars' streaming engine into `output`, atomically: the
+/// engine reads, transforms, encodes and writes morsels in parallel (Parquet
+/// row groups of at most `row_group_rows` rows, in row order) into a
+/// temporary file that becomes the output only when everything succeeded.
+/// `query_error` turns an error of the query itself (reading the input, a
+/// transformation in the plan) into the error to report.
+pub fn sink_table(
+    lazy: LazyFrame,
+    output: &Path,
+    format: OutputFormat,
+    row_group_rows: usize,
+    query_error: impl FnOnce(PolarsError) -> Error,
+) -> Result<(), Error> {
+    let out_err = |message: String| Error::Output {
+        path: output.to_owned(),
+        message,
+    };
+    let (temp, file) = partial_file(output)?;
+    let file_format = match format {
+        OutputFormat::Parquet => FileWriteFormat::Parquet(Arc::new(ParquetWriteOptions {
+            compression: ParquetCompression::default(),
+            statistics: StatisticsOptions::default(),
+            row_group_size: Some(row_group_rows.max(1)),
+            data_page_size: None,
+            key_value_metadata: None,
+            arrow_schema: None,
+            compat_level: None,
+        })),
+        OutputFormat::Ipc => FileWriteFormat::Ipc(IpcWriterOptions::default()),
+        OutputFormat::Csv { delimiter } => {
+            let serialize_options = SerializeOptions {
+                separator: delimiter,
+                ..SerializeOptions::default()
+            };
+            FileWriteFormat::Csv(CsvWriterOptions {
+                check_extension: false,
+                serialize_options: Arc::new(serialize_options),
+                ..CsvWriterOptions::default()
+            })
+        }
+    };
+    let writable = Writable::Dyn(Box::new(file));
+    let target = SinkTarget::Dyn(SpecialEq::new(Arc::new(std::sync::Mutex::new(Some(
+        writable,
+    )))));
+    let args = UnifiedSinkArgs {
+        maintain_order: true,
+        sync_on_close: polars::io::utils::sync_on_close::SyncOnCloseType::All,
+        ..UnifiedSinkArgs::default()
+    };
+    let run = lazy
+        .sink(SinkDestination::File { target }, file_format, args)
+        .and_then(|plan| plan.collect_with_engine(Engine::Streaming));
+    if let Err(e) = run {
+        return Err(match e {
+            PolarsError::IO { error, .. } => out_err(format!("cannot write: {error}")),
+            other => query_error(other),
+        });
+    }
+    move_into_place(temp, output)
+}
+
+/// A temporary file in the output's folder, and the same file opened for
+/// writing through a [`SyncingFile`].
+fn partial_file(output: &Path) -> Result<(tempfile::NamedTempFile, SyncingFile), Error> {
+    let out_err = |message: String| Error::Output {
+        path: output.to_owned(),
+        message,
+    };
+    let folder = parent_folder(output);
+    let temp = tempfile::Builder::new()
+        .prefix(".descry-")
+        .suffix(".partial")
+        .tempfile_in(&folder)
+        .map_err(|e| {
+            out_err(format!(
+                "cannot create a temporary file in {}: {e}",
+                folder.display()
+            ))
+        })?;
+    let file = temp
+        .reopen()
+        .map_err(|e| out_err(format!("cannot open the temporary file: {e}")))?;
+    Ok((temp, SyncingFile::new(file)))
+}
+
+/// Rename a finished (synced) temporary file over `output` and make the
+/// rename durable.
+fn move_into_place(temp: tempfile::NamedTempFile, output: &Path) -> Result<(), Error> {
+    temp.persist(output).map_err(|e| Error::Output {
+        path: output.to_owned(),
+        message: format!("cannot move the finished file into place: {}", e.error),
+    })?;
+    sync_folder(&parent_folder(output));
+    Ok(())
+}
+
 /// Make the rename itself durable; best effort (not every platform can).
 fn sync_folder(folder: &Path) {
     if let Ok(dir) = File::open(folder) {
@@ -138,13 +236,54 @@ pub struct TableSink {
     temp: tempfile::NamedTempFile,
     write: BatchFn,
     rows: u64,
-    synced_bytes: u64,
 }
 
-/// Written-but-unsynced bytes allowed before the sink flushes them to disk.
-/// Dirty pages count against a memory-capped process, so a large output
-/// must not pile them up.
+/// Written-but-unsynced bytes allowed before an output file is flushed to
+/// disk. Dirty pages count against a memory-capped process, so a large
+/// output must not pile them up.
 const SYNC_EVERY_BYTES: u64 = 32 << 20;
+
+/// A file that flushes what was written to disk every [`SYNC_EVERY_BYTES`].
+struct SyncingFile {
+    file: File,
+    unsynced: u64,
+}
+
+impl SyncingFile {
+    fn new(file: File) -> SyncingFile {
+        SyncingFile { file, unsynced: 0 }
+    }
+}
+
+impl Write for SyncingFile {
+    fn write(&mut self, buf: &[u8]) -> std::io::Result<usize> {
+        let n = self.file.write(buf)?;
+        self.unsynced += n as u64;
+        if self.unsynced >= SYNC_EVERY_BYTES {
+            self.file.sync_data()?;
+            self.unsynced = 0;
+        }
+        Ok(n)
+    }
+
+    fn flush(&mut self) -> std::io::Result<()> {
+        self.file.flush()
+    }
+}
+
+impl WritableTrait for SyncingFile {
+    fn close(&mut self) -> std::io::Result<()> {
+        self.file.flush()
+    }
+
+    fn sync_all(&self) -> std::io::Result<()> {
+        self.file.sync_all()
+    }
+
+    fn sync_data(&self) -> std::io::Result<()> {
+        self.file.sync_data()
+    }
+}
 
 impl TableSink {
     pub fn create(
@@ -152,34 +291,18 @@ impl TableSink {
         format: OutputFormat,
         schema: &Schema,
     ) -> Result<TableSink, Error> {
-        let out_err = |message: String| Error::Output {
-            path: output.to_owned(),
-            message,
-        };
-        let folder = parent_folder(output);
-        let temp = tempfile::Builder::new()
-            .prefix(".descry-")
-            .suffix(".partial")
-            .tempfile_in(&folder)
-            .map_err(|e| {
-                out_err(format!(
-                    "cannot create a temporary file in {}: {e}",
-                    folder.display()
-                ))
-            })?;
-        let file = temp
-            .reopen()
-            .map_err(|e| out_err(format!("cannot open the temporary file: {e}")))?;
+        let (temp, file) = partial_file(output)?;
         // Unbuffered: polars writes in large blocks, and an error on the last
         // flush must not be lost in a buffer's drop.
-        let write = batch_writer(file, format, schema)
-            .map_err(|e| out_err(format!("cannot start writing: {e}")))?;
+        let write = batch_writer(file, format, schema).map_err(|e| Error::Output {
+            path: output.to_owned(),
+            message: format!("cannot start writing: {e}"),
+        })?;
         Ok(TableSink {
             output: output.to_owned(),
             temp,
             write,
             rows: 0,
-            synced_bytes: 0,
         })
     }
 
@@ -189,16 +312,7 @@ impl TableSink {
             message,
         };
         self.rows += batch.height() as u64;
-        (self.write)(Some(batch)).map_err(|e| out_err(format!("cannot write: {e}")))?;
-        let written = self.temp.as_file().metadata().map(|m| m.len()).unwrap_or(0);
-        if written >= self.synced_bytes + SYNC_EVERY_BYTES {
-            self.temp
-                .as_file()
-                .sync_data()
-                .map_err(|e| out_err(format!("cannot flush to disk: {e}")))?;
-            self.synced_bytes = written;
-        }
-        Ok(())
+        (self.write)(Some(batch)).map_err(|e| out_err(format!("cannot write: {e}")))
     }
 
     pub fn rows(&self) -> u64 {
@@ -216,104 +330,11 @@ impl TableSink {
             .as_file()
             .sync_all()
             .map_err(|e| out_err(format!("cannot flush to disk: {e}")))?;
-        let folder = parent_folder(&self.output);
-        self.temp.persist(&self.output).map_err(|e| {
-            out_err(format!(
-                "cannot move the finished file into place: {}",
-                e.error
-            ))
-        })?;
-        sync_folder(&folder);
-        Ok(())
+        move_into_place(self.temp, &self.output)
     }
 }
 
-/// A [`TableSink`] on its own thread: [`BackgroundSink::write`] hands a batch
-/// over and returns at once, so the next batch is read and described while
-/// this one is encoded, compressed and written. At most one batch waits in
-/// between. Batches are written in the order given, so the output is the
-/// same as a [`TableSink`]'s. Dropping it without [`BackgroundSink::finish`]
-/// waits for the thread and removes the temporary file, as a dropped
-/// [`TableSink`] does.
-pub struct BackgroundSink {
-    output: PathBuf,
-    send: Option<std::sync::mpsc::SyncSender<DataFrame>>,
-    thread: Option<std::thread::JoinHandle<Result<Option<TableSink>, Error>>>,
-}
-
-impl BackgroundSink {
-    /// Start the writing thread; the file is created with the first batch's
-    /// schema.
-    pub fn start(output: &Path, format: OutputFormat) -> BackgroundSink {
-        let (send, receive) = std::sync::mpsc::sync_channel::<DataFrame>(1);
-        let output_path = output.to_owned();
-        let output = output.to_owned();
-        let thread = std::thread::spawn(move || {
-            let mut sink: Option<TableSink> = None;
-            for mut batch in receive {
-                let sink = match sink.as_mut() {
-                    Some(sink) => sink,
-                    None => {
-                        sink.insert(TableSink::create(&output, format, &batch.schema().clone())?)
-                    }
-                };
-                sink.write(&mut batch)?;
-            }
-            Ok(sink)
-        });
-        BackgroundSink {
-            output: output_path,
-            send: Some(send),
-            thread: Some(thread),
-        }
-    }
-
-    /// Queue a batch; waits only while the previous one is still queued.
-    pub fn write(&mut self, batch: DataFrame) -> Result<(), Error> {
-        let send = self.send.as_ref().expect("open until finished");
-        if send.send(batch).is_err() {
-            // The thread stopped on an error: report it.
-            self.send = None;
-            self.join()?;
-            return Err(self.stopped());
-        }
-        Ok(())
-    }
-
-    /// Write what is queued and move the file into place. `Ok(false)`: no
-    /// batch was ever written, so there is no file.
-    pub fn finish(mut self) -> Result<bool, Error> {
-        self.send = None;
-        match self.join()? {
-            Some(sink) => sink.finish().map(|_| true),
-            None => Ok(false),
-        }
-    }
-
-    fn join(&mut self) -> Result<Option<TableSink>, Error> {
-        let thread = self.thread.take().expect("joined once");
-        thread.join().unwrap_or_else(|_| Err(self.stopped()))
-    }
-
-    fn stopped(&self) -> Error {
-        Error::Output {
-            path: self.output.clone(),
-            message: "the writer stopped unexpectedly".to_owned(),
-        }
-    }
-}
-
-impl Drop for BackgroundSink {
-    fn drop(&mut self) {
-        self.send = None;
-        if self.thread.is_some() {
-            // An unfinished sink: its temporary file goes with it.
-            let _ = self.join();
-        }
-    }
-}
-
-fn batch_writer(w: File, format: OutputFormat, schema: &Schema) -> PolarsResult<BatchFn> {
+fn batch_writer(w: SyncingFile, format: OutputFormat, schema: &Schema) -> PolarsResult<BatchFn> {
     Ok(match format {
         OutputFormat::Parquet => {
             let mut writer = Some(ParquetWriter::new(w).batched(schema)?);

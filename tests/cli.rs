@@ -344,61 +344,69 @@ fn numeric_column_of_a_typed_file_is_read_as_text_with_a_note() {
     assert_eq!(report["coverage"]["rows_covered"], 7);
 }
 
+/// `apply` of the demo rulesets to `input`, into `output`, with `extra`
+/// options before the command.
+fn apply_demo(input: &std::path::Path, output: &std::path::Path, global: &[&str], extra: &[&str]) {
+    let (tx, eng) = (ruleset("transmission.toml"), ruleset("engine.toml"));
+    let mut args: Vec<&str> = global.to_vec();
+    args.extend([
+        "apply",
+        s(input),
+        "-r",
+        s(&tx),
+        "-r",
+        s(&eng),
+        "-o",
+        s(output),
+        "--quiet",
+    ]);
+    args.extend_from_slice(extra);
+    let out = run(&args, None);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+}
+
 #[test]
-fn streamed_output_is_identical_across_thread_counts_and_batch_sizes() {
+fn streamed_output_is_identical_across_thread_counts_and_the_in_memory_path() {
+    // 300,000 rows: several morsels of the streaming engine, so that
+    // threads really do describe and encode them in parallel.
     let dir = TempDir::new().unwrap();
-    let mut outputs = Vec::new();
-    for (threads, batch) in [("1", "500"), ("2", "500"), ("2", "1000000")] {
-        let out_path = dir.path().join(format!("t{threads}-b{batch}.csv"));
-        let out = run(
-            &[
-                "--threads",
-                threads,
-                "apply",
-                s(&sample_csv()),
-                "-r",
-                s(&ruleset("transmission.toml")),
-                "-r",
-                s(&ruleset("engine.toml")),
-                "-o",
-                s(&out_path),
-                "--batch-rows",
-                batch,
-                "--quiet",
-            ],
-            None,
-        );
-        assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
-        outputs.push(std::fs::read(&out_path).unwrap());
+    let data = dir.path().join("data");
+    let out = run(
+        &[
+            "sample",
+            "--rows",
+            "300000",
+            "--seed",
+            "3",
+            "--out-dir",
+            s(&data),
+        ],
+        None,
+    );
+    let input = data.join("listings.csv");
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    let bytes = |name: &str, global: &[&str], extra: &[&str]| {
+        let path = dir.path().join(name);
+        apply_demo(&input, &path, global, extra);
+        std::fs::read(&path).unwrap()
+    };
+    for ext in ["parquet", "csv"] {
+        let one = bytes(&format!("t1.{ext}"), &["--threads", "1"], &[]);
+        let two = bytes(&format!("t2.{ext}"), &["--threads", "2"], &[]);
+        let three = bytes(&format!("t3.{ext}"), &["--threads", "3"], &[]);
+        assert!(one == two, "{ext}: --threads 1 and 2 differ");
+        assert!(two == three, "{ext}: --threads 2 and 3 differ");
     }
-    assert_eq!(outputs[0], outputs[1], "--threads 1 and 2 differ");
-    assert_eq!(outputs[1], outputs[2], "batch size changes the output");
-    let parquet: Vec<Vec<u8>> = ["1", "2"]
-        .iter()
-        .map(|t| {
-            let p = dir.path().join(format!("p{t}.parquet"));
-            run(
-                &[
-                    "--threads",
-                    t,
-                    "apply",
-                    s(&sample_csv()),
-                    "-r",
-                    s(&ruleset("engine.toml")),
-                    "-o",
-                    s(&p),
-                    "--batch-rows",
-                    "700",
-                    "--quiet",
-                ],
-                None,
-            );
-            std::fs::read(&p).unwrap()
-        })
-        .collect();
+    let streamed = bytes("streamed.csv", &[], &[]);
+    let whole = bytes("whole.csv", &[], &["--in-memory"]);
+    assert!(
+        streamed == whole,
+        "the streamed and in-memory outputs differ"
+    );
     assert_eq!(
-        parquet[0], parquet[1],
-        "Parquet bytes differ between thread counts"
+        String::from_utf8(streamed).unwrap().lines().count(),
+        300_001,
+        "a header and every row"
     );
 }
 

@@ -7,11 +7,13 @@ use std::process::ExitCode;
 use anyhow::bail;
 use polars::prelude::*;
 
-use descry::pipeline::{Describer, Description};
-use descry::read::{batch_text, can_stream, for_each_batch, table_columns, Table};
+use std::sync::{Arc, Mutex};
+
+use descry::pipeline::{with_features, Describer, Description};
+use descry::read::{batch_text, can_stream, for_each_batch, table_columns, StreamedTable, Table};
 use descry::render::thousands;
 use descry::vocabulary::GrowingVocabulary;
-use descry::write::{check_output_path, write_table, BackgroundSink, OutputFormat};
+use descry::write::{check_output_path, sink_table, write_table, OutputFormat, ROW_GROUP_ROWS};
 use descry::Vocabulary;
 
 use super::common::{column_notes, load_ruleset, print_notes, source_column, InputArgs};
@@ -35,11 +37,11 @@ The output format follows the extension of -o: .parquet, .arrow/.ipc/.feather,
 into place at the end: an existing output is replaced only on success, and
 the input is never written to.
 
-Memory: a few batches plus the vocabulary and each distinct value's features.
-Files in CSV, Parquet and Arrow IPC are read in batches (--batch-rows) and
-the output is written as they come: memory holds a few batches (one read
-ahead, one being described, one being written) plus the vocabulary and the
-per-value results, so files larger than memory work.
+Memory: a few morsels plus the vocabulary and each distinct value's features.
+Files in CSV, Parquet and Arrow IPC are streamed through polars' streaming
+engine: morsels of rows are read, described, encoded and written in parallel,
+and the output keeps the input's row order. Memory holds a few morsels plus
+the vocabulary and the per-value results, so files larger than memory work.
 Standard input, NDJSON and --in-memory read the whole table first. When a
 count rule has no `range`, its type depends on every value, so the file is
 read twice (the first pass keeps only the vocabulary).
@@ -78,8 +80,9 @@ pub struct Args {
     /// batches (the output is the same).
     #[arg(long)]
     pub in_memory: bool,
-    /// Rows per batch when streaming; Parquet row groups hold at most
-    /// 262,144 rows (a batch is cut into several).
+    /// Rows per batch when streaming: Parquet row groups hold at most this
+    /// many rows (and at most 262,144), and so does each batch of the first
+    /// pass when a count has no `range`. Lower it to use less memory.
     #[arg(long, default_value_t = 1 << 20, hide_short_help = true)]
     pub batch_rows: usize,
 }
@@ -176,7 +179,7 @@ fn apply_in_memory(
     let features = describer.features(&table.frame)?;
     let mut summary = Summary::default();
     summary.add_batch(&table.frame, &columns, &features);
-    let mut frame = output_batch(table.frame, &columns, features, args)?;
+    let mut frame = OutputShape::of(args).frame(table.frame, &columns, features)?;
     write_table(&mut frame, &args.output, format)?;
     Ok(summary.finish(&describer))
 }
@@ -197,33 +200,51 @@ fn apply_in_batches(
         first_pass(args, &columns)?
     };
     progress.phase("applying");
-    let mut describer = Describer::new(descriptions, full);
-    let mut sink = BackgroundSink::start(&args.output, format);
-    let mut summary = Summary::default();
-    let notes = for_each_batch(
-        &args.input.input,
-        &columns,
-        None,
-        &opts,
-        args.batch_rows,
-        |batch| {
-            let features = describer
-                .features(&batch)
-                .map_err(|e| output_error(args, e.into()))?;
-            summary.add_batch(&batch, &columns, &features);
-            let out =
-                output_batch(batch, &columns, features, args).map_err(|e| output_error(args, e))?;
-            sink.write(out)?;
-            progress.rows(summary.rows);
-            Ok(())
+    // With --only-features, only the kept and described columns are read.
+    let read: Vec<&str> = args
+        .keep
+        .iter()
+        .map(String::as_str)
+        .chain(
+            columns
+                .iter()
+                .copied()
+                .filter(|c| !args.keep.iter().any(|k| k == c)),
+        )
+        .collect();
+    let projection = args.only_features.then_some(read.as_slice());
+    let table = StreamedTable::open(&args.input.input, &columns, projection, &opts)?;
+    print_notes(&table.notes, args.quiet);
+    let describer = Arc::new(Mutex::new(Describer::new(descriptions, full)));
+    let summary = Arc::new(Mutex::new(Summary::default()));
+    let finish = {
+        let (summary, bar) = (summary.clone(), progress.bar.clone());
+        let (columns, args) = (names.clone(), OutputShape::of(args));
+        move |batch: DataFrame, features: Vec<Column>| {
+            let sources: Vec<&str> = columns.iter().map(String::as_str).collect();
+            let mut summary = summary.lock().expect("summary lock");
+            summary.add_batch(&batch, &sources, &features);
+            bar.set_position(summary.rows);
+            args.frame(batch, &sources, features)
+                .map_err(|e| polars_err!(ComputeError: "{e:#}"))
+        }
+    };
+    let (lazy, failure) = with_features(table.lazy.clone(), describer.clone(), finish)
+        .map_err(|e| table.read_error(e))?;
+    let row_group_rows = args.batch_rows.min(ROW_GROUP_ROWS);
+    sink_table(
+        lazy,
+        &args.output,
+        format,
+        row_group_rows,
+        |e| match failure.get() {
+            Some(message) => output_error(args, anyhow::anyhow!("{message}")),
+            None => table.read_error(e),
         },
     )?;
     progress.done();
-    print_notes(&notes, args.quiet);
-    if !sink.finish()? {
-        // No batch at all (a table without rows): write it whole.
-        return apply_in_memory(args, describer.into_descriptions(), format);
-    }
+    let summary = std::mem::take(&mut *summary.lock().expect("summary lock"));
+    let describer = describer.lock().expect("describer lock");
     Ok(summary.finish(&describer))
 }
 
@@ -289,26 +310,44 @@ fn check_collisions(
     Ok(())
 }
 
-/// The input batch reduced as asked, with the features appended.
-fn output_batch(
-    batch: DataFrame,
-    sources: &[&str],
-    features: Vec<Column>,
-    args: &Args,
-) -> anyhow::Result<DataFrame> {
-    let height = batch.height();
-    let mut frame = if args.only_features {
-        batch.select(args.keep.iter().map(|s| PlSmallStr::from(s.as_str())))?
-    } else if args.drop_source {
-        batch.drop_many(sources.iter().map(|s| PlSmallStr::from(*s)))
-    } else {
-        batch
-    };
-    if frame.width() == 0 {
-        return Ok(DataFrame::new(height, features)?);
+/// What `apply` keeps of the input columns: the input batch is reduced as
+/// asked and the features are appended.
+#[derive(Clone)]
+struct OutputShape {
+    only_features: bool,
+    keep: Vec<String>,
+    drop_source: bool,
+}
+
+impl OutputShape {
+    fn of(args: &Args) -> OutputShape {
+        OutputShape {
+            only_features: args.only_features,
+            keep: args.keep.clone(),
+            drop_source: args.drop_source,
+        }
     }
-    frame.hstack_mut(&features)?;
-    Ok(frame)
+
+    fn frame(
+        &self,
+        batch: DataFrame,
+        sources: &[&str],
+        features: Vec<Column>,
+    ) -> anyhow::Result<DataFrame> {
+        let height = batch.height();
+        let mut frame = if self.only_features {
+            batch.select(self.keep.iter().map(|s| PlSmallStr::from(s.as_str())))?
+        } else if self.drop_source {
+            batch.drop_many(sources.iter().map(|s| PlSmallStr::from(*s)))
+        } else {
+            batch
+        };
+        if frame.width() == 0 {
+            return Ok(DataFrame::new(height, features)?);
+        }
+        frame.hstack_mut(&features)?;
+        Ok(frame)
+    }
 }
 
 /// A progress line on standard error, shown only on a terminal.
@@ -339,10 +378,6 @@ impl Progress {
     fn phase(&self, what: &'static str) {
         self.bar.set_message(what);
         self.bar.set_position(0);
-    }
-
-    fn rows(&self, n: u64) {
-        self.bar.set_position(n);
     }
 
     fn done(&self) {
