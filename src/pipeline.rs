@@ -8,13 +8,14 @@
 //! same code. [`with_features`] puts a describer into a polars streaming
 //! query, so that reading, describing, encoding and writing overlap.
 
-use std::sync::{Arc, Mutex, OnceLock};
+use std::sync::atomic::{AtomicU64, Ordering};
+use std::sync::{Arc, OnceLock, RwLock, RwLockReadGuard, RwLockWriteGuard};
 
 use polars::prelude::*;
 
 use crate::encode::Encoder;
 use crate::ruleset::Ruleset;
-use crate::vocabulary::{GrowingVocabulary, Vocabulary};
+use crate::vocabulary::{GrowingVocabulary, NULL_CODE};
 
 /// A ruleset and the column it describes.
 #[derive(Debug, Clone)]
@@ -25,6 +26,14 @@ pub struct Description {
 
 struct ColumnState {
     description: Description,
+    /// The vocabulary and the cells of its values; written only when a
+    /// batch brings values not seen before.
+    known: RwLock<Known>,
+    rows: AtomicU64,
+    null_rows: AtomicU64,
+}
+
+struct Known {
     vocab: GrowingVocabulary,
     /// Values `0..evaluated` have their cells in the encoder; the full
     /// outcomes are not kept (only `check` needs them).
@@ -32,8 +41,32 @@ struct ColumnState {
     encoder: Encoder,
 }
 
+impl ColumnState {
+    fn read(&self) -> PolarsResult<RwLockReadGuard<'_, Known>> {
+        self.known.read().map_err(|_| poisoned())
+    }
+
+    fn write(&self) -> PolarsResult<RwLockWriteGuard<'_, Known>> {
+        self.known.write().map_err(|_| poisoned())
+    }
+}
+
+fn poisoned() -> PolarsError {
+    polars_err!(ComputeError: "describing a batch failed before")
+}
+
+/// Rows of one described column seen so far.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Tally {
+    pub rows: u64,
+    pub null_rows: u64,
+    pub distinct: usize,
+}
+
 /// Turns batches of rows into feature columns, remembering what it has
-/// already evaluated.
+/// already evaluated. Batches may be described from several threads at
+/// once: looking values up and gathering their cells only read what is
+/// known, and values seen for the first time are added under a write lock.
 pub struct Describer {
     columns: Vec<ColumnState>,
 }
@@ -55,11 +88,16 @@ impl Describer {
                 let eval = description.rules.evaluate_all(&vocab.values);
                 let mut encoder = Encoder::new(&description.rules, &eval);
                 encoder.add_values(&eval, 0);
-                ColumnState {
-                    description,
+                let known = Known {
                     evaluated: vocab.distinct(),
                     vocab,
                     encoder,
+                };
+                ColumnState {
+                    description,
+                    known: RwLock::new(known),
+                    rows: AtomicU64::new(0),
+                    null_rows: AtomicU64::new(0),
                 }
             })
             .collect();
@@ -75,21 +113,28 @@ impl Describer {
     }
 
     /// The feature columns for one batch (its described columns must be text).
-    pub fn features(&mut self, batch: &DataFrame) -> PolarsResult<Vec<Column>> {
+    pub fn features(&self, batch: &DataFrame) -> PolarsResult<Vec<Column>> {
         let mut out = Vec::new();
-        for state in &mut self.columns {
+        for state in &self.columns {
+            let rules = &state.description.rules;
             let text = batch.column(&state.description.column)?.str()?.clone();
             let rows: Vec<Option<&str>> = text.iter().collect();
-            let codes = state.vocab.codes_for(&rows);
-            if state.vocab.distinct() > state.evaluated {
-                let fresh = state
-                    .description
-                    .rules
-                    .evaluate_all(&state.vocab.values[state.evaluated..]);
-                state.encoder.add_values(&fresh, 0);
-                state.evaluated = state.vocab.distinct();
+            let (mut codes, unknown) = state.read()?.vocab.known_codes(&rows);
+            if unknown {
+                let mut known = state.write()?;
+                let known = &mut *known;
+                // Another batch may have added some of them meanwhile.
+                known.vocab.add_unknown(&rows, &mut codes);
+                if known.vocab.distinct() > known.evaluated {
+                    let fresh = rules.evaluate_all(&known.vocab.values[known.evaluated..]);
+                    known.encoder.add_values(&fresh, 0);
+                    known.evaluated = known.vocab.distinct();
+                }
             }
-            out.extend(state.encoder.encode(&state.description.rules, &codes)?);
+            let nulls = codes.iter().filter(|&&c| c == NULL_CODE).count();
+            state.rows.fetch_add(rows.len() as u64, Ordering::Relaxed);
+            state.null_rows.fetch_add(nulls as u64, Ordering::Relaxed);
+            out.extend(state.read()?.encoder.encode(rules, &codes)?);
         }
         Ok(out)
     }
@@ -99,44 +144,44 @@ impl Describer {
         self.columns.into_iter().map(|s| s.description).collect()
     }
 
-    /// Per column: its description and its vocabulary so far (without row
-    /// codes).
-    pub fn results(&self) -> impl Iterator<Item = (&Description, Vocabulary)> {
-        self.columns
-            .iter()
-            .map(|s| (&s.description, s.vocab.to_vocabulary()))
+    /// Per column: its description and the rows seen so far.
+    pub fn results(&self) -> impl Iterator<Item = (&Description, Tally)> {
+        self.columns.iter().map(|s| {
+            let tally = Tally {
+                rows: s.rows.load(Ordering::Relaxed),
+                null_rows: s.null_rows.load(Ordering::Relaxed),
+                distinct: s.read().map(|k| k.vocab.distinct()).unwrap_or(0),
+            };
+            (&s.description, tally)
+        })
     }
 }
 
 /// `lazy` with each morsel passed through `finish(morsel, features)`, the
 /// features being those `describer` computes for the morsel. Run with
 /// polars' streaming engine, morsels are read, finished, encoded and
-/// written in parallel, and a sink keeps them in row order; the describer
-/// itself serves one morsel at a time. The output schema is what `finish`
+/// written in parallel, and a sink keeps them in row order. The output schema is what `finish`
 /// makes of an empty morsel. The second result holds the message of the
 /// first error raised while describing or finishing a morsel, so that a
 /// failed query can be told apart from a failed read.
 pub fn with_features<F>(
     lazy: LazyFrame,
-    describer: Arc<Mutex<Describer>>,
+    describer: Arc<Describer>,
     finish: F,
 ) -> PolarsResult<(LazyFrame, Arc<OnceLock<String>>)>
 where
     F: Fn(DataFrame, Vec<Column>) -> PolarsResult<DataFrame> + Send + Sync + 'static,
 {
-    let features = move |describer: &Mutex<Describer>, morsel: &DataFrame| match describer.lock() {
-        Ok(mut d) => d.features(morsel),
-        Err(_) => polars_bail!(ComputeError: "describing a batch failed before"),
-    };
     let mut lazy = lazy;
     let empty = DataFrame::empty_with_schema(lazy.collect_schema()?.as_ref());
-    let schema = finish(empty.clone(), features(&describer, &empty)?)?
+    let schema = finish(empty.clone(), describer.features(&empty)?)?
         .schema()
         .clone();
     let failure = Arc::new(OnceLock::new());
     let first_failure = failure.clone();
     let udf = move |morsel: DataFrame| {
-        features(&describer, &morsel)
+        describer
+            .features(&morsel)
             .and_then(|columns| finish(morsel, columns))
             .inspect_err(|e| {
                 let _ = first_failure.set(e.to_string());

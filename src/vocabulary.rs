@@ -9,6 +9,10 @@ use hashbrown::HashMap;
 /// The code a null row carries in [`Vocabulary::codes`].
 pub const NULL_CODE: u32 = u32::MAX;
 
+/// The code [`GrowingVocabulary::known_codes`] gives a value it does not
+/// know yet; no value ever gets it.
+pub const UNKNOWN_CODE: u32 = u32::MAX - 1;
+
 /// Distinct values of one column, in order of first appearance.
 #[derive(Debug, Clone, Default, PartialEq, Eq)]
 pub struct Vocabulary {
@@ -115,29 +119,47 @@ impl GrowingVocabulary {
     /// appended to `values` in row order (so the order does not depend on
     /// how the work is split between threads).
     pub fn codes_for<'a>(&mut self, rows: &[Option<&'a str>]) -> Vec<u32> {
-        use rayon::prelude::*;
-        let known: Vec<u32> = rows
-            .par_iter()
-            .with_min_len(1 << 14)
-            .map(|r| match r {
-                None => NULL_CODE,
-                Some(v) => self.index.get(*v).copied().unwrap_or(NULL_CODE - 1),
-            })
-            .collect();
-        let mut codes = known;
-        for (code, row) in codes.iter_mut().zip(rows) {
+        let (mut codes, unknown) = self.known_codes(rows);
+        if unknown {
+            self.add_unknown(rows, &mut codes);
+        }
+        for (&code, row) in codes.iter().zip(rows) {
             match row {
                 None => self.null_rows += 1,
-                Some(v) => {
-                    if *code == NULL_CODE - 1 {
-                        *code = self.insert(v);
-                    }
-                    self.counts[*code as usize] += 1;
-                }
+                Some(_) => self.counts[code as usize] += 1,
             }
         }
         self.rows += rows.len() as u64;
         codes
+    }
+
+    /// The code of every row among the values known so far: [`NULL_CODE`]
+    /// for a null, [`UNKNOWN_CODE`] for a value not in the vocabulary yet;
+    /// and whether any value was unknown. Rows are not counted. It only
+    /// reads, so several batches can be looked up at once.
+    pub fn known_codes(&self, rows: &[Option<&str>]) -> (Vec<u32>, bool) {
+        use rayon::prelude::*;
+        let codes: Vec<u32> = rows
+            .par_iter()
+            .with_min_len(1 << 14)
+            .map(|r| match r {
+                None => NULL_CODE,
+                Some(v) => self.index.get(*v).copied().unwrap_or(UNKNOWN_CODE),
+            })
+            .collect();
+        let unknown = codes.contains(&UNKNOWN_CODE);
+        (codes, unknown)
+    }
+
+    /// Give the rows that [`GrowingVocabulary::known_codes`] left unknown
+    /// their codes, appending their values in row order. Rows are not
+    /// counted.
+    pub fn add_unknown(&mut self, rows: &[Option<&str>], codes: &mut [u32]) {
+        for (code, row) in codes.iter_mut().zip(rows) {
+            if let (UNKNOWN_CODE, Some(v)) = (*code, row) {
+                *code = self.insert(v);
+            }
+        }
     }
 
     fn insert(&mut self, value: &str) -> u32 {
@@ -145,7 +167,7 @@ impl GrowingVocabulary {
             return c;
         }
         let code = self.values.len() as u32;
-        assert!(code < NULL_CODE - 1, "more than 4 billion distinct values");
+        assert!(code < UNKNOWN_CODE, "more than 4 billion distinct values");
         self.index.insert(value.to_owned(), code);
         self.values.push(value.to_owned());
         self.counts.push(0);

@@ -9,12 +9,11 @@ use polars::prelude::*;
 
 use std::sync::{Arc, Mutex};
 
-use descry::pipeline::{with_features, Describer, Description};
+use descry::pipeline::{with_features, Describer, Description, Tally};
 use descry::read::{batch_text, can_stream, for_each_batch, table_columns, StreamedTable, Table};
 use descry::render::thousands;
 use descry::vocabulary::GrowingVocabulary;
 use descry::write::{check_output_path, sink_table, write_table, OutputFormat, ROW_GROUP_ROWS};
-use descry::Vocabulary;
 
 use super::common::{column_notes, load_ruleset, print_notes, source_column, InputArgs};
 
@@ -116,8 +115,8 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
         apply_in_memory(&args, descriptions, format)?
     };
     if !args.quiet {
-        for (d, vocab) in &summary.columns {
-            print_notes(&column_notes(vocab, &d.column), false);
+        for (d, tally) in &summary.columns {
+            print_notes(&column_notes(tally.rows, tally.distinct, &d.column), false);
         }
         eprintln!(
             "wrote {} rows, {} features to {}; source columns {} bytes, feature columns {} bytes",
@@ -137,7 +136,7 @@ struct Summary {
     features: usize,
     source_bytes: usize,
     feature_bytes: usize,
-    columns: Vec<(Description, Vocabulary)>,
+    columns: Vec<(Description, Tally)>,
 }
 
 impl Summary {
@@ -175,7 +174,7 @@ fn apply_in_memory(
     let table = Table::read(&args.input.input, &columns, &args.input.read_options())?;
     print_notes(&table.notes, args.quiet);
     check_collisions(&descriptions, &table.column_names(), args)?;
-    let mut describer = Describer::new(descriptions, Vec::new());
+    let describer = Describer::new(descriptions, Vec::new());
     let features = describer.features(&table.frame)?;
     let mut summary = Summary::default();
     summary.add_batch(&table.frame, &columns, &features);
@@ -215,7 +214,7 @@ fn apply_in_batches(
     let projection = args.only_features.then_some(read.as_slice());
     let table = StreamedTable::open(&args.input.input, &columns, projection, &opts)?;
     print_notes(&table.notes, args.quiet);
-    let describer = Arc::new(Mutex::new(Describer::new(descriptions, full)));
+    let describer = Arc::new(Describer::new(descriptions, full));
     let summary = Arc::new(Mutex::new(Summary::default()));
     let finish = {
         let (summary, bar) = (summary.clone(), progress.bar.clone());
@@ -244,7 +243,6 @@ fn apply_in_batches(
     )?;
     progress.done();
     let summary = std::mem::take(&mut *summary.lock().expect("summary lock"));
-    let describer = describer.lock().expect("describer lock");
     Ok(summary.finish(&describer))
 }
 

@@ -61,7 +61,10 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
     let rules = load_ruleset(&args.rules)?;
     let column = source_column(args.column.as_deref(), &rules)?;
     let vocab = read_vocabulary(&args.input, &column, args.quiet)?;
-    print_notes(&column_notes(&vocab, &column), args.quiet);
+    print_notes(
+        &column_notes(vocab.rows(), vocab.distinct(), &column),
+        args.quiet,
+    );
     let eval = rules.evaluate_all(&vocab.values);
     let report = CoverageReport::build(&rules, &column, &vocab, &eval);
     match args.format {

@@ -114,10 +114,10 @@ pub fn vocabulary_of(table: &descry::read::Table, column: &str) -> anyhow::Resul
 
 /// Notes about a column that is technically fine but probably not what the
 /// user meant to describe.
-pub fn column_notes(vocab: &Vocabulary, column: &str) -> Vec<String> {
-    if vocab.rows() == 0 {
+pub fn column_notes(rows: u64, distinct: usize, column: &str) -> Vec<String> {
+    if rows == 0 {
         vec!["the table has no rows".to_owned()]
-    } else if vocab.distinct() == 0 {
+    } else if distinct == 0 {
         vec![format!("column \"{column}\" holds only nulls")]
     } else {
         Vec::new()

@@ -150,7 +150,10 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
     };
 
     let vocab = read_vocabulary(&args.input, &column, args.quiet)?;
-    print_notes(&column_notes(&vocab, &column), args.quiet);
+    print_notes(
+        &column_notes(vocab.rows(), vocab.distinct(), &column),
+        args.quiet,
+    );
     let opts = ProposeOptions {
         min_share: args.min_share,
         max_share: args.max_share,
