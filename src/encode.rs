@@ -9,7 +9,7 @@ use rayon::prelude::*;
 
 use crate::evaluate::{Cell, Evaluation};
 use crate::ruleset::{Feature, Precision, Rule, Ruleset};
-use crate::vocabulary::{Vocabulary, NULL_CODE};
+use crate::vocabulary::{Vocabulary, NULL_CODE, PARALLEL_MIN_ROWS};
 
 /// A validity mask (`Option<Vec<bool>>`) as polars stores it (an optional
 /// bitmap); a macro because the bitmap type is not exported by polars.
@@ -270,6 +270,7 @@ fn gather<T: Copy + Default + Send + Sync>(
         .par_chunks_mut(GATHER_CHUNK)
         .zip(valid.par_chunks_mut(GATHER_CHUNK))
         .zip(codes.par_chunks(GATHER_CHUNK))
+        .with_min_len(PARALLEL_MIN_ROWS / GATHER_CHUNK)
         .map(|((values, valid), codes)| {
             let mut nulls = 0;
             for ((v, ok), &c) in values.iter_mut().zip(valid.iter_mut()).zip(codes) {

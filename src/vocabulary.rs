@@ -9,6 +9,12 @@ use hashbrown::HashMap;
 /// The code a null row carries in [`Vocabulary::codes`].
 pub const NULL_CODE: u32 = u32::MAX;
 
+/// Rows below which a lookup or a gather runs on the calling thread: a
+/// streamed morsel (about 100,000 rows) is one task, since polars already
+/// describes several morsels at once, and waking a second pool for it costs
+/// more than it saves. A whole table in memory is still split.
+pub const PARALLEL_MIN_ROWS: usize = 1 << 18;
+
 /// The code [`GrowingVocabulary::known_codes`] gives a value it does not
 /// know yet; no value ever gets it.
 pub const UNKNOWN_CODE: u32 = u32::MAX - 1;
@@ -141,7 +147,7 @@ impl GrowingVocabulary {
         use rayon::prelude::*;
         let codes: Vec<u32> = rows
             .par_iter()
-            .with_min_len(1 << 14)
+            .with_min_len(PARALLEL_MIN_ROWS)
             .map(|r| match r {
                 None => NULL_CODE,
                 Some(v) => self.index.get(*v).copied().unwrap_or(UNKNOWN_CODE),
