@@ -578,7 +578,7 @@ fn jaro_winkler_pairs(values: &[Vec<char>], min: f64) -> Found {
     }
     let tokens = occurrence_tokens(&values);
     if ExactJaro::cost(&tokens, tau) <= EXACT_JARO_BUDGET {
-        ExactJaro::build(tokens, tau).pairs(&values, &by_size, tau, min)
+        ExactJaro::build(tokens, tau).pairs(&values, &by_size, tau, min, &[])
     } else {
         large_jaro_winkler(&values, &by_size, min)
     }
@@ -618,14 +618,28 @@ fn large_jaro_winkler(values: &[Vec<char>], by_size: &BySize, min: f64) -> Found
             let members: Vec<Vec<char>> =
                 group.iter().map(|&i| values[i as usize].clone()).collect();
             let sizes = BySize::new(members.iter().map(Vec::len).collect());
-            let mut found = jaro_at_least(&members, &sizes, jaro, min, false);
+            // A pair whose next characters agree too has a longer common
+            // prefix: the group for that prefix looks for it.
+            let next: Vec<u32> = if shared < 4 {
+                members
+                    .iter()
+                    .map(|v| v.get(shared).map_or(u32::MAX, |&c| c as u32))
+                    .collect()
+            } else {
+                Vec::new()
+            };
+            let mut found = jaro_at_least(&members, &sizes, jaro, min, false, &next);
             for e in &mut found.edges {
                 *e = by_size.edge(group[e.a as usize], group[e.b as usize], e.score);
             }
             found
         }));
     }
-    parts.push(jaro_at_least(values, by_size, min, min, true));
+    let first: Vec<u32> = values
+        .iter()
+        .map(|v| v.first().map_or(u32::MAX, |&c| c as u32))
+        .collect();
+    parts.push(jaro_at_least(values, by_size, min, min, true, &first));
     let mut found = merge(parts);
     found.edges.dedup_by_key(|e| (e.a, e.b));
     found
@@ -641,6 +655,7 @@ fn jaro_at_least(
     jaro: f64,
     min: f64,
     large: bool,
+    skip: &[u32],
 ) -> Found {
     let tau = 3.0 * jaro - 1.0;
     if tau <= 0.0 {
@@ -655,10 +670,10 @@ fn jaro_at_least(
     if !large {
         let tokens = occurrence_tokens(values);
         if ExactJaro::cost(&tokens, tau) <= EXACT_JARO_BUDGET {
-            return ExactJaro::build(tokens, tau).pairs(values, by_size, tau, min);
+            return ExactJaro::build(tokens, tau).pairs(values, by_size, tau, min, skip);
         }
     }
-    jaro_winkler_bigrams(values, by_size, tau, min)
+    jaro_winkler_bigrams(values, by_size, tau, min, skip)
 }
 
 /// The longest partner a value of length `len` may have as the shorter of
@@ -727,8 +742,15 @@ impl ExactJaro {
         ExactJaro { tokens, postings }
     }
 
-    fn pairs(&self, values: &[Vec<char>], by_size: &BySize, tau: f64, min: f64) -> Found {
-        let search = JaroSearch::new(values, by_size, tau, min);
+    fn pairs(
+        &self,
+        values: &[Vec<char>],
+        by_size: &BySize,
+        tau: f64,
+        min: f64,
+        skip: &[u32],
+    ) -> Found {
+        let search = JaroSearch::new(values, by_size, tau, min, skip);
         probe_all(values.len(), |a, seen, found| {
             let Some(probe) = search.start(a) else {
                 return;
@@ -766,6 +788,9 @@ struct JaroSearch<'a> {
     lens: Vec<u32>,
     histograms: Vec<[u8; 32]>,
     max_len: usize,
+    /// A key per value (or none): pairs with equal keys are left out,
+    /// another search finds them.
+    skip: &'a [u32],
 }
 
 /// One value's probe: the ids of its possible longer partners (`lo..hi`),
@@ -781,7 +806,13 @@ struct JaroProbe {
 }
 
 impl<'a> JaroSearch<'a> {
-    fn new(values: &'a [Vec<char>], by_size: &'a BySize, tau: f64, min: f64) -> Self {
+    fn new(
+        values: &'a [Vec<char>],
+        by_size: &'a BySize,
+        tau: f64,
+        min: f64,
+        skip: &'a [u32],
+    ) -> Self {
         JaroSearch {
             values,
             by_size,
@@ -790,6 +821,7 @@ impl<'a> JaroSearch<'a> {
             lens: values.iter().map(|v| v.len() as u32).collect(),
             histograms: values.iter().map(|v| char_histogram(v)).collect(),
             max_len: values.last().map_or(0, Vec::len),
+            skip,
         }
     }
 
@@ -815,6 +847,9 @@ impl<'a> JaroSearch<'a> {
     /// Compare the probing value with `b`, unless their characters cannot
     /// give the `needed` matches.
     fn compare(&self, probe: &JaroProbe, b: u32, needed: usize, found: &mut Found) {
+        if !self.skip.is_empty() && self.skip[probe.a as usize] == self.skip[b as usize] {
+            return;
+        }
         let bound = common_upper_bound(
             &self.histograms[probe.a as usize],
             &self.histograms[b as usize],
@@ -851,7 +886,13 @@ fn probe_prefix(tau: f64, len: usize) -> usize {
 /// ones. Meeting a candidate twice instead of once, with one more bigram
 /// each, is what keeps the number of candidates down: most values meet
 /// through one common bigram only.
-fn jaro_winkler_bigrams(values: &[Vec<char>], by_size: &BySize, tau: f64, min: f64) -> Found {
+fn jaro_winkler_bigrams(
+    values: &[Vec<char>],
+    by_size: &BySize,
+    tau: f64,
+    min: f64,
+    skip: &[u32],
+) -> Found {
     let table = GramTable::build(values, 2);
     let prefix_of = |len: usize| len - least_matches(tau, len, len).min(len) + 3;
     let postings: Vec<Vec<BigramPosting>> = table
@@ -867,7 +908,7 @@ fn jaro_winkler_bigrams(values: &[Vec<char>], by_size: &BySize, tau: f64, min: f
                 .collect()
         })
         .collect();
-    let search = JaroSearch::new(values, by_size, tau, min);
+    let search = JaroSearch::new(values, by_size, tau, min, skip);
     let n = values.len();
     let parts: Vec<Found> = (0..n as u32)
         .into_par_iter()
@@ -1164,7 +1205,7 @@ mod tests {
             let method = Fuzzy::JaroWinkler { min_similarity };
             let all = all_pairs(&values, &method).edges;
             let tau = 3.0 * least_jaro(min_similarity) - 1.0;
-            let bigrams = jaro_winkler_bigrams(&sized, &by_size, tau, min_similarity).edges;
+            let bigrams = jaro_winkler_bigrams(&sized, &by_size, tau, min_similarity, &[]).edges;
             let large = large_jaro_winkler(&sized, &by_size, min_similarity).edges;
             for (name, found) in [("bigrams", &bigrams), ("large", &large)] {
                 let recall = found.len() as f64 / all.len() as f64;
