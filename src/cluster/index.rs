@@ -578,7 +578,7 @@ fn jaro_winkler_pairs(values: &[Vec<char>], min: f64) -> Found {
     }
     let tokens = occurrence_tokens(&values);
     if ExactJaro::cost(&tokens, tau) <= EXACT_JARO_BUDGET {
-        ExactJaro::build(tokens, tau).pairs(&values, &by_size, tau, min, &[])
+        ExactJaro::build(tokens, tau).pairs(&JaroSearch::new(&values, &by_size, tau, min, &[]))
     } else {
         large_jaro_winkler(&values, &by_size, min)
     }
@@ -667,13 +667,14 @@ fn jaro_at_least(
         );
         return all.remap(by_size);
     }
+    let search = JaroSearch::new(values, by_size, tau, min, skip);
     if !large {
         let tokens = occurrence_tokens(values);
         if ExactJaro::cost(&tokens, tau) <= EXACT_JARO_BUDGET {
-            return ExactJaro::build(tokens, tau).pairs(values, by_size, tau, min, skip);
+            return ExactJaro::build(tokens, tau).pairs(&search);
         }
     }
-    jaro_winkler_bigrams(values, by_size, tau, min, skip)
+    jaro_winkler_bigrams(&search)
 }
 
 /// The longest partner a value of length `len` may have as the shorter of
@@ -742,15 +743,8 @@ impl ExactJaro {
         ExactJaro { tokens, postings }
     }
 
-    fn pairs(
-        &self,
-        values: &[Vec<char>],
-        by_size: &BySize,
-        tau: f64,
-        min: f64,
-        skip: &[u32],
-    ) -> Found {
-        let search = JaroSearch::new(values, by_size, tau, min, skip);
+    fn pairs(&self, search: &JaroSearch) -> Found {
+        let (values, tau) = (search.values, search.tau);
         probe_all(values.len(), |a, seen, found| {
             let Some(probe) = search.start(a) else {
                 return;
@@ -886,13 +880,8 @@ fn probe_prefix(tau: f64, len: usize) -> usize {
 /// ones. Meeting a candidate twice instead of once, with one more bigram
 /// each, is what keeps the number of candidates down: most values meet
 /// through one common bigram only.
-fn jaro_winkler_bigrams(
-    values: &[Vec<char>],
-    by_size: &BySize,
-    tau: f64,
-    min: f64,
-    skip: &[u32],
-) -> Found {
+fn jaro_winkler_bigrams(search: &JaroSearch) -> Found {
+    let (values, tau) = (search.values, search.tau);
     let table = GramTable::build(values, 2);
     let prefix_of = |len: usize| len - least_matches(tau, len, len).min(len) + 3;
     let postings: Vec<Vec<BigramPosting>> = table
@@ -908,7 +897,6 @@ fn jaro_winkler_bigrams(
                 .collect()
         })
         .collect();
-    let search = JaroSearch::new(values, by_size, tau, min, skip);
     let n = values.len();
     let parts: Vec<Found> = (0..n as u32)
         .into_par_iter()
@@ -1205,7 +1193,9 @@ mod tests {
             let method = Fuzzy::JaroWinkler { min_similarity };
             let all = all_pairs(&values, &method).edges;
             let tau = 3.0 * least_jaro(min_similarity) - 1.0;
-            let bigrams = jaro_winkler_bigrams(&sized, &by_size, tau, min_similarity, &[]).edges;
+            let bigrams =
+                jaro_winkler_bigrams(&JaroSearch::new(&sized, &by_size, tau, min_similarity, &[]))
+                    .edges;
             let large = large_jaro_winkler(&sized, &by_size, min_similarity).edges;
             for (name, found) in [("bigrams", &bigrams), ("large", &large)] {
                 let recall = found.len() as f64 / all.len() as f64;
