@@ -5,24 +5,12 @@
 //! give null features.
 
 use polars::prelude::*;
+use polars_arrow::bitmap::Bitmap;
 use rayon::prelude::*;
 
 use crate::evaluate::{Cell, Evaluation};
 use crate::ruleset::{Feature, Precision, Rule, Ruleset};
 use crate::vocabulary::{Vocabulary, NULL_CODE, PARALLEL_MIN_ROWS};
-
-/// A validity mask (`Option<Vec<bool>>`) as polars stores it (an optional
-/// bitmap); a macro because the bitmap type is not exported by polars.
-macro_rules! validity {
-    ($valid:expr) => {
-        $valid.map(|v: Vec<bool>| {
-            BooleanChunked::from_slice(PlSmallStr::EMPTY, &v)
-                .downcast_as_array()
-                .values()
-                .clone()
-        })
-    };
-}
 
 /// The integer types a count may be stored in, smallest first.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -196,10 +184,7 @@ impl Encoder {
                 });
                 let values = BooleanChunked::from_slice(name.clone(), &values);
                 let array = values.downcast_as_array().clone();
-                Ok(
-                    BooleanChunked::with_chunk(name, array.with_validity(validity!(valid)))
-                        .into_series(),
-                )
+                Ok(BooleanChunked::with_chunk(name, array.with_validity(valid)).into_series())
             }
             Rule::Count(_) => {
                 let int = |c: Cell| match c {
@@ -258,22 +243,24 @@ const GATHER_CHUNK: usize = 1 << 16;
 
 /// Gather per-value cells to rows, in parallel chunks, in row order: each
 /// row's value (`T::default()` where null) and, when some row is null, which
-/// rows are valid. The result does not depend on the thread count.
+/// rows are valid, as a bitmap (one bit per row, written as the rows are
+/// gathered). The result does not depend on the thread count.
 fn gather<T: Copy + Default + Send + Sync>(
     codes: &[u32],
     slots: &[Cell],
     get: impl Fn(Cell) -> Option<T> + Sync,
-) -> (Vec<T>, Option<Vec<bool>>) {
+) -> (Vec<T>, Option<Bitmap>) {
     let mut values = vec![T::default(); codes.len()];
-    let mut valid = vec![false; codes.len()];
+    // GATHER_CHUNK is a multiple of 8: each chunk owns whole bytes.
+    let mut valid = vec![0u8; codes.len().div_ceil(8)];
     let nulls: usize = values
         .par_chunks_mut(GATHER_CHUNK)
-        .zip(valid.par_chunks_mut(GATHER_CHUNK))
+        .zip(valid.par_chunks_mut(GATHER_CHUNK / 8))
         .zip(codes.par_chunks(GATHER_CHUNK))
         .with_min_len(PARALLEL_MIN_ROWS / GATHER_CHUNK)
         .map(|((values, valid), codes)| {
             let mut nulls = 0;
-            for ((v, ok), &c) in values.iter_mut().zip(valid.iter_mut()).zip(codes) {
+            for (i, (v, &c)) in values.iter_mut().zip(codes).enumerate() {
                 let cell = if c == NULL_CODE {
                     None
                 } else {
@@ -282,7 +269,7 @@ fn gather<T: Copy + Default + Send + Sync>(
                 match cell {
                     Some(x) => {
                         *v = x;
-                        *ok = true;
+                        valid[i / 8] |= 1 << (i % 8);
                     }
                     None => nulls += 1,
                 }
@@ -290,7 +277,8 @@ fn gather<T: Copy + Default + Send + Sync>(
             nulls
         })
         .sum();
-    (values, (nulls > 0).then_some(valid))
+    let valid = (nulls > 0).then(|| Bitmap::from_u8_vec(valid, codes.len()));
+    (values, valid)
 }
 
 /// A numeric column of the gathered cells.
@@ -301,7 +289,7 @@ fn numeric<T: PolarsNumericType>(
     get: impl Fn(Cell) -> Option<T::Native> + Sync,
 ) -> Series {
     let (values, valid) = gather(codes, slots, get);
-    ChunkedArray::<T>::from_vec_validity(name, values, validity!(valid)).into_series()
+    ChunkedArray::<T>::from_vec_validity(name, values, valid).into_series()
 }
 
 /// An Enum column: its categories are the ruleset's labels, in order, so
@@ -314,7 +302,7 @@ pub fn label_series(
     let valid = rows
         .iter()
         .any(Option::is_none)
-        .then(|| rows.iter().map(Option::is_some).collect());
+        .then(|| rows.iter().map(Option::is_some).collect::<Bitmap>());
     let ids = rows.into_iter().map(Option::unwrap_or_default).collect();
     label_ids_series(name, categories, ids, valid)
 }
@@ -325,7 +313,7 @@ fn label_ids_series(
     name: PlSmallStr,
     categories: &[String],
     ids: Vec<u32>,
-    valid: Option<Vec<bool>>,
+    valid: Option<Bitmap>,
 ) -> PolarsResult<Series> {
     let frozen = FrozenCategories::new(categories.iter().map(String::as_str))?;
     let dtype = DataType::from_frozen_categories(frozen);
@@ -334,16 +322,16 @@ fn label_ids_series(
     let series = match dtype.cat_physical()? {
         CategoricalPhysical::U8 => {
             let ids = ids.into_iter().map(|x| x as u8).collect();
-            let ids = UInt8Chunked::from_vec_validity(name, ids, validity!(valid));
+            let ids = UInt8Chunked::from_vec_validity(name, ids, valid.clone());
             CategoricalChunked::<Categorical8Type>::from_cats_and_dtype(ids, dtype).into_series()
         }
         CategoricalPhysical::U16 => {
             let ids = ids.into_iter().map(|x| x as u16).collect();
-            let ids = UInt16Chunked::from_vec_validity(name, ids, validity!(valid));
+            let ids = UInt16Chunked::from_vec_validity(name, ids, valid.clone());
             CategoricalChunked::<Categorical16Type>::from_cats_and_dtype(ids, dtype).into_series()
         }
         CategoricalPhysical::U32 => {
-            let ids = UInt32Chunked::from_vec_validity(name, ids, validity!(valid));
+            let ids = UInt32Chunked::from_vec_validity(name, ids, valid.clone());
             CategoricalChunked::<Categorical32Type>::from_cats_and_dtype(ids, dtype).into_series()
         }
     };

@@ -4,6 +4,8 @@
 //! This is where descry's central promise lives: rules run once per distinct
 //! value, and rows only gather the per-value results through [`Vocabulary::codes`].
 
+use std::hash::BuildHasher;
+
 use hashbrown::HashMap;
 
 /// The code a null row carries in [`Vocabulary::codes`].
@@ -112,7 +114,7 @@ impl VocabularyBuilder {
 /// the memory it holds is proportional to the distinct values only.
 #[derive(Debug, Default, Clone)]
 pub struct GrowingVocabulary {
-    index: HashMap<String, u32>,
+    index: KeyIndex,
     /// Distinct non-null values in order of first appearance.
     pub values: Vec<String>,
     pub counts: Vec<u64>,
@@ -150,7 +152,7 @@ impl GrowingVocabulary {
             .with_min_len(PARALLEL_MIN_ROWS)
             .map(|r| match r {
                 None => NULL_CODE,
-                Some(v) => self.index.get(*v).copied().unwrap_or(UNKNOWN_CODE),
+                Some(v) => self.index.get(v).unwrap_or(UNKNOWN_CODE),
             })
             .collect();
         let unknown = codes.contains(&UNKNOWN_CODE);
@@ -169,12 +171,12 @@ impl GrowingVocabulary {
     }
 
     fn insert(&mut self, value: &str) -> u32 {
-        if let Some(&c) = self.index.get(value) {
+        if let Some(c) = self.index.get(value) {
             return c;
         }
         let code = self.values.len() as u32;
         assert!(code < UNKNOWN_CODE, "more than 4 billion distinct values");
-        self.index.insert(value.to_owned(), code);
+        self.index.insert(value, code);
         self.values.push(value.to_owned());
         self.counts.push(0);
         code
@@ -200,5 +202,86 @@ impl GrowingVocabulary {
             null_rows: self.null_rows,
             codes: Vec::new(),
         }
+    }
+}
+
+/// The codes of distinct strings, for the lookup every row goes through:
+/// the keys' bytes lie in one buffer and the table holds only codes, so a
+/// lookup touches few cache lines (a table of `String` keys sends each
+/// comparison to a separate allocation).
+#[derive(Debug, Default, Clone)]
+struct KeyIndex {
+    table: hashbrown::HashTable<u32>,
+    hasher: hashbrown::DefaultHashBuilder,
+    bytes: Vec<u8>,
+    /// Where key `code` ends in `bytes` (it starts where `code - 1` ends).
+    ends: Vec<usize>,
+}
+
+fn key_of<'a>(bytes: &'a [u8], ends: &[usize], code: u32) -> &'a [u8] {
+    let i = code as usize;
+    let start = if i == 0 { 0 } else { ends[i - 1] };
+    &bytes[start..ends[i]]
+}
+
+impl KeyIndex {
+    fn get(&self, value: &str) -> Option<u32> {
+        let value = value.as_bytes();
+        let hash = self.hasher.hash_one(value);
+        self.table
+            .find(hash, |&c| key_of(&self.bytes, &self.ends, c) == value)
+            .copied()
+    }
+
+    /// Add `value`, which must not be in the index yet, as `code`, the
+    /// number of keys so far.
+    fn insert(&mut self, value: &str, code: u32) {
+        debug_assert_eq!(code as usize, self.ends.len());
+        let value = value.as_bytes();
+        self.bytes.extend_from_slice(value);
+        self.ends.push(self.bytes.len());
+        let (bytes, ends, hasher) = (&self.bytes, &self.ends, &self.hasher);
+        self.table
+            .insert_unique(hasher.hash_one(value), code, |&c| {
+                hasher.hash_one(key_of(bytes, ends, c))
+            });
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn growing_vocabulary_codes_values_in_order_of_first_appearance() {
+        let mut v = GrowingVocabulary::default();
+        // The empty string is a value; keys that are prefixes of each other
+        // must not be confused in the shared byte buffer.
+        let first = v.codes_for(&[Some("ab"), Some(""), None, Some("a"), Some("ab")]);
+        assert_eq!(first, vec![0, 1, NULL_CODE, 2, 0]);
+        let (known, unknown) = v.known_codes(&[Some("a"), Some("abc"), Some("")]);
+        assert_eq!(known, vec![2, UNKNOWN_CODE, 1]);
+        assert!(unknown);
+        let second = v.codes_for(&[Some("abc"), Some("b"), Some("abc"), Some("ab")]);
+        assert_eq!(second, vec![3, 4, 3, 0]);
+        assert_eq!(v.values, vec!["ab", "", "a", "abc", "b"]);
+        assert_eq!(v.counts, vec![3, 1, 1, 2, 1]);
+        assert_eq!((v.null_rows, v.rows), (1, 9));
+    }
+
+    #[test]
+    fn growing_vocabulary_agrees_with_the_built_one_over_many_values() {
+        // Enough values for the table to grow several times.
+        let rows: Vec<String> = (0..50_000)
+            .map(|i| format!("v{}", (i * 7919) % 20_011))
+            .collect();
+        let rows: Vec<Option<&str>> = rows.iter().map(|r| Some(r.as_str())).collect();
+        let mut grown = GrowingVocabulary::default();
+        let mut codes = grown.codes_for(&rows[..20_000]);
+        codes.extend(grown.codes_for(&rows[20_000..]));
+        let built = Vocabulary::build(rows.iter().copied());
+        assert_eq!(codes, built.codes);
+        assert_eq!(grown.values, built.values);
+        assert_eq!(grown.counts, built.counts);
     }
 }
