@@ -160,10 +160,11 @@ impl Describer {
 /// `lazy` with each morsel passed through `finish(morsel, features)`, the
 /// features being those `describer` computes for the morsel. Run with
 /// polars' streaming engine, morsels are read, finished, encoded and
-/// written in parallel, and a sink keeps them in row order. The output schema is what `finish`
-/// makes of an empty morsel. The second result holds the message of the
-/// first error raised while describing or finishing a morsel, so that a
-/// failed query can be told apart from a failed read.
+/// written in parallel, and a sink keeps them in row order. The output
+/// schema is what `finish` makes of an empty morsel. The second result
+/// holds the message of the first error raised while describing or
+/// finishing a morsel, so that a failed query can be told apart from a
+/// failed read.
 pub fn with_features<F>(
     lazy: LazyFrame,
     describer: Arc<Describer>,

@@ -3,11 +3,10 @@
 
 use std::path::PathBuf;
 use std::process::ExitCode;
+use std::sync::{Arc, Mutex};
 
 use anyhow::bail;
 use polars::prelude::*;
-
-use std::sync::{Arc, Mutex};
 
 use descry::pipeline::{with_features, Describer, Description, Tally};
 use descry::read::{batch_text, can_stream, for_each_batch, table_columns, StreamedTable, Table};
