@@ -139,11 +139,6 @@ impl Describer {
         Ok(out)
     }
 
-    /// Give back the descriptions.
-    pub fn into_descriptions(self) -> Vec<Description> {
-        self.columns.into_iter().map(|s| s.description).collect()
-    }
-
     /// Per column: its description and the rows seen so far.
     pub fn results(&self) -> impl Iterator<Item = (&Description, Tally)> {
         self.columns.iter().map(|s| {
