@@ -5,12 +5,13 @@
 //! give null features.
 
 use polars::prelude::*;
+use polars_arrow::array::BooleanArray;
 use polars_arrow::bitmap::Bitmap;
 use rayon::prelude::*;
 
 use crate::evaluate::{Cell, Evaluation};
 use crate::ruleset::{Feature, Precision, Rule, Ruleset};
-use crate::vocabulary::{Vocabulary, NULL_CODE, PARALLEL_MIN_ROWS};
+use crate::vocabulary::{Vocabulary, PARALLEL_MIN_ROWS};
 
 /// The integer types a count may be stored in, smallest first.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -110,14 +111,31 @@ pub fn encode(rules: &Ruleset, vocab: &Vocabulary, eval: &Evaluation) -> PolarsR
 /// Turns row codes into feature columns. The column types are fixed when
 /// the encoder is made, so every batch of a large file gets the same types;
 /// per-value cells are appended as new values are evaluated.
+///
+/// Each feature keeps, per value, its cell's native bits in one 64-bit word
+/// and a validity byte. Slot 0 stands for null rows and value `c` sits in
+/// slot `c + 1`, so that [`NULL_CODE`](crate::vocabulary::NULL_CODE)
+/// (`u32::MAX`) wraps to slot 0: the gather is one indexed load per row,
+/// without a branch.
 #[derive(Debug, Clone)]
 pub struct Encoder {
     count_types: Vec<Option<IntType>>,
-    /// `slots[feature][value]`.
-    slots: Vec<Vec<Cell>>,
+    /// The Enum type of each label feature, made once.
+    label_types: Vec<Option<DataType>>,
+    /// `words[feature][slot]`: an integer or label id as `i64`/`u32` bits,
+    /// a measure as `f64` bits, a flag as 0 or 1; 0 where null.
+    words: Vec<Vec<u64>>,
+    /// `valid[feature][slot]`: 1 where the cell is not null.
+    valid: Vec<Vec<u8>>,
     /// The first count cell that does not fit its column's type, found when
     /// the cells were added: (feature, value).
     unfit: Option<(usize, i64)>,
+}
+
+/// The slot of a value code in an [`Encoder`]'s tables.
+#[inline(always)]
+fn slot(code: u32) -> usize {
+    code.wrapping_add(1) as usize
 }
 
 impl Encoder {
@@ -130,9 +148,20 @@ impl Encoder {
             .enumerate()
             .map(|(i, f)| matches!(f.rule, Rule::Count(_)).then(|| count_type(i, f, eval)))
             .collect();
+        let label_types = rules
+            .features
+            .iter()
+            .map(|f| match &f.rule {
+                Rule::Label(l) => label_type(&l.categories).ok(),
+                _ => None,
+            })
+            .collect();
+        let n = rules.features.len();
         Encoder {
             count_types,
-            slots: vec![Vec::new(); rules.features.len()],
+            label_types,
+            words: vec![vec![0]; n],
+            valid: vec![vec![0]; n],
             unfit: None,
         }
     }
@@ -148,13 +177,23 @@ impl Encoder {
 
     /// Append the cells of values `from..` of `eval`.
     pub fn add_values(&mut self, eval: &Evaluation, from: usize) {
-        for (i, slots) in self.slots.iter_mut().enumerate() {
-            let start = slots.len();
-            slots.extend(eval.outcomes[from..].iter().map(|o| o[i].cell));
+        let cells = &eval.outcomes[from..];
+        for (i, (words, valid)) in self.words.iter_mut().zip(&mut self.valid).enumerate() {
+            for outcome in cells {
+                let (word, ok) = match outcome[i].cell {
+                    Cell::Null => (0, 0),
+                    Cell::Bool(b) => (b as u64, 1),
+                    Cell::Int(x) => (x as u64, 1),
+                    Cell::Float(x) => (x.to_bits(), 1),
+                    Cell::Label(x) => (x as u64, 1),
+                };
+                words.push(word);
+                valid.push(ok);
+            }
             if let (Some(ty), None) = (self.count_types[i], self.unfit) {
-                self.unfit = slots[start..]
+                self.unfit = cells
                     .iter()
-                    .find_map(|&c| match c {
+                    .find_map(|o| match o[i].cell {
                         Cell::Int(x) if !ty.holds(x) => Some(x),
                         _ => None,
                     })
@@ -175,167 +214,173 @@ impl Encoder {
 
     fn encode_feature(&self, i: usize, f: &Feature, codes: &[u32]) -> PolarsResult<Series> {
         let name: PlSmallStr = f.output.as_str().into();
-        let slots = &self.slots[i];
+        let (words, valid) = (self.words[i].as_slice(), self.valid[i].as_slice());
+        let gathered = Gathered {
+            codes,
+            words,
+            valid,
+        };
         match &f.rule {
             Rule::Flag(_) => {
-                let (values, valid) = gather(codes, slots, |c| match c {
-                    Cell::Bool(b) => Some(b),
-                    _ => None,
-                });
-                let values = BooleanChunked::from_slice(name.clone(), &values);
-                let array = values.downcast_as_array().clone();
-                Ok(BooleanChunked::with_chunk(name, array.with_validity(valid)).into_series())
+                let (values, _) = gathered.bits(|w| w as u8);
+                let validity = gathered.validity();
+                let array = BooleanArray::new(ArrowDataType::Boolean, values, validity);
+                Ok(BooleanChunked::with_chunk(name, array).into_series())
             }
             Rule::Count(_) => {
-                let int = |c: Cell| match c {
-                    Cell::Int(x) => Some(x),
-                    _ => None,
-                };
                 let ty = self.count_types[i].unwrap_or(IntType::Int64);
                 if let Some((_, x)) = self.unfit.filter(|&(feature, _)| feature == i) {
                     polars_bail!(ComputeError: "count {x} of \"{}\" does not fit {:?}", f.output, ty);
                 }
                 // Every value fits `ty` (checked above), so `as` is exact.
                 Ok(match ty {
-                    IntType::UInt8 => {
-                        numeric::<UInt8Type>(name, codes, slots, |c| int(c).map(|x| x as u8))
-                    }
-                    IntType::Int8 => {
-                        numeric::<Int8Type>(name, codes, slots, |c| int(c).map(|x| x as i8))
-                    }
-                    IntType::UInt16 => {
-                        numeric::<UInt16Type>(name, codes, slots, |c| int(c).map(|x| x as u16))
-                    }
-                    IntType::Int16 => {
-                        numeric::<Int16Type>(name, codes, slots, |c| int(c).map(|x| x as i16))
-                    }
-                    IntType::Int32 => {
-                        numeric::<Int32Type>(name, codes, slots, |c| int(c).map(|x| x as i32))
-                    }
-                    IntType::Int64 => numeric::<Int64Type>(name, codes, slots, int),
+                    IntType::UInt8 => gathered.numeric::<UInt8Type>(name, |w| w as u8),
+                    IntType::Int8 => gathered.numeric::<Int8Type>(name, |w| w as i8),
+                    IntType::UInt16 => gathered.numeric::<UInt16Type>(name, |w| w as u16),
+                    IntType::Int16 => gathered.numeric::<Int16Type>(name, |w| w as i16),
+                    IntType::Int32 => gathered.numeric::<Int32Type>(name, |w| w as i32),
+                    IntType::Int64 => gathered.numeric::<Int64Type>(name, |w| w as i64),
                 })
             }
-            Rule::Measure(m) => {
-                let float = |c: Cell| match c {
-                    Cell::Float(x) => Some(x),
-                    _ => None,
-                };
-                Ok(match m.precision {
-                    Precision::F64 => numeric::<Float64Type>(name, codes, slots, float),
-                    Precision::F32 => {
-                        numeric::<Float32Type>(name, codes, slots, |c| float(c).map(|x| x as f32))
-                    }
-                })
-            }
+            Rule::Measure(m) => Ok(match m.precision {
+                Precision::F64 => gathered.numeric::<Float64Type>(name, f64::from_bits),
+                Precision::F32 => {
+                    gathered.numeric::<Float32Type>(name, |w| f64::from_bits(w) as f32)
+                }
+            }),
             Rule::Label(l) => {
-                let (ids, valid) = gather(codes, slots, |c| match c {
-                    Cell::Label(x) => Some(x),
-                    _ => None,
-                });
-                label_ids_series(name, &l.categories, ids, valid)
+                let dtype = match &self.label_types[i] {
+                    Some(dtype) => dtype.clone(),
+                    None => label_type(&l.categories)?,
+                };
+                // SAFETY (for the unchecked constructors): every id is an
+                // index into the label's categories, as evaluation gives it.
+                let series = match dtype.cat_physical()? {
+                    CategoricalPhysical::U8 => unsafe {
+                        let ids = gathered.chunked::<UInt8Type>(name, |w| w as u8);
+                        CategoricalChunked::<Categorical8Type>::from_cats_and_dtype_unchecked(
+                            ids, dtype,
+                        )
+                        .into_series()
+                    },
+                    CategoricalPhysical::U16 => unsafe {
+                        let ids = gathered.chunked::<UInt16Type>(name, |w| w as u16);
+                        CategoricalChunked::<Categorical16Type>::from_cats_and_dtype_unchecked(
+                            ids, dtype,
+                        )
+                        .into_series()
+                    },
+                    CategoricalPhysical::U32 => unsafe {
+                        let ids = gathered.chunked::<UInt32Type>(name, |w| w as u32);
+                        CategoricalChunked::<Categorical32Type>::from_cats_and_dtype_unchecked(
+                            ids, dtype,
+                        )
+                        .into_series()
+                    },
+                };
+                Ok(series)
             }
         }
     }
 }
 
-/// Rows gathered per parallel task.
+/// Rows gathered per parallel task (a multiple of 8, so that each task
+/// owns whole bytes of a bitmap).
 const GATHER_CHUNK: usize = 1 << 16;
 
-/// Gather per-value cells to rows, in parallel chunks, in row order: each
-/// row's value (`T::default()` where null) and, when some row is null, which
-/// rows are valid, as a bitmap (one bit per row, written as the rows are
-/// gathered). The result does not depend on the thread count.
-fn gather<T: Copy + Default + Send + Sync>(
-    codes: &[u32],
-    slots: &[Cell],
-    get: impl Fn(Cell) -> Option<T> + Sync,
-) -> (Vec<T>, Option<Bitmap>) {
-    let mut values = vec![T::default(); codes.len()];
-    // GATHER_CHUNK is a multiple of 8: each chunk owns whole bytes.
-    let mut valid = vec![0u8; codes.len().div_ceil(8)];
-    let nulls: usize = values
-        .par_chunks_mut(GATHER_CHUNK)
-        .zip(valid.par_chunks_mut(GATHER_CHUNK / 8))
-        .zip(codes.par_chunks(GATHER_CHUNK))
-        .with_min_len(PARALLEL_MIN_ROWS / GATHER_CHUNK)
-        .map(|((values, valid), codes)| {
-            let mut nulls = 0;
-            for (i, (v, &c)) in values.iter_mut().zip(codes).enumerate() {
-                let cell = if c == NULL_CODE {
-                    None
-                } else {
-                    get(slots[c as usize])
-                };
-                match cell {
-                    Some(x) => {
-                        *v = x;
-                        valid[i / 8] |= 1 << (i % 8);
-                    }
-                    None => nulls += 1,
+/// One feature's per-value tables and the rows' codes, ready to gather.
+/// Rows are gathered in parallel chunks, in row order, so the result does
+/// not depend on the thread count.
+struct Gathered<'a> {
+    codes: &'a [u32],
+    words: &'a [u64],
+    valid: &'a [u8],
+}
+
+impl Gathered<'_> {
+    /// Each row's value, converted from its word (whatever the word holds
+    /// where the row is null).
+    fn values<T: Copy + Default + Send + Sync>(&self, convert: impl Fn(u64) -> T + Sync) -> Vec<T> {
+        let mut values = vec![T::default(); self.codes.len()];
+        values
+            .par_chunks_mut(GATHER_CHUNK)
+            .zip(self.codes.par_chunks(GATHER_CHUNK))
+            .with_min_len(PARALLEL_MIN_ROWS / GATHER_CHUNK)
+            .for_each(|(values, codes)| {
+                for (v, &c) in values.iter_mut().zip(codes) {
+                    *v = convert(self.words[slot(c)]);
                 }
-            }
-            nulls
-        })
-        .sum();
-    let valid = (nulls > 0).then(|| Bitmap::from_u8_vec(valid, codes.len()));
-    (values, valid)
+            });
+        values
+    }
+
+    /// One bit per row (`bit` of its slot, 0 or 1), and how many are set.
+    fn bits(&self, bit: impl Fn(u64) -> u8 + Sync) -> (Bitmap, usize) {
+        self.pack(|s| bit(self.words[s]))
+    }
+
+    /// Which rows are valid, when some row is not.
+    fn validity(&self) -> Option<Bitmap> {
+        let (valid, set) = self.pack(|s| self.valid[s]);
+        (set < self.codes.len()).then_some(valid)
+    }
+
+    fn pack(&self, bit: impl Fn(usize) -> u8 + Sync) -> (Bitmap, usize) {
+        let mut bytes = vec![0u8; self.codes.len().div_ceil(8)];
+        let set: usize = bytes
+            .par_chunks_mut(GATHER_CHUNK / 8)
+            .zip(self.codes.par_chunks(GATHER_CHUNK))
+            .with_min_len(PARALLEL_MIN_ROWS / GATHER_CHUNK)
+            .map(|(bytes, codes)| {
+                let mut set = 0;
+                for (byte, codes) in bytes.iter_mut().zip(codes.chunks(8)) {
+                    let mut b = 0u8;
+                    for (k, &c) in codes.iter().enumerate() {
+                        b |= (bit(slot(c)) & 1) << k;
+                    }
+                    set += b.count_ones() as usize;
+                    *byte = b;
+                }
+                set
+            })
+            .sum();
+        (Bitmap::from_u8_vec(bytes, self.codes.len()), set)
+    }
+
+    fn chunked<T: PolarsNumericType>(
+        &self,
+        name: PlSmallStr,
+        convert: impl Fn(u64) -> T::Native + Sync,
+    ) -> ChunkedArray<T> {
+        ChunkedArray::<T>::from_vec_validity(name, self.values(convert), self.validity())
+    }
+
+    fn numeric<T: PolarsNumericType>(
+        &self,
+        name: PlSmallStr,
+        convert: impl Fn(u64) -> T::Native + Sync,
+    ) -> Series {
+        self.chunked::<T>(name, convert).into_series()
+    }
 }
 
-/// A numeric column of the gathered cells.
-fn numeric<T: PolarsNumericType>(
-    name: PlSmallStr,
-    codes: &[u32],
-    slots: &[Cell],
-    get: impl Fn(Cell) -> Option<T::Native> + Sync,
-) -> Series {
-    let (values, valid) = gather(codes, slots, get);
-    ChunkedArray::<T>::from_vec_validity(name, values, valid).into_series()
+/// The Enum type of a label: its categories are the ruleset's labels, in
+/// order, so that every data drop gets the same categories and codes.
+fn label_type(categories: &[String]) -> PolarsResult<DataType> {
+    let frozen = FrozenCategories::new(categories.iter().map(String::as_str))?;
+    Ok(DataType::from_frozen_categories(frozen))
 }
 
-/// An Enum column: its categories are the ruleset's labels, in order, so
-/// that every data drop gets the same categories and codes.
+/// An Enum column of category ids (see [`label_type`]); `None` is null.
 pub fn label_series(
     name: PlSmallStr,
     categories: &[String],
     rows: Vec<Option<u32>>,
 ) -> PolarsResult<Series> {
-    let valid = rows
-        .iter()
-        .any(Option::is_none)
-        .then(|| rows.iter().map(Option::is_some).collect::<Bitmap>());
-    let ids = rows.into_iter().map(Option::unwrap_or_default).collect();
-    label_ids_series(name, categories, ids, valid)
-}
-
-/// [`label_series`] from category ids (any value where null) and, when some
-/// row is null, which rows are valid.
-fn label_ids_series(
-    name: PlSmallStr,
-    categories: &[String],
-    ids: Vec<u32>,
-    valid: Option<Bitmap>,
-) -> PolarsResult<Series> {
-    let frozen = FrozenCategories::new(categories.iter().map(String::as_str))?;
-    let dtype = DataType::from_frozen_categories(frozen);
-    // Every id indexes `categories`, so it fits the physical type polars
-    // chose for them.
-    let series = match dtype.cat_physical()? {
-        CategoricalPhysical::U8 => {
-            let ids = ids.into_iter().map(|x| x as u8).collect();
-            let ids = UInt8Chunked::from_vec_validity(name, ids, valid.clone());
-            CategoricalChunked::<Categorical8Type>::from_cats_and_dtype(ids, dtype).into_series()
-        }
-        CategoricalPhysical::U16 => {
-            let ids = ids.into_iter().map(|x| x as u16).collect();
-            let ids = UInt16Chunked::from_vec_validity(name, ids, valid.clone());
-            CategoricalChunked::<Categorical16Type>::from_cats_and_dtype(ids, dtype).into_series()
-        }
-        CategoricalPhysical::U32 => {
-            let ids = UInt32Chunked::from_vec_validity(name, ids, valid.clone());
-            CategoricalChunked::<Categorical32Type>::from_cats_and_dtype(ids, dtype).into_series()
-        }
-    };
-    Ok(series)
+    let ids = UInt32Chunked::from_iter_options(name, rows.into_iter());
+    let dtype = label_type(categories)?;
+    let ids = ids.cast(&DataType::from(dtype.cat_physical()?))?;
+    Series::from_cats_and_dtype(&ids, &dtype, true)
 }
 
 #[cfg(test)]

@@ -117,14 +117,15 @@ impl Describer {
         let mut out = Vec::new();
         for state in &self.columns {
             let rules = &state.description.rules;
-            let text = batch.column(&state.description.column)?.str()?.clone();
-            let rows: Vec<Option<&str>> = text.iter().collect();
-            let (mut codes, unknown) = state.read()?.vocab.known_codes(&rows);
+            let text = batch.column(&state.description.column)?.str()?.rechunk();
+            let text = text.downcast_as_array();
+            let row = |i: usize| text.get(i);
+            let (mut codes, unknown) = state.read()?.vocab.known_codes_of(text.len(), row);
             if unknown {
                 let mut known = state.write()?;
                 let known = &mut *known;
                 // Another batch may have added some of them meanwhile.
-                known.vocab.add_unknown(&rows, &mut codes);
+                known.vocab.add_unknown_of(row, &mut codes);
                 if known.vocab.distinct() > known.evaluated {
                     let fresh = rules.evaluate_all(&known.vocab.values[known.evaluated..]);
                     known.encoder.add_values(&fresh, 0);
@@ -132,7 +133,7 @@ impl Describer {
                 }
             }
             let nulls = codes.iter().filter(|&&c| c == NULL_CODE).count();
-            state.rows.fetch_add(rows.len() as u64, Ordering::Relaxed);
+            state.rows.fetch_add(codes.len() as u64, Ordering::Relaxed);
             state.null_rows.fetch_add(nulls as u64, Ordering::Relaxed);
             out.extend(state.read()?.encoder.encode(rules, &codes)?);
         }

@@ -146,11 +146,22 @@ impl GrowingVocabulary {
     /// and whether any value was unknown. Rows are not counted. It only
     /// reads, so several batches can be looked up at once.
     pub fn known_codes(&self, rows: &[Option<&str>]) -> (Vec<u32>, bool) {
+        self.known_codes_of(rows.len(), |i| rows[i])
+    }
+
+    /// [`GrowingVocabulary::known_codes`] of the rows `row(0..n)`, for
+    /// callers that can reach a row by its index (a text column of a table)
+    /// without gathering them first.
+    pub fn known_codes_of<'a>(
+        &self,
+        n: usize,
+        row: impl Fn(usize) -> Option<&'a str> + Sync,
+    ) -> (Vec<u32>, bool) {
         use rayon::prelude::*;
-        let codes: Vec<u32> = rows
-            .par_iter()
+        let codes: Vec<u32> = (0..n)
+            .into_par_iter()
             .with_min_len(PARALLEL_MIN_ROWS)
-            .map(|r| match r {
+            .map(|i| match row(i) {
                 None => NULL_CODE,
                 Some(v) => self.index.get(v).unwrap_or(UNKNOWN_CODE),
             })
@@ -163,8 +174,17 @@ impl GrowingVocabulary {
     /// their codes, appending their values in row order. Rows are not
     /// counted.
     pub fn add_unknown(&mut self, rows: &[Option<&str>], codes: &mut [u32]) {
-        for (code, row) in codes.iter_mut().zip(rows) {
-            if let (UNKNOWN_CODE, Some(v)) = (*code, row) {
+        self.add_unknown_of(|i| rows[i], codes)
+    }
+
+    /// [`GrowingVocabulary::add_unknown`] for the rows `row(0..codes.len())`.
+    pub fn add_unknown_of<'a>(
+        &mut self,
+        row: impl Fn(usize) -> Option<&'a str>,
+        codes: &mut [u32],
+    ) {
+        for (i, code) in codes.iter_mut().enumerate() {
+            if let (UNKNOWN_CODE, Some(v)) = (*code, row(i)) {
                 *code = self.insert(v);
             }
         }
@@ -224,12 +244,42 @@ fn key_of<'a>(bytes: &'a [u8], ends: &[usize], code: u32) -> &'a [u8] {
     &bytes[start..ends[i]]
 }
 
+/// `a == b`, for the short keys of a vocabulary: word-sized comparisons
+/// inline instead of a call to `memcmp` (a key found in the table almost
+/// always equals the value looked up, so every byte is compared).
+#[inline]
+fn same_bytes(a: &[u8], b: &[u8]) -> bool {
+    let n = a.len();
+    if n != b.len() {
+        return false;
+    }
+    if n >= 8 {
+        let word = |s: &[u8], i: usize| u64::from_ne_bytes(s[i..i + 8].try_into().unwrap());
+        let mut i = 0;
+        while i + 8 < n {
+            if word(a, i) != word(b, i) {
+                return false;
+            }
+            i += 8;
+        }
+        // The last 8 bytes, overlapping those already compared.
+        return word(a, n - 8) == word(b, n - 8);
+    }
+    if n >= 4 {
+        let word = |s: &[u8], i: usize| u32::from_ne_bytes(s[i..i + 4].try_into().unwrap());
+        return word(a, 0) == word(b, 0) && word(a, n - 4) == word(b, n - 4);
+    }
+    a.iter().zip(b).all(|(x, y)| x == y)
+}
+
 impl KeyIndex {
     fn get(&self, value: &str) -> Option<u32> {
         let value = value.as_bytes();
         let hash = self.hasher.hash_one(value);
         self.table
-            .find(hash, |&c| key_of(&self.bytes, &self.ends, c) == value)
+            .find(hash, |&c| {
+                same_bytes(key_of(&self.bytes, &self.ends, c), value)
+            })
             .copied()
     }
 
