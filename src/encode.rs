@@ -222,7 +222,7 @@ impl Encoder {
         };
         match &f.rule {
             Rule::Flag(_) => {
-                let (values, _) = gathered.bits(|w| w as u8);
+                let values = gathered.bits(|w| w as u8);
                 let validity = gathered.validity();
                 let array = BooleanArray::new(ArrowDataType::Boolean, values, validity);
                 Ok(BooleanChunked::with_chunk(name, array).into_series())
@@ -253,8 +253,9 @@ impl Encoder {
                     Some(dtype) => dtype.clone(),
                     None => label_type(&l.categories)?,
                 };
-                // SAFETY (for the unchecked constructors): every id is an
-                // index into the label's categories, as evaluation gives it.
+                // SAFETY (for the unchecked constructors): every valid id is
+                // an index into the label's categories, as evaluation gives
+                // it; a null row or null cell holds id 0 under a null bit.
                 let series = match dtype.cat_physical()? {
                     CategoricalPhysical::U8 => unsafe {
                         let ids = gathered.chunked::<UInt8Type>(name, |w| w as u8);
@@ -314,9 +315,9 @@ impl Gathered<'_> {
         values
     }
 
-    /// One bit per row (`bit` of its slot, 0 or 1), and how many are set.
-    fn bits(&self, bit: impl Fn(u64) -> u8 + Sync) -> (Bitmap, usize) {
-        self.pack(|s| bit(self.words[s]))
+    /// One bit per row: `bit` of its word (0 or 1).
+    fn bits(&self, bit: impl Fn(u64) -> u8 + Sync) -> Bitmap {
+        self.pack(|s| bit(self.words[s])).0
     }
 
     /// Which rows are valid, when some row is not.
@@ -325,6 +326,7 @@ impl Gathered<'_> {
         (set < self.codes.len()).then_some(valid)
     }
 
+    /// One bit per row, `bit` of its slot, and how many are set.
     fn pack(&self, bit: impl Fn(usize) -> u8 + Sync) -> (Bitmap, usize) {
         let mut bytes = vec![0u8; self.codes.len().div_ceil(8)];
         let set: usize = bytes

@@ -320,6 +320,22 @@ mod tests {
     }
 
     #[test]
+    fn same_bytes_agrees_with_slice_equality_at_every_length() {
+        // Lengths on both sides of the 4- and 8-byte word paths, equal keys
+        // and keys that differ in one byte at every position.
+        for n in 0..40 {
+            let a: Vec<u8> = (0..n as u8).map(|i| b'a' + i % 26).collect();
+            assert!(same_bytes(&a, &a.clone()), "length {n}");
+            for at in 0..n {
+                let mut b = a.clone();
+                b[at] ^= 0x20;
+                assert!(!same_bytes(&a, &b), "length {n}, byte {at}");
+            }
+            assert!(!same_bytes(&a, &a[..n.saturating_sub(1)]) || n == 0);
+        }
+    }
+
+    #[test]
     fn growing_vocabulary_agrees_with_the_built_one_over_many_values() {
         // Enough values for the table to grow several times.
         let rows: Vec<String> = (0..50_000)
