@@ -199,15 +199,17 @@ fn column_names(
 ) -> PolarsResult<Vec<String>> {
     let names = match format {
         TableFormat::Csv { delimiter } => {
+            // polars parses only the header record: its whole-file reader,
+            // even when asked for no rows, splits and parses chunks ahead.
             let options = CsvReadOptions::default()
                 .with_has_header(true)
-                .with_n_rows(Some(0))
                 .with_parse_options(
                     CsvParseOptions::default()
                         .with_separator(delimiter)
                         .with_encoding(encoding(opts)),
                 );
-            let frame = csv_reader(source, options)?;
+            let header = Source::Bytes(header_record(source)?);
+            let frame = csv_reader(&header, options)?;
             frame
                 .get_column_names()
                 .iter()
@@ -229,6 +231,48 @@ fn column_names(
         }
     };
     Ok(names)
+}
+
+/// The bytes of a CSV source up to and including the line break that ends
+/// its first record (a line break inside double quotes does not), or all of
+/// it when it has one record.
+fn header_record(source: &Source) -> PolarsResult<Vec<u8>> {
+    let mut header = Vec::new();
+    let mut quoted = false;
+    let mut scan = |chunk: &[u8], header: &mut Vec<u8>| {
+        for (i, &b) in chunk.iter().enumerate() {
+            match b {
+                b'"' => quoted = !quoted,
+                b'\n' if !quoted => {
+                    header.extend_from_slice(&chunk[..=i]);
+                    return true;
+                }
+                _ => {}
+            }
+        }
+        header.extend_from_slice(chunk);
+        false
+    };
+    match source {
+        Source::Bytes(b) => {
+            scan(b, &mut header);
+        }
+        Source::File(p) => {
+            let mut file = File::open(p)?;
+            let mut buf = vec![0; 64 * 1024];
+            loop {
+                let n = match file.read(&mut buf) {
+                    Ok(n) => n,
+                    Err(e) if e.kind() == std::io::ErrorKind::Interrupted => continue,
+                    Err(e) => return Err(e.into()),
+                };
+                if n == 0 || scan(&buf[..n], &mut header) {
+                    break;
+                }
+            }
+        }
+    }
+    Ok(header)
 }
 
 fn csv_reader(source: &Source, options: CsvReadOptions) -> PolarsResult<DataFrame> {
@@ -496,6 +540,12 @@ impl StreamedTable {
         let mut lazy = scan(path, format, text_columns, opts).map_err(fail)?;
         if let Some(cols) = projection {
             lazy = lazy.select(cols.iter().map(|c| col(*c)).collect::<Vec<_>>());
+            if matches!(format, TableFormat::Csv { .. }) {
+                // A CSV scan limited to some columns does not notice a row
+                // with more fields than the header; every field is parsed
+                // so that such a row is reported wherever it is.
+                lazy = lazy.with_projection_pushdown(false);
+            }
         }
         let schema = lazy.collect_schema().map_err(fail)?;
         let notes = text_columns

@@ -111,6 +111,40 @@ fn csv_with_ragged_rows_names_the_row() {
     );
 }
 
+/// A ragged row far into the file, after many batches, is reported by
+/// `check` (which reads only the described column) and by `apply
+/// --only-features` as it is at the top of the file.
+#[test]
+fn a_ragged_row_deep_in_a_long_csv_is_reported_when_few_columns_are_read() {
+    let c = case();
+    let mut bytes = b"id,transmission,note\n".to_vec();
+    for i in 1..=300_000 {
+        if i == 250_000 {
+            bytes.extend_from_slice(b"250000,6 spd,a,b\n");
+        } else {
+            bytes.extend_from_slice(format!("{i},{} spd,n\n", 3 + i % 5).as_bytes());
+        }
+    }
+    let f = c.file("long.csv", &bytes);
+    let message = "row 250000 (line 250001) has 4 fields but the header has 3";
+    assert_error(c.check(&f, &[]), &["long.csv", message]);
+    let out_path = c.dir.path().join("out.parquet");
+    let out = run(
+        &[
+            "apply",
+            s(&f),
+            "-r",
+            s(&c.rules),
+            "-o",
+            s(&out_path),
+            "--only-features",
+        ],
+        None,
+    );
+    assert_error((out.status.code(), stdout(&out), stderr(&out)), &[message]);
+    assert!(!out_path.exists(), "no output is left behind");
+}
+
 #[test]
 fn csv_with_an_unclosed_quote_names_the_line() {
     let c = case();

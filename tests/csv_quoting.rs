@@ -76,3 +76,43 @@ fn streamed_csv_with_quoted_line_breaks_reads_as_the_csv_crate_reads_it() {
         assert_eq!(g, w, "row {i}");
     }
 }
+
+/// The column names come from the header record alone, which may itself
+/// hold quoted line breaks and commas (RFC 4180, read here by the `csv`
+/// crate as the reference). Doubled quotes are left out: polars keeps them
+/// doubled in a header name, and the names must be the ones polars' scan
+/// uses.
+#[test]
+fn header_names_with_quoted_line_breaks_match_the_csv_crate() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("header.csv");
+    let header = "id,\"gear\nbox\",\"a, b\",plain\r\n";
+    let body = "1,x,y,z\r\n2,\"p\nq\",r,s\r\n";
+    std::fs::write(&path, format!("{header}{body}")).unwrap();
+    let want: Vec<String> = csv::Reader::from_path(&path)
+        .unwrap()
+        .headers()
+        .unwrap()
+        .iter()
+        .map(str::to_owned)
+        .collect();
+    let got = descry::read::table_columns(&path, &ReadOptions::default()).unwrap();
+    assert_eq!(got, want);
+    assert_eq!(got.len(), 4);
+}
+
+/// Only the header is parsed to learn the names: rows after it, even ones
+/// that are not valid UTF-8 or have the wrong number of fields, are not
+/// read (they are reported when the table itself is read).
+#[test]
+fn header_names_do_not_read_the_rows() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("rows.csv");
+    let mut bytes = b"id,spec\n1,\xff\xfe bad\n2,too,many,fields\n".to_vec();
+    for i in 3..50_000 {
+        bytes.extend_from_slice(format!("{i},ok\n").as_bytes());
+    }
+    std::fs::write(&path, &bytes).unwrap();
+    let got = descry::read::table_columns(&path, &ReadOptions::default()).unwrap();
+    assert_eq!(got, ["id", "spec"]);
+}
