@@ -1,0 +1,5 @@
+mod read;
+mod write;
+
+pub use read::*;
+pub use write::*;

@@ -1,0 +1,4 @@
+//! Functionality for reading and writing CSV files.
+
+pub mod read;
+pub mod write;

@@ -1,0 +1,11 @@
+mod cache;
+mod cache_lock;
+mod entry;
+mod eviction;
+mod file_fetcher;
+mod file_lock;
+mod metadata;
+mod utils;
+pub use cache::{FILE_CACHE, get_env_file_cache_ttl};
+pub use entry::FileCacheEntry;
+pub use utils::{FILE_CACHE_PREFIX, init_entries_from_uri_list};
