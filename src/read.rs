@@ -382,21 +382,22 @@ fn read_csv(
         .iter()
         .map(|c| Field::new((*c).into(), DataType::String))
         .collect();
-    let columns = projection.map(|p| {
-        p.iter()
-            .map(|s| PlSmallStr::from(*s))
-            .collect::<Arc<[PlSmallStr]>>()
-    });
+    // Every column is parsed and the projection taken afterwards: a reader
+    // limited to some columns does not notice a row with more fields than
+    // the header.
     let options = CsvReadOptions::default()
         .with_has_header(true)
-        .with_columns(columns)
         .with_schema_overwrite(Some(Arc::new(overwrite)))
         .with_parse_options(
             CsvParseOptions::default()
                 .with_separator(delimiter)
                 .with_encoding(encoding(opts)),
         );
-    csv_reader(source, options)
+    let frame = csv_reader(source, options)?;
+    match projection {
+        Some(cols) => frame.select(cols.iter().copied()),
+        None => Ok(frame),
+    }
 }
 
 /// Find where a CSV file goes wrong, in words a user can act on: the

@@ -112,8 +112,9 @@ fn csv_with_ragged_rows_names_the_row() {
 }
 
 /// A ragged row far into the file, after many batches, is reported by
-/// `check` (which reads only the described column) and by `apply
-/// --only-features` as it is at the top of the file.
+/// `check` (which reads only the described column, from a file or from
+/// standard input) and by `apply --only-features` as it is at the top of
+/// the file.
 #[test]
 fn a_ragged_row_deep_in_a_long_csv_is_reported_when_few_columns_are_read() {
     let c = case();
@@ -143,6 +144,14 @@ fn a_ragged_row_deep_in_a_long_csv_is_reported_when_few_columns_are_read() {
     );
     assert_error((out.status.code(), stdout(&out), stderr(&out)), &[message]);
     assert!(!out_path.exists(), "no output is left behind");
+    // Standard input is read whole, by the other reader.
+    let out = descry()
+        .args(["check", "-", "-r", s(&c.rules)])
+        .write_stdin(bytes)
+        .output()
+        .unwrap();
+    assert_no_panic(&out);
+    assert_error((out.status.code(), stdout(&out), stderr(&out)), &[message]);
 }
 
 #[test]
