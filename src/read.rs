@@ -233,6 +233,10 @@ fn column_names(
     Ok(names)
 }
 
+/// The longest header record read: past it, the file has no line break
+/// where one should be (another line-break convention, a quote left open).
+const MAX_HEADER_BYTES: usize = 16 << 20;
+
 /// The bytes of a CSV source up to and including the line break that ends
 /// its first record (a line break inside double quotes does not), or all of
 /// it when it has one record.
@@ -269,8 +273,16 @@ fn header_record(source: &Source) -> PolarsResult<Vec<u8>> {
                 if n == 0 || scan(&buf[..n], &mut header) {
                     break;
                 }
+                if header.len() > MAX_HEADER_BYTES {
+                    break;
+                }
             }
         }
+    }
+    if header.len() > MAX_HEADER_BYTES {
+        polars_bail!(ComputeError:
+            "found no line break in the first {} MiB, so there is no header line; descry reads line breaks as \\n or \\r\\n, and a quote left open runs on to the end of the file",
+            MAX_HEADER_BYTES >> 20);
     }
     Ok(header)
 }

@@ -154,6 +154,23 @@ fn a_ragged_row_deep_in_a_long_csv_is_reported_when_few_columns_are_read() {
     assert_error((out.status.code(), stdout(&out), stderr(&out)), &[message]);
 }
 
+/// Line breaks of another convention (a lone carriage return) leave the
+/// file one endless header line: the read stops after 16 MiB and says why.
+#[test]
+fn a_csv_without_line_breaks_is_refused_without_reading_it_whole() {
+    let c = case();
+    let mut bytes = b"id,transmission\r".to_vec();
+    for i in 0..1_500_000 {
+        bytes.extend_from_slice(format!("{i},6 spd\r").as_bytes());
+    }
+    assert!(bytes.len() > 16 << 20);
+    let f = c.file("cr.csv", &bytes);
+    assert_error(
+        c.check(&f, &[]),
+        &["cr.csv", "no line break in the first 16 MiB", "\\r\\n"],
+    );
+}
+
 #[test]
 fn csv_with_an_unclosed_quote_names_the_line() {
     let c = case();
