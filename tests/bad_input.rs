@@ -33,9 +33,18 @@ impl Case {
     fn check(&self, input: &Path, extra: &[&str]) -> (Option<i32>, String, String) {
         let mut args = vec!["check", s(input), "-r", s(&self.rules)];
         args.extend_from_slice(extra);
-        let out = run(&args, None);
-        (out.status.code(), stdout(&out), stderr(&out))
+        outcome(&run(&args, None))
     }
+
+    fn apply(&self, input: &Path, output: &Path, extra: &[&str]) -> std::process::Output {
+        let mut args = vec!["apply", s(input), "-r", s(&self.rules), "-o", s(output)];
+        args.extend_from_slice(extra);
+        run(&args, None)
+    }
+}
+
+fn outcome(out: &std::process::Output) -> (Option<i32>, String, String) {
+    (out.status.code(), stdout(out), stderr(out))
 }
 
 fn assert_error(got: (Option<i32>, String, String), parts: &[&str]) {
@@ -130,19 +139,8 @@ fn a_ragged_row_deep_in_a_long_csv_is_reported_when_few_columns_are_read() {
     let message = "row 250000 (line 250001) has 4 fields but the header has 3";
     assert_error(c.check(&f, &[]), &["long.csv", message]);
     let out_path = c.dir.path().join("out.parquet");
-    let out = run(
-        &[
-            "apply",
-            s(&f),
-            "-r",
-            s(&c.rules),
-            "-o",
-            s(&out_path),
-            "--only-features",
-        ],
-        None,
-    );
-    assert_error((out.status.code(), stdout(&out), stderr(&out)), &[message]);
+    let out = c.apply(&f, &out_path, &["--only-features"]);
+    assert_error(outcome(&out), &[message]);
     assert!(!out_path.exists(), "no output is left behind");
     // Standard input is read whole, by the other reader.
     let out = descry()
@@ -151,7 +149,7 @@ fn a_ragged_row_deep_in_a_long_csv_is_reported_when_few_columns_are_read() {
         .output()
         .unwrap();
     assert_no_panic(&out);
-    assert_error((out.status.code(), stdout(&out), stderr(&out)), &[message]);
+    assert_error(outcome(&out), &[message]);
 }
 
 /// Line breaks of another convention (a lone carriage return) leave the
@@ -239,7 +237,7 @@ fn a_truncated_parquet_file() {
     let c = case();
     let csv = c.file("t.csv", b"id,transmission\n1,6 spd\n2,x\n");
     let pq = c.dir.path().join("t.parquet");
-    let out = run(&["apply", s(&csv), "-r", s(&c.rules), "-o", s(&pq)], None);
+    let out = c.apply(&csv, &pq, &[]);
     assert_eq!(out.status.code(), Some(0));
     let full = std::fs::read(&pq).unwrap();
     let cut = c.file("cut.parquet", &full[..full.len() / 2]);
@@ -272,17 +270,7 @@ fn an_unwritable_output() {
     let c = case();
     let csv = c.file("t.csv", b"id,transmission\n1,6 spd\n");
     // /proc exists but no file can be created in it, not even by root.
-    let out = run(
-        &[
-            "apply",
-            s(&csv),
-            "-r",
-            s(&c.rules),
-            "-o",
-            "/proc/descry-out.parquet",
-        ],
-        None,
-    );
+    let out = c.apply(&csv, Path::new("/proc/descry-out.parquet"), &[]);
     assert_eq!(out.status.code(), Some(2));
     assert!(
         stderr(&out).contains("/proc/descry-out.parquet"),
