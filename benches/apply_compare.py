@@ -19,8 +19,8 @@ the input columns plus the features of the transmission and engine rulesets):
 
 The Python contenders do not hold hand-written copies of the rules: every
 ruleset is translated from its TOML file here (tomllib), with descry's
-semantics (rulesets/README.md, src/numbers.rs, src/pattern.rs,
-src/evaluate.rs):
+semantics (rulesets/README.md, src/engine/numbers.rs, src/engine/pattern.rs,
+src/engine/evaluate.rs):
 
   * normalization: NFKC, lower case, every run of Unicode White_Space
     (no-break space included) becomes one space, trimmed;
@@ -119,7 +119,7 @@ WHITE_SPACE_RUN = "[" + WHITE_SPACE.replace("\\", "") + "]+"
 
 
 def is_word_char(c: str) -> bool:
-    """descry's whole-word test (src/pattern.rs `is_whole_word`): alphanumeric or `_`."""
+    """descry's whole-word test (src/engine/pattern.rs `is_whole_word`): alphanumeric or `_`."""
     return c.isalnum() or c == "_"
 
 
@@ -162,7 +162,7 @@ class Normalize:
 
 
 def macro_expansion(kind: str, decimal: str) -> str:
-    """`Macro::expansion` in src/numbers.rs, character for character."""
+    """`Macro::expansion` in src/engine/numbers.rs, character for character."""
     thousands = "," if decimal == "." else "."
     t, d = rust_escape(thousands), rust_escape(decimal)
     grouped = rf"\d{{1,3}}(?:{t}\d{{3}})+"
@@ -180,7 +180,7 @@ def escaped(source: str, at: int) -> bool:
 
 
 def expand_macros(source: str, decimal: str) -> tuple[str, list[int]]:
-    """`expand_macros` in src/pattern.rs: (expanded pattern, macro offsets)."""
+    """`expand_macros` in src/engine/pattern.rs: (expanded pattern, macro offsets)."""
     out, offsets, i = [], [], 0
     while i < len(source):
         hit = next((k for k in ("int", "num") if source.startswith("{" + k + "}", i) and not escaped(source, i)), None)
@@ -209,7 +209,7 @@ class Group:
 
 
 def scan_groups(source: str, macros: list[int]) -> list[Group]:
-    """`scan_groups` in src/pattern.rs: the capture groups as written."""
+    """`scan_groups` in src/engine/pattern.rs: the capture groups as written."""
     groups: list[Group] = []
     stack: list[int | None] = []
     i, class_depth = 0, 0
@@ -319,7 +319,7 @@ class Feature:
     cases: list[tuple[str, Matcher]] = field(default_factory=list)
 
     def int_type(self, observed_lo=None, observed_hi=None) -> str:
-        """`count_type` / `IntType::for_range` in src/encode.rs."""
+        """`count_type` / `IntType::for_range` in src/table/encode.rs."""
         if self.range:
             lo, hi = self.range
         else:
@@ -352,7 +352,7 @@ class Ruleset:
 
 
 def measure_groups(groups: list[Group]) -> tuple[list[int], list[int]]:
-    """`measure_groups` in src/ruleset/compile.rs."""
+    """`measure_groups` in src/engine/ruleset/compile.rs."""
     number = [i for i, g in enumerate(groups) if g.has_macro] or [0]
 
     def encloses_number(i: int) -> bool:
@@ -414,7 +414,7 @@ def load_ruleset(path: Path) -> Ruleset:
 
 
 def number_regexes(decimal: str) -> tuple[str, str]:
-    """Full-text regexes of what `parse_number` accepts (src/numbers.rs):
+    """Full-text regexes of what `parse_number` accepts (src/engine/numbers.rs):
     the fraction forms and the decimal form. Only ASCII digits count."""
     fraction = "^(?:(?P<w>[0-9]+)[- ])?(?P<n>[0-9]+)[/\u2044](?P<d>[0-9]+)$"
     t = rust_escape("," if decimal == "." else ".")

@@ -1,24 +1,25 @@
 //! descry turns messy free-text categorical columns into compact model
 //! features: counts, flags, measures in one unit and family labels.
 //!
-//! The pipeline, one module per stage:
+//! The tree follows the pipeline, one folder per stage:
 //!
-//! 1. [`read`]: a table (CSV, Parquet, Arrow IPC, NDJSON) with the described
-//!    column as text;
-//! 2. [`vocabulary`]: the column's distinct values, their row counts, and
-//!    each row's value code;
-//! 3. [`normalize`]: each distinct value normalized once (NFKC, case,
-//!    white space);
-//! 4. [`ruleset`] and [`evaluate`]: the ruleset's rules run once per distinct
-//!    value, never per row;
-//! 5. [`report`]: coverage, unmatched values, conflicts, example results
-//!    (rendered by [`render`] or serialized as JSON);
-//!    [`encode`]: per-value results gathered to rows in compact types;
-//! 6. [`write`]: the output table, written atomically.
+//! 1. [`table`]: reading a table (CSV, Parquet, Arrow IPC, NDJSON) with the
+//!    described column as text ([`read`]);
+//! 2. [`engine`]: the column's distinct values, their row counts and each
+//!    row's value code ([`vocabulary`]); each distinct value normalized once
+//!    ([`normalize`]: NFKC, case, white space); the ruleset's rules
+//!    ([`ruleset`], [`pattern`], [`numbers`]) run once per distinct value,
+//!    never per row ([`evaluate`]);
+//! 3. [`report`]: coverage, unmatched values, conflicts, example results
+//!    (rendered as text by [`render`] or serialized as JSON);
+//!    [`encode`]: per-value results gathered to rows in compact types, and
+//!    [`pipeline`], which does both for a table arriving in batches;
+//! 4. [`write`]: the output table, written atomically.
 //!
-//! The engine (stages 2 to 5) has no command-line, terminal or file code.
-//! Before rules exist, [`survey`] and [`cluster`] profile a column and
-//! [`propose`] drafts a ruleset from its vocabulary.
+//! The engine has no command-line, terminal or file code. Before rules
+//! exist, [`profile`] surveys a column ([`survey`]) and clusters its
+//! near-duplicate values ([`cluster`]), and [`propose`] drafts a ruleset from
+//! its vocabulary. [`demo`] writes the demo data set.
 //!
 //! ```
 //! use descry::{CoverageReport, Ruleset, Vocabulary};
@@ -44,24 +45,20 @@
 //! assert_eq!(report.unmatched[0].value, "cvt");
 //! ```
 
-pub mod cluster;
-pub mod encode;
+pub mod demo;
+pub mod engine;
 pub mod error;
-pub mod evaluate;
-pub mod normalize;
-pub mod numbers;
-pub mod pattern;
-pub mod pipeline;
+pub mod profile;
 pub mod propose;
-pub mod read;
-pub mod render;
 pub mod report;
-pub mod ruleset;
-pub mod sample;
-pub mod shape;
-pub mod survey;
-pub mod vocabulary;
-pub mod write;
+pub mod table;
+
+// The stages' modules keep their paths at the crate root.
+pub use demo as sample;
+pub use engine::{evaluate, normalize, numbers, pattern, ruleset, vocabulary};
+pub use profile::{cluster, shape, survey};
+pub use report::render;
+pub use table::{encode, pipeline, read, write};
 
 pub use error::{Error, RulesetError};
 pub use evaluate::{Cell, Evaluation, Issue, Outcome};

@@ -4,6 +4,8 @@
 //! schema); `render.rs` turns it into text. Every number here is computed
 //! from the per-value outcomes and the vocabulary's row counts.
 
+pub mod render;
+
 use serde::Serialize;
 
 use crate::evaluate::{Cell, Evaluation, Issue, Outcome};

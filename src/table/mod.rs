@@ -1,0 +1,9 @@
+//! Tables in and out: reading a table with the described columns as text,
+//! gathering per-value features to rows in compact types, the batch
+//! pipeline that does both for a table arriving in pieces, and atomic
+//! writing.
+
+pub mod encode;
+pub mod pipeline;
+pub mod read;
+pub mod write;
