@@ -123,10 +123,18 @@ pub fn schema_to_arrow_checked(
                 );
             }
 
-            let field = field
+            let mut arrow_field = field
                 .dtype()
                 .to_arrow_field(field.name().clone(), compat_level);
-            Ok((field.name.clone(), field))
+            // An Enum's categories are nominal: its dictionary is written
+            // unordered, and polars still reads an Enum from the field's
+            // metadata. (descry's patch, see vendor/README.md.)
+            if field.dtype().is_enum() {
+                if let ArrowDataType::Dictionary(keys, values, true) = arrow_field.dtype {
+                    arrow_field.dtype = ArrowDataType::Dictionary(keys, values, false);
+                }
+            }
+            Ok((arrow_field.name.clone(), arrow_field))
         })
         .collect::<PolarsResult<ArrowSchema>>()
 }
