@@ -117,12 +117,21 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
         for (d, tally) in &summary.columns {
             print_notes(&column_notes(tally.rows, tally.distinct, &d.column), false);
         }
+        // Sizes in memory of what was written: the described columns only
+        // when they are part of the output.
+        let sources = if args.only_features || args.drop_source {
+            String::new()
+        } else {
+            format!(
+                ", described columns {} bytes",
+                thousands(summary.source_bytes as u64)
+            )
+        };
         eprintln!(
-            "wrote {} rows, {} features to {}; source columns {} bytes, feature columns {} bytes",
+            "wrote {} rows, {} features to {}; feature columns {} bytes{sources}",
             thousands(summary.rows),
             summary.features,
             args.output.display(),
-            thousands(summary.source_bytes as u64),
             thousands(summary.feature_bytes as u64),
         );
     }

@@ -1,55 +1,82 @@
-//! `descry check`: test a ruleset on every distinct value of a column and
-//! report coverage.
+//! `descry check`: test one or more rulesets on every distinct value of
+//! their columns and report coverage, with gates for each new data drop.
 
+use std::path::PathBuf;
 use std::process::ExitCode;
 
-use descry::render::check_text;
-use descry::CoverageReport;
+use anyhow::bail;
+use serde::Serialize;
+
+use descry::render::{check_text, escaped};
+use descry::report::Gate;
+use descry::{CoverageReport, Ruleset};
 
 use super::common::{
-    column_notes, emit, json_out, load_ruleset, parse_share, print_notes, read_vocabulary,
+    column_notes, emit, json_out, load_ruleset, parse_share, print_notes, read_vocabularies,
     source_column, Format, InputArgs,
 };
 
 pub const ABOUT: &str = "\
-Test a ruleset on every distinct value of a column and report coverage.
+Test rulesets on every distinct value of their columns and report coverage.
 
-Prints the rows, distinct values, nulls and blanks; the share of non-blank
-rows and of distinct values on which at least one rule fires; for each rule
-the values and rows it hits and the values it could not read; the unmatched
-values, most rows first; conflicting label cases; rules that hit nothing;
-and the ruleset's [[example]] self-tests.
+Prints the rows, distinct values, nulls, blanks and placeholders; the share
+of the rows with text (not null, blank or a placeholder) and of distinct
+values on which at least one rule fires; for each rule the values and rows
+it hits and the values it could not read; the unmatched values, most rows
+first; conflicting label cases; rules that hit nothing; likely slips in the
+ruleset; and the ruleset's [[example]] self-tests.
 
-Exit codes: 0 when all is well; 1 when an example fails, or when coverage
-of rows is below --min-coverage; 2 on any error (bad file, bad ruleset).
+Gates turn the report into a check of a new data drop:
+  --min-coverage 0.95         at least 95% of the rows with text covered
+  --require turbo=0.02        the rule `turbo` (or its output column,
+                              e.g. eng_turbo) fires on at least 2% of them
+A gate fails, with a one-line reason, when its share is below the threshold
+or when there is nothing to measure (no rows with text). A failing
+[[example]] fails too.
+
+Several rulesets (-r A.toml -r B.toml) are checked in one read of the
+table. The JSON report is then one object of schema \"descry.checks/1\"
+holding a \"descry.check/1\" report for each ruleset and every gate.
+
+Exit codes: 0 when every gate passes; 1 when a gate or an example fails;
+2 on any error (bad file, bad ruleset, a --require naming no rule).
 
 Memory: proportional to the number of distinct values. CSV, Parquet and
 Arrow IPC files are read in batches and only the vocabulary is kept;
 standard input and NDJSON are read whole.
 
-Example:
-  descry check samples/listings.csv --rules rulesets/engine.toml --min-coverage 0.95";
+Examples:
+  descry check samples/listings.csv -r rulesets/engine.toml --min-coverage 0.95
+  descry check drop.parquet -r rulesets/engine.toml -r rulesets/transmission.toml \\
+      --require eng_turbo=0.05 --format json";
 
 #[derive(Debug, clap::Args)]
 #[command(long_about = ABOUT)]
 pub struct Args {
     #[command(flatten)]
     pub input: InputArgs,
-    /// The ruleset (TOML); see rulesets/README.md for the format.
-    #[arg(long, short = 'r')]
-    pub rules: std::path::PathBuf,
-    /// The column to describe; overrides the ruleset's `column`.
+    /// A ruleset (TOML; see rulesets/README.md); repeat to check several
+    /// columns in one read.
+    #[arg(long, short = 'r', required = true)]
+    pub rules: Vec<PathBuf>,
+    /// The column to describe, when a single ruleset is given; overrides its `column`.
     #[arg(long, short = 'c')]
     pub column: Option<String>,
-    /// Report format: human text, or JSON (schema "descry.check/1").
+    /// Report format: human text, or JSON (schema "descry.check/1"; with
+    /// several rulesets "descry.checks/1").
     #[arg(long, value_enum, default_value_t = Format::Text)]
     pub format: Format,
-    /// Fail (exit 1) when the share of covered non-blank rows is below this
-    /// fraction, e.g. 0.95.
+    /// Fail (exit 1) when the share of covered rows with text is below this
+    /// fraction, e.g. 0.95; applies to each ruleset.
     #[arg(long, value_parser = parse_share)]
     pub min_coverage: Option<f64>,
-    /// How many unmatched values, issues and conflicts the text report lists
-    /// (JSON lists all).
+    /// Fail (exit 1) when FEATURE (a rule's name or its output column)
+    /// fires on less than SHARE of the rows with text, e.g. turbo=0.02.
+    /// Repeatable.
+    #[arg(long, value_name = "FEATURE=SHARE", value_parser = parse_requirement)]
+    pub require: Vec<(String, f64)>,
+    /// How many unmatched values, placeholders, issues and conflicts the
+    /// text report lists (JSON lists all); 0 leaves those sections out.
     #[arg(long, default_value_t = 20)]
     pub top: usize,
     /// Print no notes on standard error.
@@ -57,39 +84,150 @@ pub struct Args {
     pub quiet: bool,
 }
 
+fn parse_requirement(s: &str) -> Result<(String, f64), String> {
+    let Some((feature, share)) = s.rsplit_once('=') else {
+        return Err(format!(
+            "{s:?}: write FEATURE=SHARE, e.g. turbo=0.02 (the rule fires on at least 2% of the rows)"
+        ));
+    };
+    if feature.trim().is_empty() {
+        return Err(format!("{s:?}: the feature before `=` is empty"));
+    }
+    Ok((feature.trim().to_owned(), parse_share(share.trim())?))
+}
+
+/// The JSON of several rulesets' checks.
+#[derive(Serialize)]
+struct Checks<'a> {
+    schema: &'static str,
+    reports: &'a [CoverageReport],
+    /// Every ruleset's gates, each with its ruleset.
+    gates: Vec<RulesetGate<'a>>,
+    passed: bool,
+}
+
+#[derive(Serialize)]
+struct RulesetGate<'a> {
+    ruleset: &'a str,
+    #[serde(flatten)]
+    gate: &'a Gate,
+}
+
+pub const CHECKS_SCHEMA: &str = "descry.checks/1";
+
 pub fn run(args: Args) -> anyhow::Result<ExitCode> {
-    let rules = load_ruleset(&args.rules)?;
-    let column = source_column(args.column.as_deref(), &rules)?;
-    let vocab = read_vocabulary(&args.input, &column, args.quiet)?;
-    print_notes(
-        &column_notes(vocab.rows(), vocab.distinct(), &column),
-        args.quiet,
-    );
-    let eval = rules.evaluate_all(&vocab.values);
-    let report = CoverageReport::build(&rules, &column, &vocab, &eval);
+    if args.column.is_some() && args.rules.len() > 1 {
+        bail!("--column applies to a single ruleset; with several, name each column in its ruleset");
+    }
+    let rulesets = args
+        .rules
+        .iter()
+        .map(|p| load_ruleset(p))
+        .collect::<anyhow::Result<Vec<_>>>()?;
+    let columns = rulesets
+        .iter()
+        .map(|r| source_column(args.column.as_deref(), r))
+        .collect::<anyhow::Result<Vec<_>>>()?;
+    let required = resolve_requirements(&rulesets, &args.require)?;
+    let names: Vec<&str> = columns.iter().map(String::as_str).collect();
+    let vocabs = read_vocabularies(&args.input, &names, args.quiet)?;
+    let mut reports = Vec::new();
+    for ((rules, column), vocab) in rulesets.iter().zip(&columns).zip(&vocabs) {
+        print_notes(&column_notes(vocab.rows(), vocab.distinct(), column), args.quiet);
+        let eval = rules.evaluate_all(&vocab.values);
+        let mut report = CoverageReport::build(rules, column, vocab, &eval);
+        let mine: Vec<(usize, f64)> = required
+            .iter()
+            .filter(|(r, _, _)| std::ptr::eq(*r, rules))
+            .map(|&(_, f, share)| (f, share))
+            .collect();
+        report.judge(rules, args.min_coverage, &mine);
+        reports.push(report);
+    }
+    let passed = reports.iter().all(|r| r.passed);
     match args.format {
-        Format::Text => emit(&check_text(&report, args.top))?,
-        Format::Json => emit(&(json_out(&report)? + "\n"))?,
-    }
-    let passes = report.passes(args.min_coverage);
-    if !passes && !args.quiet {
-        if let Some(min) = args.min_coverage.filter(|m| report.coverage.row_share < *m) {
-            eprintln!(
-                "descry: gate failed: coverage {:.2}% is below --min-coverage {:.2}%",
-                report.coverage.row_share * 100.0,
-                min * 100.0
-            );
+        Format::Text => {
+            let text: Vec<String> = reports.iter().map(|r| check_text(r, args.top)).collect();
+            emit(&text.join("\n"))?
         }
-        if report.examples_failed > 0 {
-            eprintln!(
-                "descry: gate failed: {} example(s) failed",
-                report.examples_failed
-            );
+        Format::Json if reports.len() == 1 => emit(&(json_out(&reports[0])? + "\n"))?,
+        Format::Json => {
+            let gates = reports
+                .iter()
+                .flat_map(|r| r.gates.iter().map(|g| RulesetGate { ruleset: &r.ruleset, gate: g }))
+                .collect();
+            let all = Checks {
+                schema: CHECKS_SCHEMA,
+                reports: &reports,
+                gates,
+                passed,
+            };
+            emit(&(json_out(&all)? + "\n"))?
         }
     }
-    Ok(if passes {
+    if !args.quiet {
+        for r in &reports {
+            for g in r.gates.iter().filter(|g| !g.passed) {
+                let reason = g.reason.as_deref().unwrap_or("failed");
+                if reports.len() > 1 {
+                    eprintln!("descry: gate failed: {}: {reason}", r.ruleset);
+                } else {
+                    eprintln!("descry: gate failed: {reason}");
+                }
+            }
+        }
+    }
+    Ok(if passed {
         ExitCode::SUCCESS
     } else {
         ExitCode::from(1)
     })
+}
+
+/// Each `--require FEATURE=SHARE` as (its ruleset, feature index, share).
+/// FEATURE is an output column or a rule name; a rule name that more than
+/// one ruleset uses must be given as its output column.
+fn resolve_requirements<'a>(
+    rulesets: &'a [Ruleset],
+    require: &[(String, f64)],
+) -> anyhow::Result<Vec<(&'a Ruleset, usize, f64)>> {
+    let mut out = Vec::new();
+    for (name, share) in require {
+        let matching = |same: &dyn Fn(&descry::ruleset::Feature) -> bool| -> Vec<(&Ruleset, usize)> {
+            rulesets
+                .iter()
+                .flat_map(|r| r.features.iter().enumerate().map(move |(i, f)| (r, i, f)))
+                .filter(|(_, _, f)| same(f))
+                .map(|(r, i, _)| (r, i))
+                .collect()
+        };
+        let by_output = matching(&|f| f.output == *name);
+        let found = if by_output.is_empty() { matching(&|f| f.name == *name) } else { by_output };
+        match found.as_slice() {
+            [(r, i)] => out.push((*r, *i, *share)),
+            [] => {
+                let known: Vec<String> = rulesets
+                    .iter()
+                    .flat_map(|r| r.features.iter().map(|f| escaped(&f.output)))
+                    .collect();
+                bail!(
+                    "--require {}: no rule has that name or output column; the output columns are: {}",
+                    escaped(name),
+                    known.join(", ")
+                )
+            }
+            several => {
+                let outputs: Vec<String> = several
+                    .iter()
+                    .map(|(r, i)| format!("{} ({})", escaped(&r.features[*i].output), r.file))
+                    .collect();
+                bail!(
+                    "--require {}: several rulesets have a rule of that name; name its output column instead: {}",
+                    escaped(name),
+                    outputs.join(", ")
+                )
+            }
+        }
+    }
+    Ok(out)
 }

@@ -84,26 +84,52 @@ pub fn source_column(cli: Option<&str>, rules: &Ruleset) -> anyhow::Result<Strin
 /// files are read in batches, keeping only the vocabulary; standard input
 /// and NDJSON are read whole.
 pub fn read_vocabulary(input: &InputArgs, column: &str, quiet: bool) -> anyhow::Result<Vocabulary> {
-    let opts = input.read_options();
-    if !can_stream(&input.input, &opts) {
-        let table = Table::read_columns(&input.input, &[column], &opts)?;
-        print_notes(&table.notes, quiet);
-        return vocabulary_of(&table, column);
+    Ok(read_vocabularies(input, &[column], quiet)?.remove(0))
+}
+
+/// [`read_vocabulary`] for several columns in one read of the input; a
+/// column named twice gets the same vocabulary twice.
+pub fn read_vocabularies(
+    input: &InputArgs,
+    columns: &[&str],
+    quiet: bool,
+) -> anyhow::Result<Vec<Vocabulary>> {
+    let mut distinct: Vec<&str> = Vec::new();
+    for c in columns {
+        if !distinct.contains(c) {
+            distinct.push(c);
+        }
     }
-    let mut vocab = GrowingVocabulary::default();
-    let notes = for_each_batch(
-        &input.input,
-        &[column],
-        Some(&[column]),
-        &opts,
-        1 << 20,
-        |batch| {
-            vocab.codes_for(&batch_text(&batch, column, &input.input)?);
-            Ok(())
-        },
-    )?;
-    print_notes(&notes, quiet);
-    Ok(vocab.to_vocabulary())
+    let opts = input.read_options();
+    let vocabs: Vec<Vocabulary> = if !can_stream(&input.input, &opts) {
+        let table = Table::read_columns(&input.input, &distinct, &opts)?;
+        print_notes(&table.notes, quiet);
+        distinct
+            .iter()
+            .map(|c| vocabulary_of(&table, c))
+            .collect::<anyhow::Result<_>>()?
+    } else {
+        let mut growing = vec![GrowingVocabulary::default(); distinct.len()];
+        let notes = for_each_batch(
+            &input.input,
+            &distinct,
+            Some(&distinct),
+            &opts,
+            1 << 20,
+            |batch| {
+                for (vocab, c) in growing.iter_mut().zip(&distinct) {
+                    vocab.codes_for(&batch_text(&batch, c, &input.input)?);
+                }
+                Ok(())
+            },
+        )?;
+        print_notes(&notes, quiet);
+        growing.iter().map(GrowingVocabulary::to_vocabulary).collect()
+    };
+    Ok(columns
+        .iter()
+        .map(|c| vocabs[distinct.iter().position(|d| d == c).expect("listed")].clone())
+        .collect())
 }
 
 /// The vocabulary of a text column of a table.

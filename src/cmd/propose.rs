@@ -77,8 +77,8 @@ pub struct Args {
     /// ... and on at most this share (a word on nearly every row tells nothing).
     #[arg(long, default_value_t = 0.95, value_parser = parse_share)]
     pub max_share: f64,
-    /// At most this many rules; the best supported are kept.
-    #[arg(long, default_value_t = 40)]
+    /// At most this many rules (at least 1); the best supported are kept.
+    #[arg(long, default_value_t = 40, value_parser = parse_max_rules)]
     pub max_rules: usize,
     /// At most this many entries in the proposed label map.
     #[arg(long, default_value_t = 100)]
@@ -95,6 +95,14 @@ pub struct Args {
     /// Print no notes on standard error.
     #[arg(long, short = 'q')]
     pub quiet: bool,
+}
+
+fn parse_max_rules(s: &str) -> Result<usize, String> {
+    match s.parse::<usize>() {
+        Ok(0) => Err("0 would leave the draft without rules; give at least 1".to_owned()),
+        Ok(n) => Ok(n),
+        Err(_) => Err(format!("{s:?} is not a whole number")),
+    }
 }
 
 #[derive(Serialize)]

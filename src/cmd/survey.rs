@@ -6,6 +6,9 @@ use descry::survey::{survey, survey_text, SurveyOptions, DEFAULT_LONG, DEFAULT_P
 
 use super::common::{json_out, read_vocabulary, Format, InputArgs};
 
+// clap turns `{n}` in help text into a line break and has no escape for
+// it: the style reset between `{` and `n` keeps the braces literal. It is
+// invisible on a terminal and removed when help is written elsewhere.
 pub const ABOUT: &str = "\
 Profile one column: what it holds, in which formats, with which defects,
 made of which words. Run it first on a new column.
@@ -17,7 +20,7 @@ with counts and examples; and the most frequent tokens. Shares are of the
 non-null rows.
 
 Shapes: each value is reduced to its layout. A run of n digits is 9 written
-n times (9{n} above 6), a run of letters is one of a (lower case), A (upper
+n times (9{\x1b[0mn} above 6), a run of letters is one of a (lower case), A (upper
 case), Aa (capitalized), aA (mixed), a run of any white space is one space,
 and punctuation stays as it is: \"PMP-0750-3T\" has the shape \"A-9999-9A\",
 \"6 SPD Auto\" has \"9 A Aa\".

@@ -9,8 +9,11 @@ use std::ops::Range;
 use serde::Serialize;
 
 use crate::numbers::{parse_integer, parse_number};
-use crate::pattern::{Found, MatchError};
-use crate::ruleset::{CountRule, Feature, LabelRule, MeasureRule, Rule, Ruleset};
+use crate::pattern::{Found, MatchError, Pattern};
+use crate::ruleset::{
+    Combine, CountRule, Feature, LabelRule, MeasureRule, Precision, Rule, Ruleset, Unless,
+    ValueKind,
+};
 
 /// A feature's value for one distinct value.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -39,6 +42,11 @@ pub enum Issue {
     UnknownUnit {
         unit: String,
     },
+    /// A measure whose value is not a finite number in its column's type
+    /// (a 300-digit number, or one beyond Float32's range).
+    NotFinite {
+        text: String,
+    },
     /// A fancy pattern gave up; the feature is null for this value.
     BacktrackLimit,
     MatchFailed {
@@ -52,6 +60,9 @@ impl std::fmt::Display for Issue {
             Issue::OutOfRange { value } => write!(f, "{value} is out of range"),
             Issue::Unparsable { text } => write!(f, "cannot read {text:?} as a number"),
             Issue::UnknownUnit { unit } => write!(f, "unit {unit:?} is not in `units`"),
+            Issue::NotFinite { text } => {
+                write!(f, "{text:?} gives a value too large for the column's type")
+            }
             Issue::BacktrackLimit => write!(f, "backtrack limit reached"),
             Issue::MatchFailed { message } => write!(f, "{message}"),
         }
@@ -134,8 +145,12 @@ pub struct Trace {
 }
 
 impl Ruleset {
-    /// Evaluate every feature on an already normalized value.
+    /// Evaluate every feature on an already normalized value. A blank
+    /// value or a placeholder gets null features, flags included.
     pub fn evaluate(&self, normalized: &str) -> Vec<Outcome> {
+        if self.kind_of(normalized) != ValueKind::Considered {
+            return vec![Outcome::plain(Cell::Null, false); self.features.len()];
+        }
         self.features
             .iter()
             .map(|f| evaluate_feature(f, self, normalized, None))
@@ -144,6 +159,26 @@ impl Ruleset {
 
     /// Evaluate with every step recorded.
     pub fn explain(&self, normalized: &str) -> Vec<Trace> {
+        let kind = self.kind_of(normalized);
+        if kind != ValueKind::Considered {
+            let what = if kind == ValueKind::Blank { "blank" } else { "placeholder" };
+            let step = Step {
+                what: what.to_owned(),
+                matched: true,
+                span: Some(0..normalized.len()),
+                text: Some(normalized.to_owned()),
+                captures: Vec::new(),
+                error: None,
+            };
+            return self
+                .features
+                .iter()
+                .map(|_| Trace {
+                    outcome: Outcome::plain(Cell::Null, false),
+                    steps: vec![step.clone()],
+                })
+                .collect();
+        }
         self.features
             .iter()
             .map(|f| {
@@ -166,7 +201,8 @@ fn record(steps: &mut Steps, step: impl FnOnce() -> Step) {
 fn evaluate_feature(f: &Feature, rules: &Ruleset, text: &str, mut steps: Steps) -> Outcome {
     match &f.rule {
         Rule::Flag(flag) => {
-            let result = matched(&flag.matcher, text, &mut steps, || "rule".into());
+            let result = matched(&flag.matcher, text, &mut steps, || "rule".into())
+                .and_then(|hit| Ok(hit && !suppressed(&flag.unless, text, &mut steps)?));
             match result {
                 Ok(hit) => Outcome::plain(Cell::Bool(hit), hit),
                 Err(e) => Outcome::issue(Cell::Null, match_issue(e)),
@@ -196,6 +232,85 @@ fn matched(
     }
 }
 
+/// Whether an `unless` exception holds in the value (recorded as a step).
+fn suppressed(unless: &Option<Unless>, text: &str, steps: &mut Steps) -> Result<bool, MatchError> {
+    let Some(unless) = unless else {
+        return Ok(false);
+    };
+    let result = unless.matches(text);
+    record(steps, || Step {
+        what: "unless".into(),
+        matched: matches!(result, Ok(true)),
+        span: None,
+        text: None,
+        captures: Vec::new(),
+        error: result.as_ref().err().map(|e| e.to_string()),
+    });
+    result
+}
+
+/// The matches of a count's or measure's pattern, in order: only the
+/// first unless `all`. A match whose number (the first participating
+/// group of `number_groups`) starts right after a digit is skipped, and
+/// the search goes on from the next character: a number never starts
+/// inside a run of digits (`15/32` in `115/32`).
+fn number_matches(
+    pattern: &Pattern,
+    number_groups: &[usize],
+    text: &str,
+    all: bool,
+) -> Result<Vec<Found>, MatchError> {
+    let mut out = Vec::new();
+    let mut at = 0;
+    while at <= text.len() {
+        let Some(found) = pattern.find_at(text, at)? else {
+            break;
+        };
+        let number = number_group(&found, number_groups);
+        let inside_digits = number.is_some_and(|r| {
+            r.start > 0 && text.as_bytes()[r.start - 1].is_ascii_digit()
+        });
+        let next_char = |i: usize| i + text[i..].chars().next().map_or(1, char::len_utf8);
+        if inside_digits {
+            at = next_char(found.span.start);
+            continue;
+        }
+        at = if found.span.is_empty() { next_char(found.span.end) } else { found.span.end };
+        out.push(found);
+        if !all {
+            break;
+        }
+    }
+    Ok(out)
+}
+
+/// The first participating group among `candidates` (all groups when empty).
+fn number_group(found: &Found, candidates: &[usize]) -> Option<Range<usize>> {
+    if candidates.is_empty() {
+        return found.groups.iter().flatten().next().cloned();
+    }
+    candidates
+        .iter()
+        .filter_map(|&i| found.groups.get(i).cloned().flatten())
+        .next()
+}
+
+fn record_matches(steps: &mut Steps, text: &str, found: &Result<Vec<Found>, MatchError>) {
+    let Some(s) = steps else {
+        return;
+    };
+    match found {
+        Ok(list) if !list.is_empty() => {
+            for (i, f) in list.iter().enumerate() {
+                let what = if i == 0 { "rule".to_owned() } else { format!("rule, match {}", i + 1) };
+                s.push(Step::from_match(what, text, &Ok(Some(f.clone()))));
+            }
+        }
+        Ok(_) => s.push(Step::from_match("rule".into(), text, &Ok(None))),
+        Err(e) => s.push(Step::from_match("rule".into(), text, &Err(e.clone()))),
+    }
+}
+
 fn match_issue(e: MatchError) -> Issue {
     match e {
         MatchError::BacktrackLimit => Issue::BacktrackLimit,
@@ -215,16 +330,19 @@ fn first_group<'t>(
 }
 
 fn evaluate_count(rule: &CountRule, rules: &Ruleset, text: &str, mut steps: Steps) -> Outcome {
-    let result = rule.pattern.find(text);
-    record(&mut steps, || {
-        Step::from_match("rule".into(), text, &result)
-    });
+    let result = number_matches(&rule.pattern, &[], text, false);
+    record_matches(&mut steps, text, &result);
     let missing = rule.missing.map_or(Cell::Null, Cell::Int);
     let found = match result {
-        Ok(Some(found)) => found,
-        Ok(None) => return Outcome::plain(missing, false),
+        Ok(mut list) if !list.is_empty() => list.swap_remove(0),
+        Ok(_) => return Outcome::plain(missing, false),
         Err(e) => return Outcome::issue(Cell::Null, match_issue(e)),
     };
+    match suppressed(&rule.unless, text, &mut steps) {
+        Ok(true) => return Outcome::plain(missing, false),
+        Ok(false) => {}
+        Err(e) => return Outcome::issue(Cell::Null, match_issue(e)),
+    }
     let Some(captured) = first_group(&found, 0..found.groups.len(), text) else {
         return Outcome::plain(missing, false);
     };
@@ -248,48 +366,80 @@ fn evaluate_count(rule: &CountRule, rules: &Ruleset, text: &str, mut steps: Step
 }
 
 fn evaluate_measure(rule: &MeasureRule, rules: &Ruleset, text: &str, mut steps: Steps) -> Outcome {
-    let result = rule.pattern.find(text);
-    record(&mut steps, || {
-        Step::from_match("rule".into(), text, &result)
-    });
+    let all = rule.combine != Combine::First;
+    let result = number_matches(&rule.pattern, &rule.number_groups, text, all);
+    record_matches(&mut steps, text, &result);
     let missing = rule.missing.map_or(Cell::Null, Cell::Float);
     let found = match result {
-        Ok(Some(found)) => found,
-        Ok(None) => return Outcome::plain(missing, false),
+        Ok(list) if !list.is_empty() => list,
+        Ok(_) => return Outcome::plain(missing, false),
         Err(e) => return Outcome::issue(Cell::Null, match_issue(e)),
     };
-    let Some(number_text) = first_group(&found, rule.number_groups.iter().copied(), text) else {
+    match suppressed(&rule.unless, text, &mut steps) {
+        Ok(true) => return Outcome::plain(missing, false),
+        Ok(false) => {}
+        Err(e) => return Outcome::issue(Cell::Null, match_issue(e)),
+    }
+    let mut values = Vec::with_capacity(found.len());
+    for f in &found {
+        match measure_value(rule, rules, f, text) {
+            Ok(Some(v)) => values.push(v),
+            Ok(None) => {}
+            Err(issue) => return Outcome::issue(Cell::Null, issue),
+        }
+    }
+    if values.is_empty() {
         return Outcome::plain(missing, false);
+    }
+    let value = match rule.combine {
+        Combine::First => values[0],
+        Combine::Sum => values.iter().sum(),
+        Combine::Min => values.iter().copied().fold(f64::INFINITY, f64::min),
+        Combine::Max => values.iter().copied().fold(f64::NEG_INFINITY, f64::max),
     };
-    let Some(number) = parse_number(number_text, rules.decimal) else {
-        return Outcome::issue(
-            Cell::Null,
-            Issue::Unparsable {
-                text: number_text.to_owned(),
-            },
-        );
+    let limit = match rule.precision {
+        Precision::F32 => f64::from(f32::MAX),
+        Precision::F64 => f64::MAX,
     };
-    let factor = match first_group(&found, rule.unit_groups.iter().copied(), text) {
-        Some(unit) => match rule.factor(unit) {
-            Some(f) => f,
-            None => {
-                return Outcome::issue(
-                    Cell::Null,
-                    Issue::UnknownUnit {
-                        unit: unit.to_owned(),
-                    },
-                )
-            }
-        },
-        None => 1.0,
-    };
-    let value = number * factor;
+    if !value.is_finite() || value.abs() > limit {
+        let text = found
+            .iter()
+            .map(|f| text[f.span.clone()].to_owned())
+            .collect::<Vec<_>>()
+            .join(" + ");
+        return Outcome::issue(Cell::Null, Issue::NotFinite { text });
+    }
     match rule.range {
         Some((lo, hi)) if value < lo || value > hi => {
             Outcome::issue(Cell::Null, Issue::OutOfRange { value })
         }
         _ => Outcome::plain(Cell::Float(value), true),
     }
+}
+
+/// One match of a measure: its number times its unit's factor; `None`
+/// when no number group took part.
+fn measure_value(
+    rule: &MeasureRule,
+    rules: &Ruleset,
+    found: &Found,
+    text: &str,
+) -> Result<Option<f64>, Issue> {
+    let Some(number_text) = first_group(found, rule.number_groups.iter().copied(), text) else {
+        return Ok(None);
+    };
+    let Some(number) = parse_number(number_text, rules.decimal) else {
+        return Err(Issue::Unparsable {
+            text: number_text.to_owned(),
+        });
+    };
+    let factor = match first_group(found, rule.unit_groups.iter().copied(), text) {
+        Some(unit) => rule.factor(unit).ok_or_else(|| Issue::UnknownUnit {
+            unit: unit.to_owned(),
+        })?,
+        None => 1.0,
+    };
+    Ok(Some(number * factor))
 }
 
 fn evaluate_label(rule: &LabelRule, text: &str, mut steps: Steps) -> Outcome {
@@ -318,7 +468,8 @@ fn evaluate_label(rule: &LabelRule, text: &str, mut steps: Steps) -> Outcome {
     for case in &rule.cases {
         let result = matched(&case.matcher, text, &mut steps, || {
             format!("case \"{}\"", rule.categories[case.label as usize])
-        });
+        })
+        .and_then(|hit| Ok(hit && !suppressed(&case.unless, text, &mut steps)?));
         match result {
             Ok(true) => match chosen {
                 None => chosen = Some(case.label),

@@ -143,8 +143,12 @@ impl Macro {
             Macro::Num => {
                 // U+2044 FRACTION SLASH is what NFKC makes of "½" and friends.
                 let slash = r"[/\u{2044}]";
+                // A fraction has a numerator and a denominator of one or two
+                // digits: `208-230/460` is three numbers, not 208 230/460.
+                // The parser then takes only proper fractions with a
+                // denominator of at most 64.
                 format!(
-                    r"(?:\d+(?:-| )\d+{slash}\d+|\d+{slash}\d+|(?:{grouped}|\d+)?{d}\d+|{grouped}|\d+)"
+                    r"(?:\d+(?:-| )\d{{1,2}}{slash}\d{{1,2}}|\d{{1,2}}{slash}\d{{1,2}}|(?:{grouped}|\d+)?{d}\d+|{grouped}|\d+)"
                 )
             }
         }
@@ -156,7 +160,9 @@ impl Macro {
 ///
 /// Accepts plain integers, thousands separators, decimals (also `.75`),
 /// simple fractions `1/2`, mixed numbers `7-1/2` / `7 1/2`, and the number
-/// words of `{count}` ([`number_word`]).
+/// words of `{count}` ([`number_word`]). A fraction must be proper, with a
+/// denominator of at most [`MAX_DENOMINATOR`] (`3/4`, `15/32`, `7 1/2`):
+/// `230/460` and `7-9/8` are not numbers but two.
 ///
 /// ```
 /// use descry::numbers::{parse_number, DecimalMark};
@@ -182,21 +188,28 @@ pub fn parse_integer(text: &str, mark: DecimalMark) -> Option<i64> {
     in_range.then_some(value as i64)
 }
 
+/// The largest denominator of a fraction `{num}` reads (sixty-fourths of
+/// an inch are the finest fraction in common use; common practice).
+pub const MAX_DENOMINATOR: u32 = 64;
+
 fn parse_fraction_forms(text: &str) -> Option<f64> {
     let slash = text.find(['/', '\u{2044}'])?;
     let slash_len = text[slash..].chars().next()?.len_utf8();
     let (head, denominator) = (&text[..slash], &text[slash + slash_len..]);
     let denominator: f64 = digits_only(denominator)?;
-    if denominator == 0.0 {
-        return None;
-    }
+    let proper = |numerator: f64| {
+        (1.0..denominator).contains(&numerator) && denominator <= f64::from(MAX_DENOMINATOR)
+    };
     match head.rfind(['-', ' ']) {
         Some(sep) => {
             let whole: f64 = digits_only(&head[..sep])?;
             let numerator: f64 = digits_only(&head[sep + 1..])?;
-            Some(whole + numerator / denominator)
+            proper(numerator).then(|| whole + numerator / denominator)
         }
-        None => Some(digits_only(head)? / denominator),
+        None => {
+            let numerator = digits_only(head)?;
+            proper(numerator).then(|| numerator / denominator)
+        }
     }
 }
 
@@ -318,6 +331,23 @@ mod tests {
         // NFKC turns U+00BD "½" into "1⁄2" with U+2044 FRACTION SLASH (UnicodeData.txt).
         assert_eq!(parse_number("1\u{2044}2", P), Some(0.5));
         assert_eq!(parse_number("1/0", P), None);
+    }
+
+    #[test]
+    fn only_proper_fractions_with_small_denominators() {
+        // Common practice: fractions of an inch go down to sixty-fourths.
+        assert_eq!(parse_number("15/32", P), Some(15.0 / 32.0));
+        assert_eq!(parse_number("7 63/64", P), Some(7.0 + 63.0 / 64.0));
+        assert_eq!(parse_number("7-9/8", P), None, "improper");
+        assert_eq!(parse_number("1/65", P), None, "denominator above 64");
+        assert_eq!(parse_number("230/460", P), None);
+        assert_eq!(parse_number("0/4", P), None);
+        // `208-230/460` is three numbers: the mixed form never matches it.
+        let re = Regex::new(&Macro::Num.expansion(P)).unwrap();
+        let all: Vec<&str> = re.find_iter("208-230/460").map(|m| m.as_str()).collect();
+        assert_eq!(all, ["208", "230", "460"]);
+        let all: Vec<&str> = re.find_iter("7-1/2 x 3 3/4").map(|m| m.as_str()).collect();
+        assert_eq!(all, ["7-1/2", "3 3/4"]);
     }
 
     #[test]

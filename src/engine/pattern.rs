@@ -118,11 +118,17 @@ impl Pattern {
     }
 
     pub fn find(&self, text: &str) -> Result<Option<Found>, MatchError> {
+        self.find_at(text, 0)
+    }
+
+    /// The first match that starts at or after byte `start` (the text
+    /// before it still counts for `^`, `\b` and look-behind).
+    pub fn find_at(&self, text: &str, start: usize) -> Result<Option<Found>, MatchError> {
         match &self.engine {
             Engine::Plain(re) => Ok(re
-                .captures(text)
+                .captures_at(text, start)
                 .map(|c| found_from(c.len(), |i| c.get(i).map(|m| m.range())))),
-            Engine::Fancy(re) => match re.captures(text) {
+            Engine::Fancy(re) => match re.captures_from_pos(text, start) {
                 Ok(Some(c)) => Ok(Some(found_from(c.len(), |i| c.get(i).map(|m| m.range())))),
                 Ok(None) => Ok(None),
                 Err(e) => Err(fancy_runtime_error(e)),

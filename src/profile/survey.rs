@@ -30,7 +30,7 @@ use unicode_normalization::UnicodeNormalization;
 use crate::normalize::Normalizer;
 use crate::render::{shown, thousands};
 use crate::shape::{
-    class, is_bidi_control, is_zero_width, letters_and_digits, shape, tokens, CharClass,
+    class, digit_signature, is_bidi_control, is_zero_width, letters_and_digits, shape, tokens, CharClass,
 };
 use crate::vocabulary::Vocabulary;
 
@@ -583,12 +583,16 @@ fn anomalies(
         &case_groups,
         examples,
     );
-    // Punctuation variants: same letters and digits, different normalized values.
+    // Punctuation variants: same letters and digits, and the same digit
+    // runs (`67` and `6.7` are different numbers), different normalized values.
     let punct_groups = variant_groups(
         vocab,
         profiles,
         by_rows,
-        |i| letters_and_digits(&profiles[i].normalized),
+        |i| {
+            let n = &profiles[i].normalized;
+            format!("{}\u{0}{}", digit_signature(n), letters_and_digits(n))
+        },
         |i| profiles[i].normalized.clone(),
     );
     fill_groups(
@@ -919,6 +923,17 @@ mod tests {
         assert_eq!(case.examples[0].variants.len(), 2);
         let punct = anomaly(&r, AnomalyKind::PunctuationVariants);
         assert_eq!((punct.groups, punct.distinct), (Some(1), 3));
+    }
+
+    #[test]
+    fn punctuation_variants_keep_numbers_apart() {
+        // `67` and `6.7` differ only by a period, but name different numbers.
+        let r = run(&[Some("67 hp"), Some("6.7 hp"), Some("6,7 hp"), Some("2.5-ton"), Some("2.5 ton")]);
+        let punct = anomaly(&r, AnomalyKind::PunctuationVariants);
+        // {6.7 hp, 6,7 hp} (the same digits) and {2.5-ton, 2.5 ton}.
+        assert_eq!((punct.groups, punct.distinct), (Some(2), 4), "{:?}", punct.examples);
+        let shown = format!("{:?}", punct.examples);
+        assert!(!shown.contains("\"67 hp\""), "{shown}");
     }
 
     #[test]

@@ -96,7 +96,16 @@ impl Draft {
                 .to_string()
                 .trim()
         );
-        let _ = writeln!(out, "decimal = \".\"\n");
+        let _ = writeln!(out, "decimal = \".\"");
+        if !self.placeholders.is_empty() {
+            let _ = writeln!(
+                out,
+                "# values that mean \"no information\": every feature of theirs is null, and they are\n\
+                 # left out of coverage (found in the column among the usual placeholder spellings)"
+            );
+            let _ = writeln!(out, "placeholders = {}", toml_list(&self.placeholders));
+        }
+        out.push('\n');
         let n = &self.normalizer;
         let _ = writeln!(out, "[normalize]");
         let unicode = match n.unicode {

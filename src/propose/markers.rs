@@ -129,7 +129,13 @@ fn scan(entry: u32, value: &str) -> (Vec<Seen>, Vec<UnitSeen>) {
         if leading_zero || code_like {
             continue;
         }
-        let Some(number) = parse_number(text, DecimalMark::Point) else {
+        // `12/12` is no proper fraction, so the parser refuses it whole: it
+        // is two counts, and its first number is read below.
+        let leading = || {
+            let cut = text.find(['/', ' ', '-'])?;
+            parse_number(&text[..cut], DecimalMark::Point)
+        };
+        let Some(number) = parse_number(text, DecimalMark::Point).or_else(leading) else {
             continue;
         };
         if let Some(c) = UNIT_AFTER.captures(rest) {
@@ -632,9 +638,16 @@ fn measures(
         let unseen: Vec<usize> = (0..UNITS.len())
             .filter(|u| UNITS[*u].quantity == quantity && !seen_units.contains(u))
             .collect();
+        // Spellings that normalize alike (`cm³` is `cm3` under NFKC) are
+        // one key of `units`: the first one seen is kept.
+        let mut keys = HashSet::new();
         let factors: Vec<UnitFactor> = seen_units
             .iter()
             .chain(&unseen)
+            .filter(|&&u| {
+                let key = opts.normalizer.apply(UNITS[u].spelling);
+                keys.insert(crate::ruleset::unit_key(&key).to_owned())
+            })
             .map(|&u| UnitFactor {
                 spelling: UNITS[u].spelling.to_owned(),
                 factor: UNITS[u].factor / target.factor,

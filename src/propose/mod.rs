@@ -171,6 +171,9 @@ pub struct Draft {
     pub proposals: Vec<Proposal>,
     /// Pairs of rules that read the same text of some values.
     pub overlaps: Vec<Overlap>,
+    /// The placeholder values found (normalized), most rows first: written
+    /// into the draft's `placeholders`.
+    pub placeholders: Vec<String>,
 }
 
 /// One proposed rule.
@@ -255,6 +258,8 @@ pub(crate) struct Corpus<'a> {
     pub normalized: Vec<String>,
     pub rows: Vec<u64>,
     pub total_rows: u64,
+    /// Placeholder forms found, with their rows.
+    pub placeholders: Vec<(String, u64)>,
 }
 
 impl Corpus<'_> {
@@ -460,9 +465,15 @@ impl<'a> Corpus<'a> {
             normalized: Vec::new(),
             rows: Vec::new(),
             total_rows: 0,
+            placeholders: Vec::new(),
         };
+        let mut found: hashbrown::HashMap<String, u64> = hashbrown::HashMap::new();
         for (i, form) in normalized.into_iter().enumerate() {
-            if form.is_empty() || is_placeholder(&form, &placeholders) {
+            if form.is_empty() {
+                continue;
+            }
+            if is_placeholder(&form, &placeholders) {
+                *found.entry(form).or_default() += vocab.counts[i];
                 continue;
             }
             corpus.index.push(i as u32);
@@ -470,6 +481,10 @@ impl<'a> Corpus<'a> {
             corpus.total_rows += vocab.counts[i];
             corpus.normalized.push(form);
         }
+        corpus.placeholders = found.into_iter().collect();
+        corpus
+            .placeholders
+            .sort_by(|a, b| b.1.cmp(&a.1).then_with(|| a.0.cmp(&b.0)));
         corpus
     }
 }
@@ -516,6 +531,7 @@ fn mine(corpus: &Corpus, column: &str, opts: &ProposeOptions) -> Draft {
         rows_considered: corpus.total_rows,
         proposals,
         overlaps: Vec::new(),
+        placeholders: corpus.placeholders.iter().map(|(p, _)| p.clone()).collect(),
     }
 }
 

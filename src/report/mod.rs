@@ -9,7 +9,7 @@ pub mod render;
 use serde::Serialize;
 
 use crate::evaluate::{Cell, Evaluation, Issue, Outcome};
-use crate::ruleset::{Expected, Feature, Rule, Ruleset};
+use crate::ruleset::{Expected, Feature, Rule, Ruleset, RulesetWarning, ValueKind};
 use crate::vocabulary::Vocabulary;
 
 /// The JSON schema's name and version; bumped on any incompatible change.
@@ -26,6 +26,9 @@ pub struct CoverageReport {
     /// Rows whose value is empty after normalization.
     pub blank_rows: u64,
     pub blank_distinct: u64,
+    /// Rows (values) that are one of the ruleset's placeholders.
+    pub placeholder_rows: u64,
+    pub placeholder_distinct: u64,
     pub coverage: Coverage,
     pub rules: Vec<RuleReport>,
     /// Non-blank values on which no rule fired, most rows first.
@@ -37,9 +40,39 @@ pub struct CoverageReport {
     pub issues: Vec<ValueIssue>,
     pub examples: Vec<ExampleResult>,
     pub examples_failed: usize,
+    /// The placeholder values found, most rows first.
+    pub placeholders: Vec<ValueRows>,
+    /// Likely slips in the ruleset (an `any` literal that looks like a
+    /// pattern), as `file:line: rule ...: message`.
+    pub warnings: Vec<String>,
+    /// The gates asked for (`--min-coverage`, `--require`) and the
+    /// examples, each passed or failed with its reason.
+    pub gates: Vec<Gate>,
+    /// Whether every gate passed.
+    pub passed: bool,
 }
 
-/// Coverage over non-null, non-blank rows and distinct values.
+/// One gate of `check` and its outcome.
+#[derive(Debug, Clone, Serialize, PartialEq)]
+pub struct Gate {
+    /// `min_coverage`, `require` or `examples`.
+    pub gate: &'static str,
+    /// For `require`: the feature's output column.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub feature: Option<String>,
+    /// The least share asked for (`min_coverage`, `require`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub threshold: Option<f64>,
+    /// The share measured; null when there was nothing to measure.
+    pub value: Option<f64>,
+    pub passed: bool,
+    /// Why it failed, in one line.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub reason: Option<String>,
+}
+
+/// Coverage over non-null, non-blank, non-placeholder rows and distinct
+/// values.
 #[derive(Debug, Clone, Copy, Serialize, PartialEq)]
 pub struct Coverage {
     pub rows_considered: u64,
@@ -61,6 +94,7 @@ pub struct RuleReport {
     pub out_of_range: Tally,
     pub unparsable: Tally,
     pub unknown_unit: Tally,
+    pub not_finite: Tally,
     pub backtrack_limit: Tally,
 }
 
@@ -133,6 +167,8 @@ impl CoverageReport {
             null_rows: vocab.null_rows,
             blank_rows: 0,
             blank_distinct: 0,
+            placeholder_rows: 0,
+            placeholder_distinct: 0,
             coverage: Coverage::default(),
             rules: rules.features.iter().map(RuleReport::new).collect(),
             unmatched: Vec::new(),
@@ -141,6 +177,10 @@ impl CoverageReport {
             issues: Vec::new(),
             examples: check_examples(rules),
             examples_failed: 0,
+            placeholders: Vec::new(),
+            warnings: rules.warnings.iter().map(RulesetWarning::to_string).collect(),
+            gates: Vec::new(),
+            passed: true,
         };
         for (i, value) in vocab.values.iter().enumerate() {
             report.add_value(
@@ -163,10 +203,23 @@ impl CoverageReport {
         rows: u64,
         outcomes: &[Outcome],
     ) {
-        if normalized.is_empty() {
-            self.blank_rows += rows;
-            self.blank_distinct += 1;
-            return;
+        match rules.kind_of(normalized) {
+            ValueKind::Blank => {
+                self.blank_rows += rows;
+                self.blank_distinct += 1;
+                return;
+            }
+            ValueKind::Placeholder => {
+                self.placeholder_rows += rows;
+                self.placeholder_distinct += 1;
+                self.placeholders.push(ValueRows {
+                    value: value.to_owned(),
+                    normalized: normalized.to_owned(),
+                    rows,
+                });
+                return;
+            }
+            ValueKind::Considered => {}
         }
         self.coverage.rows_considered += rows;
         self.coverage.distinct_considered += 1;
@@ -221,6 +274,8 @@ impl CoverageReport {
         c.distinct_share = share(c.distinct_covered, c.distinct_considered);
         self.unmatched
             .sort_by(|a, b| b.rows.cmp(&a.rows).then_with(|| a.value.cmp(&b.value)));
+        self.placeholders
+            .sort_by(|a, b| b.rows.cmp(&a.rows).then_with(|| a.value.cmp(&b.value)));
         self.conflicts
             .sort_by(|a, b| b.rows.cmp(&a.rows).then_with(|| a.value.cmp(&b.value)));
         self.issues
@@ -234,12 +289,112 @@ impl CoverageReport {
         self.examples_failed = self.examples.iter().filter(|e| !e.passed).count();
     }
 
-    /// The gate: coverage at least `min_coverage` (when given) and every
-    /// example passing.
+    /// Judge the gates: coverage of rows at least `min_coverage`, each
+    /// `(feature, share)` of `require` firing on at least that share of the
+    /// considered rows, and every example passing. A column with nothing
+    /// to cover fails a share gate: there is no share to judge. Sets
+    /// `gates` and `passed`; a feature `require` names that the ruleset does
+    /// not have is the caller's error to report first.
+    pub fn judge(&mut self, rules: &Ruleset, min_coverage: Option<f64>, require: &[(usize, f64)]) {
+        let considered = self.coverage.rows_considered;
+        let nothing = || {
+            format!(
+                "column {} has no rows to cover ({} rows: {} null, {} blank, {} placeholder)",
+                crate::render::shown(&self.column),
+                self.rows,
+                self.null_rows,
+                self.blank_rows,
+                self.placeholder_rows
+            )
+        };
+        let mut gates = Vec::new();
+        if let Some(min) = min_coverage {
+            let value = (considered > 0).then_some(self.coverage.row_share);
+            let reason = match value {
+                None => Some(format!("--min-coverage {}: {}", percent_of(min), nothing())),
+                Some(v) if v < min => {
+                    let (v, m) = percents_apart(v, min);
+                    Some(format!("coverage {v} of rows is below --min-coverage {m}"))
+                }
+                Some(_) => None,
+            };
+            gates.push(Gate {
+                gate: "min_coverage",
+                feature: None,
+                threshold: Some(min),
+                value,
+                passed: reason.is_none(),
+                reason,
+            });
+        }
+        for &(index, min) in require {
+            let feature = &rules.features[index];
+            let hit = self.rules[index].rows_hit;
+            let value = (considered > 0).then(|| hit as f64 / considered as f64);
+            let reason = match value {
+                None => Some(format!("--require {}={}: {}", feature.output, min, nothing())),
+                Some(v) if v < min => {
+                    let (v, m) = percents_apart(v, min);
+                    Some(format!(
+                        "{} fires on {v} of rows ({} of {}), below --require {}={m}",
+                        feature.output, hit, considered, feature.output
+                    ))
+                }
+                Some(_) => None,
+            };
+            gates.push(Gate {
+                gate: "require",
+                feature: Some(feature.output.clone()),
+                threshold: Some(min),
+                value,
+                passed: reason.is_none(),
+                reason,
+            });
+        }
+        if !self.examples.is_empty() {
+            let failed = self.examples_failed;
+            gates.push(Gate {
+                gate: "examples",
+                feature: None,
+                threshold: None,
+                value: Some((self.examples.len() - failed) as f64 / self.examples.len() as f64),
+                passed: failed == 0,
+                reason: (failed > 0).then(|| format!("{failed} of {} examples failed", self.examples.len())),
+            });
+        }
+        self.passed = gates.iter().all(|g| g.passed);
+        self.gates = gates;
+    }
+
+    /// The gate on coverage and examples alone (see [`CoverageReport::judge`]).
     pub fn passes(&self, min_coverage: Option<f64>) -> bool {
-        let coverage_ok = min_coverage.is_none_or(|min| self.coverage.row_share >= min);
+        let coverage_ok = min_coverage.is_none_or(|min| {
+            self.coverage.rows_considered > 0 && self.coverage.row_share >= min
+        });
         coverage_ok && self.examples_failed == 0
     }
+}
+
+fn percent_of(share: f64) -> String {
+    format!("{:.2}%", share * 100.0)
+}
+
+/// Two shares as percentages with enough decimals to tell them apart
+/// (`99.95%` and `99.96%`, not `100.00%` and `100.00%`).
+pub fn percents_apart(a: f64, b: f64) -> (String, String) {
+    // Enough digits that the two differ and the threshold is shown as
+    // given (99.995% must not show as 100.00%).
+    let exact = |x: f64, digits: usize| {
+        let shown: f64 = format!("{:.*}", digits, x * 100.0).parse().unwrap_or(f64::NAN);
+        (shown - x * 100.0).abs() < 1e-9
+    };
+    for digits in 2..=12 {
+        let (x, y) = (format!("{:.*}%", digits, a * 100.0), format!("{:.*}%", digits, b * 100.0));
+        if a == b || (x != y && exact(b, digits)) {
+            return (x, y);
+        }
+    }
+    (format!("{}%", a * 100.0), format!("{}%", b * 100.0))
 }
 
 /// `part / whole`, and 1 when there is nothing to cover.
@@ -276,6 +431,7 @@ impl RuleReport {
             out_of_range: Tally::default(),
             unparsable: Tally::default(),
             unknown_unit: Tally::default(),
+            not_finite: Tally::default(),
             backtrack_limit: Tally::default(),
         }
     }
@@ -285,6 +441,7 @@ impl RuleReport {
             Issue::OutOfRange { .. } => &mut self.out_of_range,
             Issue::Unparsable { .. } => &mut self.unparsable,
             Issue::UnknownUnit { .. } => &mut self.unknown_unit,
+            Issue::NotFinite { .. } => &mut self.not_finite,
             Issue::BacktrackLimit | Issue::MatchFailed { .. } => &mut self.backtrack_limit,
         }
     }

@@ -10,11 +10,25 @@ use comfy_table::{presets, CellAlignment, ContentArrangement, Table};
 
 use crate::evaluate::{Cell, Trace};
 use crate::report::{cell_json, CoverageReport};
-use crate::ruleset::Ruleset;
+use crate::ruleset::{Ruleset, ValueKind};
 use crate::shape::is_invisible;
 
 /// Longest value shown in full in a text report, in characters.
 pub const SHOWN_MAX_CHARS: usize = 120;
+
+/// A name (a column, a rule, a label) as shown in a message: control
+/// characters and other invisibles escaped as in [`shown`], no quotes, not cut.
+pub fn escaped(name: &str) -> String {
+    let mut out = String::with_capacity(name.len());
+    for c in name.chars() {
+        if c.is_control() || is_invisible(c) {
+            let _ = write!(out, "\\u{{{:x}}}", c as u32);
+        } else {
+            out.push(c);
+        }
+    }
+    out
+}
 
 /// A value quoted, with control characters and other invisibles escaped,
 /// and cut after [`SHOWN_MAX_CHARS`] characters (JSON reports keep it whole).
@@ -83,12 +97,14 @@ pub fn check_text(r: &CoverageReport, top: usize) -> String {
     let _ = writeln!(out, "ruleset {}  column {}", r.ruleset, shown(&r.column));
     let _ = writeln!(
         out,
-        "rows {}  distinct {}  null {}  blank {} ({} distinct)",
+        "rows {}  distinct {}  null {}  blank {} ({} distinct)  placeholder {} ({} distinct)",
         thousands(r.rows),
         thousands(r.distinct),
         thousands(r.null_rows),
         thousands(r.blank_rows),
-        thousands(r.blank_distinct)
+        thousands(r.blank_distinct),
+        thousands(r.placeholder_rows),
+        thousands(r.placeholder_distinct)
     );
     let _ = writeln!(
         out,
@@ -100,10 +116,19 @@ pub fn check_text(r: &CoverageReport, top: usize) -> String {
         thousands(c.distinct_covered),
         thousands(c.distinct_considered)
     );
+    for w in &r.warnings {
+        let _ = writeln!(out, "warning: {w}");
+    }
+    if !r.warnings.is_empty() {
+        out.push('\n');
+    }
     out.push_str(&rules_table(r));
-    unmatched_section(&mut out, r, top);
-    issues_section(&mut out, r, top);
-    conflicts_section(&mut out, r, top);
+    if top > 0 {
+        placeholders_section(&mut out, r, top);
+        unmatched_section(&mut out, r, top);
+        issues_section(&mut out, r, top);
+        conflicts_section(&mut out, r, top);
+    }
     if !r.silent_rules.is_empty() {
         let _ = writeln!(
             out,
@@ -112,7 +137,35 @@ pub fn check_text(r: &CoverageReport, top: usize) -> String {
         );
     }
     examples_section(&mut out, r);
+    gates_section(&mut out, r);
     out
+}
+
+fn gates_section(out: &mut String, r: &CoverageReport) {
+    let asked: Vec<_> = r.gates.iter().filter(|g| g.gate != "examples").collect();
+    if asked.is_empty() {
+        return;
+    }
+    let failed = asked.iter().filter(|g| !g.passed).count();
+    let _ = writeln!(out, "\ngates: {} passed, {failed} failed", asked.len() - failed);
+    for g in asked {
+        let what = match &g.feature {
+            Some(f) => format!("--require {}={}", escaped(f), g.threshold.unwrap_or(0.0)),
+            None => format!("--min-coverage {}", g.threshold.unwrap_or(0.0)),
+        };
+        match &g.reason {
+            Some(reason) => {
+                let _ = writeln!(out, "  FAILED {what}: {reason}");
+            }
+            None => {
+                let _ = writeln!(
+                    out,
+                    "  passed {what}: {}",
+                    g.value.map_or("-".to_owned(), |v| format!("{:.2}%", v * 100.0))
+                );
+            }
+        }
+    }
 }
 
 fn rules_table(r: &CoverageReport) -> String {
@@ -126,12 +179,13 @@ fn rules_table(r: &CoverageReport) -> String {
         "out of range",
         "unparsable",
         "unknown unit",
+        "too large",
         "backtrack",
     ]);
     let considered = r.coverage.rows_considered.max(1) as f64;
     for rule in &r.rules {
         t.add_row(vec![
-            rule.output.clone(),
+            escaped(&rule.output),
             rule.kind.to_owned(),
             rule.line.to_string(),
             thousands(rule.distinct_hit),
@@ -140,18 +194,38 @@ fn rules_table(r: &CoverageReport) -> String {
             thousands(rule.out_of_range.rows),
             thousands(rule.unparsable.rows),
             thousands(rule.unknown_unit.rows),
+            thousands(rule.not_finite.rows),
             thousands(rule.backtrack_limit.rows),
         ]);
     }
-    right_align(&mut t, 2..10);
+    right_align(&mut t, 2..11);
     format!("{}\n", t.trim_fmt())
+}
+
+fn placeholders_section(out: &mut String, r: &CoverageReport, top: usize) {
+    if r.placeholders.is_empty() {
+        return;
+    }
+    let listed: Vec<String> = r
+        .placeholders
+        .iter()
+        .take(top)
+        .map(|p| format!("{} ({})", shown(&p.value), thousands(p.rows)))
+        .collect();
+    let more = r.placeholders.len().saturating_sub(top);
+    let _ = writeln!(
+        out,
+        "\nplaceholders (every feature null, left out of coverage): {}{}",
+        listed.join(", "),
+        if more > 0 { format!(" and {more} more") } else { String::new() }
+    );
 }
 
 fn unmatched_section(out: &mut String, r: &CoverageReport, top: usize) {
     if r.unmatched.is_empty() {
         let _ = writeln!(
             out,
-            "\nevery non-blank value is matched by at least one rule"
+            "\nevery value with text is matched by at least one rule"
         );
         return;
     }
@@ -183,7 +257,7 @@ fn issues_section(out: &mut String, r: &CoverageReport, top: usize) {
     for i in r.issues.iter().take(top) {
         t.add_row(vec![
             thousands(i.rows),
-            i.rule.clone(),
+            escaped(&i.rule),
             shown(&i.value),
             i.issue.to_string(),
         ]);
@@ -205,10 +279,10 @@ fn conflicts_section(out: &mut String, r: &CoverageReport, top: usize) {
     for c in r.conflicts.iter().take(top) {
         t.add_row(vec![
             thousands(c.rows),
-            c.rule.clone(),
+            escaped(&c.rule),
             shown(&c.value),
-            c.chosen.clone(),
-            c.also.join(", "),
+            escaped(&c.chosen),
+            c.also.iter().map(|a| escaped(a)).collect::<Vec<_>>().join(", "),
         ]);
     }
     right_align(&mut t, 0..1);
@@ -238,11 +312,38 @@ fn examples_section(out: &mut String, r: &CoverageReport) {
 }
 
 /// `explain` for one value as text.
-pub fn explain_text(rules: &Ruleset, value: &str, normalized: &str, traces: &[Trace]) -> String {
+/// `explain` for one value as text; with `fired_only`, only the features
+/// that fired are shown.
+pub fn explain_text(
+    rules: &Ruleset,
+    value: &str,
+    normalized: &str,
+    traces: &[Trace],
+    fired_only: bool,
+) -> String {
     let mut out = String::new();
     let _ = writeln!(out, "value      {}", shown(value));
     let _ = writeln!(out, "normalized {}", shown(normalized));
+    match rules.kind_of(normalized) {
+        ValueKind::Blank => {
+            let _ = writeln!(out, "  blank: every feature is null");
+            return out;
+        }
+        ValueKind::Placeholder => {
+            let _ = writeln!(
+                out,
+                "  placeholder: every feature is null, and the value is left out of coverage"
+            );
+            return out;
+        }
+        ValueKind::Considered => {}
+    }
+    let mut shown_any = false;
     for (feature, trace) in rules.features.iter().zip(traces) {
+        if fired_only && !trace.outcome.fired {
+            continue;
+        }
+        shown_any = true;
         let result = match trace.outcome.cell {
             Cell::Null => "null".to_owned(),
             cell => cell_json(feature, cell).to_string(),
@@ -255,13 +356,13 @@ pub fn explain_text(rules: &Ruleset, value: &str, normalized: &str, traces: &[Tr
         let _ = writeln!(
             out,
             "  {} [{}] {fired} -> {result}",
-            feature.output,
+            escaped(&feature.output),
             feature.rule.kind()
         );
         for step in &trace.steps {
             let _ = write!(out, "      {:<18} ", step.what);
-            match (&step.span, &step.text) {
-                (Some(span), Some(text)) => {
+            match (step.matched, &step.span, &step.text) {
+                (true, Some(span), Some(text)) => {
                     let _ = write!(
                         out,
                         "matched {} at {}..{}",
@@ -270,7 +371,8 @@ pub fn explain_text(rules: &Ruleset, value: &str, normalized: &str, traces: &[Tr
                         span.end
                     );
                 }
-                _ => out.push_str("no match"),
+                (true, _, _) => out.push_str("matched"),
+                (false, _, _) => out.push_str("no match"),
             }
             let caps: Vec<String> = step
                 .captures
@@ -288,6 +390,9 @@ pub fn explain_text(rules: &Ruleset, value: &str, normalized: &str, traces: &[Tr
         if let Some(issue) = &trace.outcome.issue {
             let _ = writeln!(out, "      note: {issue}");
         }
+    }
+    if fired_only && !shown_any {
+        let _ = writeln!(out, "  no rule fired");
     }
     out
 }

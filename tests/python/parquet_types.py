@@ -33,7 +33,14 @@ def main(path: str, expect_path: str) -> int:
             if cats != want["categories"]:
                 failures.append(f"{name}: pandas categories {cats}; want {want['categories']}")
                 continue
-            print(f"ok {name}: {arrow_type} -> pandas category {cats}")
+            # Labels are nominal: neither Arrow's dictionary nor pandas'
+            # categorical may claim an order.
+            if arrow_type.ordered or frame[name].cat.ordered:
+                failures.append(
+                    f"{name}: arrow ordered={arrow_type.ordered}, pandas ordered={frame[name].cat.ordered}; want unordered"
+                )
+                continue
+            print(f"ok {name}: {arrow_type} (unordered) -> pandas category {cats}, ordered=False")
         else:
             if str(arrow_type) != want["arrow"]:
                 failures.append(f"{name}: arrow type {arrow_type}; want {want['arrow']}")

@@ -1,6 +1,6 @@
 //! Checking a ruleset as a whole and compiling its matchers.
 
-use hashbrown::HashMap;
+use hashbrown::{HashMap, HashSet};
 use indexmap::IndexMap;
 use toml::Spanned;
 
@@ -12,14 +12,19 @@ use crate::pattern::Literals;
 struct Place<'a> {
     file: &'a str,
     text: &'a str,
+    /// Byte offset of every line break, to find a line in log time (a
+    /// `map` of 70,000 keys asks for 70,000 lines).
+    breaks: Vec<usize>,
 }
 
 impl Place<'_> {
+    fn new<'a>(file: &'a str, text: &'a str) -> Place<'a> {
+        let breaks = text.match_indices('\n').map(|(i, _)| i).collect();
+        Place { file, text, breaks }
+    }
+
     fn line_of(&self, offset: usize) -> usize {
-        self.text[..offset.min(self.text.len())]
-            .matches('\n')
-            .count()
-            + 1
+        self.breaks.partition_point(|&b| b < offset) + 1
     }
 
     fn err(
@@ -36,20 +41,23 @@ impl Place<'_> {
 
 pub(super) fn compile(text: &str, file: &str) -> Result<Ruleset, RulesetError> {
     let spec: RulesetSpec = toml::from_str(text).map_err(|e| toml_error(file, text, e))?;
-    let place = Place { file, text };
+    let place = Place::new(file, text);
+    let mut warnings = Vec::new();
     let mut features = Vec::new();
     for f in &spec.flag {
-        features.push(compile_flag(&place, &spec, f)?);
+        features.push(compile_flag(&place, &spec, f, &mut warnings)?);
     }
     for c in &spec.count {
-        features.push(compile_count(&place, &spec, c)?);
+        features.push(compile_count(&place, &spec, c, &mut warnings)?);
     }
     for m in &spec.measure {
-        features.push(compile_measure(&place, &spec, m)?);
+        features.push(compile_measure(&place, &spec, m, &mut warnings)?);
     }
     for l in &spec.label {
-        features.push(compile_label(&place, &spec, l)?);
+        features.push(compile_label(&place, &spec, l, &mut warnings)?);
     }
+    warnings.sort_by_key(|w: &RulesetWarning| w.line);
+    let (placeholders, placeholder_pattern) = compile_placeholders(&place, &spec)?;
     features.sort_by_key(|f| f.line);
     check_unique_outputs(&place, &features)?;
     let column = spec.column.clone();
@@ -59,8 +67,11 @@ pub(super) fn compile(text: &str, file: &str) -> Result<Ruleset, RulesetError> {
         prefix: spec.prefix.clone(),
         decimal: spec.decimal,
         normalizer: spec.normalize.clone(),
+        placeholders,
+        placeholder_pattern,
         features,
         examples: Vec::new(),
+        warnings,
     };
     ruleset.examples = spec
         .example
@@ -144,6 +155,14 @@ fn pattern(
     })
 }
 
+/// Where a rule is and what it reads: passed to the helpers that compile
+/// its parts.
+struct At<'a> {
+    title: &'a str,
+    line: usize,
+    fancy: bool,
+}
+
 /// `any` literals or a `pattern`, exactly one of them.
 fn matcher(
     place: &Place,
@@ -153,7 +172,11 @@ fn matcher(
     pat: &Option<String>,
     fancy: bool,
     spec: &RulesetSpec,
+    warnings: &mut Vec<RulesetWarning>,
 ) -> Result<Matcher, RulesetError> {
+    if let Some(words) = any {
+        warn_pattern_like(place, title, line, "any", words, warnings);
+    }
     match (any, pat) {
         (Some(_), Some(_)) => Err(place
             .err(
@@ -196,15 +219,120 @@ fn literals(
         .map_err(|e| place.err(Some(title.into()), Some(line), format!("`any`: {e}")))
 }
 
-fn compile_flag(place: &Place, spec: &RulesetSpec, f: &FlagSpec) -> Result<Feature, RulesetError> {
+/// A literal that holds regex syntax was probably meant as a pattern:
+/// `any` matches it letter for letter.
+fn warn_pattern_like(
+    place: &Place,
+    title: &str,
+    line: usize,
+    key: &str,
+    words: &[String],
+    warnings: &mut Vec<RulesetWarning>,
+) {
+    const SYNTAX: &[&str] = &["|", "\\d", "\\s", "\\w", "\\b", ".*", ".+", "[", "]", "(?", "^", "$"];
+    for w in words {
+        if let Some(found) = SYNTAX.iter().find(|s| w.contains(*s)) {
+            let suggestion = if key == "any" { "pattern" } else { "unless_pattern" };
+            warnings.push(RulesetWarning {
+                file: place.file.to_owned(),
+                line,
+                rule: title.to_owned(),
+                message: format!(
+                    "`{key}` literal {} holds {found:?}, which `{key}` matches letter for letter; \
+                     if it is a regular expression, write it as `{suggestion}` instead",
+                    crate::render::shown(w)
+                ),
+            });
+        }
+    }
+}
+
+/// `unless_any` and `unless_pattern`, either or both.
+fn unless(
+    place: &Place,
+    at: &At,
+    any: &Option<Vec<String>>,
+    pat: &Option<String>,
+    spec: &RulesetSpec,
+    warnings: &mut Vec<RulesetWarning>,
+) -> Result<Option<Unless>, RulesetError> {
+    if any.is_none() && pat.is_none() {
+        return Ok(None);
+    }
+    let literals = match any {
+        Some(words) => {
+            warn_pattern_like(place, at.title, at.line, "unless_any", words, warnings);
+            Some(literals(place, at.title, at.line, words, spec).map_err(|mut e| {
+                e.message = e.message.replace("`any`", "`unless_any`");
+                e
+            })?)
+        }
+        None => None,
+    };
+    let pattern = match pat {
+        Some(p) => Some(pattern(place, at.title, at.line, p, at.fancy, spec)?),
+        None => None,
+    };
+    Ok(Some(Unless { literals, pattern }))
+}
+
+fn compile_flag(
+    place: &Place,
+    spec: &RulesetSpec,
+    f: &FlagSpec,
+    warnings: &mut Vec<RulesetWarning>,
+) -> Result<Feature, RulesetError> {
     let (title, line) = named(place, "flag", &f.name)?;
-    let matcher = matcher(place, &title, line, &f.any, &f.pattern, f.fancy, spec)?;
+    let matcher = matcher(place, &title, line, &f.any, &f.pattern, f.fancy, spec, warnings)?;
+    let at = At { title: &title, line, fancy: f.fancy };
+    let unless = unless(place, &at, &f.unless_any, &f.unless_pattern, spec, warnings)?;
     Ok(feature(
         spec,
         &f.name,
         line,
-        Rule::Flag(FlagRule { matcher }),
+        Rule::Flag(FlagRule { matcher, unless }),
     ))
+}
+
+/// The `placeholders` list (normalized) and the `placeholder_pattern`,
+/// matched against the whole normalized value.
+fn compile_placeholders(
+    place: &Place,
+    spec: &RulesetSpec,
+) -> Result<(HashSet<String>, Option<Pattern>), RulesetError> {
+    let line = |key: &str| {
+        place
+            .text
+            .lines()
+            .position(|l| l.trim_start().starts_with(key))
+            .map(|i| i + 1)
+    };
+    let mut set = HashSet::new();
+    for p in spec.placeholders.iter().flatten() {
+        let form = spec.normalize.apply(p);
+        if form.is_empty() {
+            return Err(place
+                .err(None, line("placeholders"), "`placeholders` holds a blank value")
+                .hint("blank values are already treated as placeholders; list only values with text"));
+        }
+        set.insert(form);
+    }
+    let pattern = match &spec.placeholder_pattern {
+        None => None,
+        Some(source) => {
+            let at = line("placeholder_pattern");
+            let locate = |mut e: RulesetError| {
+                e.file = place.file.to_owned();
+                e.rule = Some("placeholder_pattern".to_owned());
+                e.line = at;
+                e
+            };
+            // Checked as written (errors point into it), then anchored.
+            Pattern::compile(source, false, spec.decimal).map_err(locate)?;
+            Some(Pattern::compile(&format!("^(?:{source})$"), false, spec.decimal).map_err(locate)?)
+        }
+    };
+    Ok((set, pattern))
 }
 
 fn required_pattern<'a>(
@@ -256,6 +384,7 @@ fn compile_count(
     place: &Place,
     spec: &RulesetSpec,
     c: &CountSpec,
+    warnings: &mut Vec<RulesetWarning>,
 ) -> Result<Feature, RulesetError> {
     let (title, line) = named(place, "count", &c.name)?;
     let source = required_pattern(place, &title, line, &c.pattern)?;
@@ -276,10 +405,13 @@ fn compile_count(
         Some([lo, hi]) => Some((lo, hi)),
         None => None,
     };
+    let at = At { title: &title, line, fancy: c.fancy };
+    let unless = unless(place, &at, &c.unless_any, &c.unless_pattern, spec, warnings)?;
     let rule = CountRule {
         pattern,
         range,
         missing: c.missing,
+        unless,
     };
     Ok(feature(spec, &c.name, line, Rule::Count(rule)))
 }
@@ -288,6 +420,7 @@ fn compile_measure(
     place: &Place,
     spec: &RulesetSpec,
     m: &MeasureSpec,
+    warnings: &mut Vec<RulesetWarning>,
 ) -> Result<Feature, RulesetError> {
     let (title, line) = named(place, "measure", &m.name)?;
     let source = required_pattern(place, &title, line, &m.pattern)?;
@@ -295,7 +428,7 @@ fn compile_measure(
     check_number_groups(place, &title, line, &pattern)?;
     let (number_groups, unit_groups) = measure_groups(&pattern);
     let unit = m.unit.clone().unwrap_or_default();
-    let units = measure_units(place, &title, line, m, spec)?;
+    let units = measure_units(place, &title, m, spec)?;
     if unit.trim().is_empty() {
         return Err(place
             .err(Some(title), Some(line), "has no `unit`")
@@ -311,6 +444,8 @@ fn compile_measure(
         }
         other => other.map(|[lo, hi]| (lo, hi)),
     };
+    let at = At { title: &title, line, fancy: m.fancy };
+    let unless = unless(place, &at, &m.unless_any, &m.unless_pattern, spec, warnings)?;
     let rule = MeasureRule {
         pattern,
         unit,
@@ -318,8 +453,10 @@ fn compile_measure(
         number_groups,
         unit_groups,
         precision: m.precision,
+        combine: m.combine,
         range,
         missing: m.missing,
+        unless,
     };
     Ok(feature(spec, &m.name, line, Rule::Measure(rule)))
 }
@@ -348,21 +485,39 @@ fn measure_groups(p: &Pattern) -> (Vec<usize>, Vec<usize>) {
 fn measure_units(
     place: &Place,
     title: &str,
-    line: usize,
     m: &MeasureSpec,
     spec: &RulesetSpec,
 ) -> Result<Vec<(String, f64)>, RulesetError> {
     let mut units: Vec<(String, f64)> = Vec::new();
+    let mut first_line: HashMap<String, (String, usize)> = HashMap::new();
     for (spelling, factor) in m.units.iter().flatten() {
+        let at = place.line_of(spelling.span().start);
+        let spelling = spelling.get_ref();
         if !factor.is_finite() || *factor <= 0.0 {
             return Err(place
-                .err(Some(title.into()), Some(line), format!("unit \"{spelling}\" has factor {factor}"))
+                .err(Some(title.into()), Some(at), format!("unit \"{spelling}\" has factor {factor}"))
                 .hint("a factor converts one of this unit into the target unit; it must be a positive number"));
         }
-        units.push((spec.normalize.apply(spelling), *factor));
+        let key = crate::ruleset::unit_key(&spec.normalize.apply(spelling)).to_owned();
+        if key.is_empty() {
+            return Err(place.err(Some(title.into()), Some(at), "`units` holds a blank spelling"));
+        }
+        if let Some((other, other_line)) = first_line.get(&key) {
+            return Err(place
+                .err(
+                    Some(title.into()),
+                    Some(at),
+                    format!(
+                        "unit spellings \"{other}\" (line {other_line}) and \"{spelling}\" (line {at}) are the same \"{key}\" once normalized"
+                    ),
+                )
+                .hint("values are normalized before they are read (lower case by default), so the two cannot be told apart; keep one, or set [normalize] case = \"none\""));
+        }
+        first_line.insert(key.clone(), (spelling.clone(), at));
+        units.push((key, *factor));
     }
     if let Some(unit) = &m.unit {
-        let target = spec.normalize.apply(unit);
+        let target = crate::ruleset::unit_key(&spec.normalize.apply(unit)).to_owned();
         if !units.iter().any(|(u, _)| *u == target) {
             units.push((target, 1.0));
         }
@@ -374,6 +529,7 @@ fn compile_label(
     place: &Place,
     spec: &RulesetSpec,
     l: &LabelSpec,
+    warnings: &mut Vec<RulesetWarning>,
 ) -> Result<Feature, RulesetError> {
     let (title, line) = named(place, "label", &l.name)?;
     let mut cases_spec = Vec::new();
@@ -391,7 +547,12 @@ fn compile_label(
         cases_spec.push((label.get_ref().clone(), case_line, c));
     }
     let categories = label_categories(place, &title, line, l, &cases_spec)?;
-    let index = |label: &str| categories.iter().position(|c| c == label).expect("checked") as u32;
+    let positions: HashMap<String, u32> = categories
+        .iter()
+        .enumerate()
+        .map(|(i, c)| (c.clone(), i as u32))
+        .collect();
+    let index = |label: &str| positions[label];
     let mut cases = Vec::new();
     for (label, case_line, c) in &cases_spec {
         let case_title = format!("{title} case \"{label}\"");
@@ -403,17 +564,38 @@ fn compile_label(
             &c.pattern,
             c.fancy,
             spec,
+            warnings,
         )?;
+        let at = At { title: &case_title, line: *case_line, fancy: c.fancy };
+        let unless = unless(place, &at, &c.unless_any, &c.unless_pattern, spec, warnings)?;
         cases.push(LabelCase {
             label: index(label),
             matcher,
+            unless,
         });
     }
-    let map: HashMap<String, u32> = l
-        .map
-        .iter()
-        .map(|(k, v)| (spec.normalize.apply(k), index(v)))
-        .collect();
+    let mut map: HashMap<String, u32> = HashMap::with_capacity(l.map.len());
+    let mut key_line: HashMap<String, (&str, usize)> = HashMap::with_capacity(l.map.len());
+    for (k, v) in &l.map {
+        let at = place.line_of(k.span().start);
+        let key = spec.normalize.apply(k.get_ref());
+        if let Some((other, other_line)) = key_line.get(&key) {
+            return Err(place
+                .err(
+                    Some(title),
+                    Some(at),
+                    format!(
+                        "`map` keys {} (line {other_line}) and {} (line {at}) are the same value {} once normalized",
+                        crate::render::shown(other),
+                        crate::render::shown(k.get_ref()),
+                        crate::render::shown(&key)
+                    ),
+                )
+                .hint("`map` is consulted with the normalized value, so only one of the two could ever apply; keep one"));
+        }
+        key_line.insert(key.clone(), (k.get_ref().as_str(), at));
+        map.insert(key, index(v));
+    }
     let default = l.default.as_deref().map(index);
     let rule = LabelRule {
         categories,
@@ -448,8 +630,9 @@ fn label_categories(
     }
     let Some(declared) = &l.categories else {
         let mut out: Vec<String> = Vec::new();
+        let mut seen: HashSet<&str> = HashSet::new();
         for label in used {
-            if !out.contains(label) {
+            if seen.insert(label.as_str()) {
                 out.push(label.clone());
             }
         }

@@ -10,13 +10,13 @@ pub mod spec;
 
 use std::path::Path;
 
-use hashbrown::HashMap;
+use hashbrown::{HashMap, HashSet};
 
 use crate::error::{Error, RulesetError};
 use crate::normalize::Normalizer;
 use crate::numbers::DecimalMark;
-use crate::pattern::{Matcher, Pattern};
-pub use spec::Precision;
+use crate::pattern::{Literals, MatchError, Matcher, Pattern};
+pub use spec::{Combine, Precision};
 
 /// A compiled ruleset for one source column.
 #[derive(Debug, Clone)]
@@ -28,9 +28,65 @@ pub struct Ruleset {
     pub prefix: String,
     pub decimal: DecimalMark,
     pub normalizer: Normalizer,
+    /// Normalized whole values that mean "no information": every feature
+    /// of such a value is null.
+    pub placeholders: HashSet<String>,
+    /// A pattern that marks a whole normalized value as a placeholder.
+    pub placeholder_pattern: Option<Pattern>,
     /// Features in the order they are declared in the file.
     pub features: Vec<Feature>,
     pub examples: Vec<Example>,
+    /// Things in the file that load but are probably not what was meant.
+    pub warnings: Vec<RulesetWarning>,
+}
+
+/// A likely slip in a ruleset: it loads, but probably does not do what its
+/// author meant (an `any` literal that looks like a pattern).
+#[derive(Debug, Clone, PartialEq, Eq, serde::Serialize)]
+pub struct RulesetWarning {
+    pub file: String,
+    pub line: usize,
+    pub rule: String,
+    pub message: String,
+}
+
+impl std::fmt::Display for RulesetWarning {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(f, "{}:{}: rule {}: {}", self.file, self.line, self.rule, self.message)
+    }
+}
+
+/// What a normalized value is, before any rule looks at it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum ValueKind {
+    /// A value the rules describe.
+    Considered,
+    /// Empty after normalization.
+    Blank,
+    /// One of the ruleset's `placeholders`, or matched by its
+    /// `placeholder_pattern`.
+    Placeholder,
+}
+
+/// `unless_any` / `unless_pattern`: where either matches, the rule or case
+/// does not fire.
+#[derive(Debug, Clone, Default)]
+pub struct Unless {
+    pub literals: Option<Literals>,
+    pub pattern: Option<Pattern>,
+}
+
+impl Unless {
+    /// Whether the value holds one of the exceptions.
+    pub fn matches(&self, text: &str) -> Result<bool, MatchError> {
+        if self.literals.as_ref().is_some_and(|l| l.find(text).is_some()) {
+            return Ok(true);
+        }
+        match &self.pattern {
+            Some(p) => p.is_match(text),
+            None => Ok(false),
+        }
+    }
 }
 
 /// One output column and the rule that fills it.
@@ -69,6 +125,7 @@ impl Rule {
 #[derive(Debug, Clone)]
 pub struct FlagRule {
     pub matcher: Matcher,
+    pub unless: Option<Unless>,
 }
 
 #[derive(Debug, Clone)]
@@ -76,6 +133,7 @@ pub struct CountRule {
     pub pattern: Pattern,
     pub range: Option<(i64, i64)>,
     pub missing: Option<i64>,
+    pub unless: Option<Unless>,
 }
 
 #[derive(Debug, Clone)]
@@ -90,16 +148,26 @@ pub struct MeasureRule {
     /// Capture group candidates for the unit.
     pub unit_groups: Vec<usize>,
     pub precision: Precision,
+    /// How several matches in one value are read.
+    pub combine: Combine,
     pub range: Option<(f64, f64)>,
     pub missing: Option<f64>,
+    pub unless: Option<Unless>,
 }
 
 impl MeasureRule {
     /// The factor for a unit as captured; `None` for an unknown unit.
     pub fn factor(&self, unit: &str) -> Option<f64> {
-        let unit = unit.trim().trim_end_matches('.');
+        let unit = unit_key(unit);
         self.units.iter().find(|(u, _)| u == unit).map(|(_, f)| *f)
     }
+}
+
+/// A unit spelling as compared: trimmed, without a trailing period, so
+/// that `cc.` is `cc` and `h.p.` (a spelling) meets `h.p` (a capture that
+/// stopped before the period).
+pub fn unit_key(spelling: &str) -> &str {
+    spelling.trim().trim_end_matches('.')
 }
 
 #[derive(Debug, Clone)]
@@ -116,6 +184,7 @@ pub struct LabelRule {
 pub struct LabelCase {
     pub label: u32,
     pub matcher: Matcher,
+    pub unless: Option<Unless>,
 }
 
 /// A `[[example]]`: a value and the features it must give.
@@ -160,6 +229,24 @@ impl Ruleset {
     /// ```
     pub fn from_toml(text: &str, file: &str) -> Result<Ruleset, RulesetError> {
         compile::compile(text, file)
+    }
+
+    /// What a normalized value is: blank, a placeholder, or a value the
+    /// rules describe.
+    pub fn kind_of(&self, normalized: &str) -> ValueKind {
+        if normalized.is_empty() {
+            return ValueKind::Blank;
+        }
+        let pattern = || {
+            self.placeholder_pattern
+                .as_ref()
+                .is_some_and(|p| p.is_match(normalized).unwrap_or(false))
+        };
+        if self.placeholders.contains(normalized) || pattern() {
+            ValueKind::Placeholder
+        } else {
+            ValueKind::Considered
+        }
     }
 
     /// The index of a feature by its name or its output name.

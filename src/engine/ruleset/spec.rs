@@ -18,6 +18,10 @@ pub struct RulesetSpec {
     #[serde(default)]
     pub decimal: DecimalMark,
     pub description: Option<String>,
+    /// Normalized whole values that mean "no information".
+    pub placeholders: Option<Vec<String>>,
+    /// A pattern that marks a whole normalized value as a placeholder.
+    pub placeholder_pattern: Option<String>,
     #[serde(default)]
     pub normalize: Normalizer,
     #[serde(default)]
@@ -41,6 +45,8 @@ pub struct FlagSpec {
     pub pattern: Option<String>,
     #[serde(default)]
     pub fancy: bool,
+    pub unless_any: Option<Vec<String>>,
+    pub unless_pattern: Option<String>,
 }
 
 #[derive(Debug, Deserialize)]
@@ -53,6 +59,8 @@ pub struct CountSpec {
     pub fancy: bool,
     pub range: Option<[i64; 2]>,
     pub missing: Option<i64>,
+    pub unless_any: Option<Vec<String>>,
+    pub unless_pattern: Option<String>,
 }
 
 #[derive(Debug, Deserialize, Clone, Copy, PartialEq, Eq, Default)]
@@ -61,6 +69,21 @@ pub enum Precision {
     #[default]
     F32,
     F64,
+}
+
+/// How a measure reads a value with several matches of its pattern.
+#[derive(Debug, Deserialize, Clone, Copy, PartialEq, Eq, Default)]
+#[serde(rename_all = "lowercase")]
+pub enum Combine {
+    /// The first match only.
+    #[default]
+    First,
+    /// The sum of every match (`5 ft 6 in`, `2 h 30 min`).
+    Sum,
+    /// The smallest of every match.
+    Min,
+    /// The largest of every match (`208-230/460v`).
+    Max,
 }
 
 #[derive(Debug, Deserialize)]
@@ -72,11 +95,15 @@ pub struct MeasureSpec {
     #[serde(default)]
     pub fancy: bool,
     pub unit: Option<String>,
-    pub units: Option<IndexMap<String, f64>>,
+    pub units: Option<IndexMap<Spanned<String>, f64>>,
     #[serde(default)]
     pub precision: Precision,
+    #[serde(default)]
+    pub combine: Combine,
     pub range: Option<[f64; 2]>,
     pub missing: Option<f64>,
+    pub unless_any: Option<Vec<String>>,
+    pub unless_pattern: Option<String>,
 }
 
 #[derive(Debug, Deserialize)]
@@ -87,7 +114,7 @@ pub struct LabelSpec {
     pub default: Option<String>,
     pub categories: Option<Vec<String>>,
     #[serde(default)]
-    pub map: IndexMap<String, String>,
+    pub map: IndexMap<Spanned<String>, String>,
     #[serde(default)]
     pub case: Vec<CaseSpec>,
 }
@@ -100,6 +127,8 @@ pub struct CaseSpec {
     pub pattern: Option<String>,
     #[serde(default)]
     pub fancy: bool,
+    pub unless_any: Option<Vec<String>>,
+    pub unless_pattern: Option<String>,
 }
 
 #[derive(Debug, Deserialize)]
