@@ -12,7 +12,8 @@ Writes the columns into OUTDIR (load.py), then for every column:
 * runs `descry propose` and prints the draft's rule count, its coverage
   (check.coverage.row_share), how many drafted counts saw a single number
   (range lo == hi), and how many word pairs that the draft puts into one flag
-  or label case are the same word according to truth/<name>.words.csv.
+  (and, apart, into one label case) are the same word according to
+  truth/<name>.words.csv.
 * for a column with truth/<name>.readings.csv, applies the draft to the
   column's distinct values (`descry apply` to CSV) and counts the values whose
   truth has a number that the draft's measure for that quantity reads within
@@ -101,26 +102,29 @@ def words_of(text):
 
 
 def score_words(proposals, name):
-    """Word pairs the draft puts in one flag list or one label case, judged by the word truth."""
+    """Word pairs the draft puts in one flag's `any` list, and in one label case, judged by the word truth.
+
+    A flag's list is meant to hold spellings of one word. A label case may
+    also join words that mean one category (`check` and `welfare`), so its
+    pairs are reported apart.
+    """
     path = truth_path(name, "words")
     if not os.path.exists(path):
         return None
     group_of = {row["word"]: row["group"] for row in read_truth_csv(path)}
-    lists = []
-    for p in proposals:
-        rule = p["rule"]
-        if rule["kind"] == "flag":
-            lists.append(rule["any"])
-        elif rule["kind"] == "label" and "cases" in rule:
-            lists.extend(spellings for _, spellings in rule["cases"])
-    pairs = set()
-    for spellings in lists:
-        single = sorted({s.lower() for s in spellings if len(words_of(s)) == 1 and words_of(s)[0] == s.lower()})
-        known = [w for w in single if w in group_of]
-        pairs |= set(itertools.combinations(known, 2))
-    same = sorted(p for p in pairs if group_of[p[0]] == group_of[p[1]])
-    return {"pairs": len(pairs), "same_word": len(same),
-            "different_words": sorted(p for p in pairs if group_of[p[0]] != group_of[p[1]])}
+
+    def judge(lists):
+        pairs = set()
+        for spellings in lists:
+            single = sorted({s.lower() for s in spellings if words_of(s) == [s.lower()]})
+            pairs |= set(itertools.combinations([w for w in single if w in group_of], 2))
+        return {"pairs": len(pairs), "same_word": sum(1 for a, b in pairs if group_of[a] == group_of[b]),
+                "different_words": sorted(p for p in pairs if group_of[p[0]] != group_of[p[1]])}
+
+    flags = [p["rule"]["any"] for p in proposals if p["rule"]["kind"] == "flag"]
+    cases = [spellings for p in proposals if p["rule"]["kind"] == "label" and "cases" in p["rule"]
+             for _, spellings in p["rule"]["cases"]]
+    return {"flags": judge(flags), "label_cases": judge(cases)}
 
 
 def measure_rules(proposals, quantity):
@@ -226,13 +230,15 @@ def print_report(results):
         true_pairs = r["cluster"][METHODS[0]]["true_pairs"]
         print(f"{name:<14}" + "".join(f"{c:>22}" for c in cells) + f"   true pairs {true_pairs}")
     print()
-    print("propose: rules, coverage, counts with one observed value, word pairs in one flag/case that are one word")
+    print("propose: rules, coverage, counts with one observed value, word pairs in one flag / one label case that are one word")
     for name, r in results.items():
         p = r["propose"]
         words = p["words"]
-        word_cell = "-" if words is None else f"{words['same_word']}/{words['pairs']}"
+        flag_cell = "-" if words is None else f"{words['flags']['same_word']}/{words['flags']['pairs']}"
+        case_cell = "-" if words is None else f"{words['label_cases']['same_word']}/{words['label_cases']['pairs']}"
         print(f"{name:<14} rules {p['rules']:>3}  coverage {pct(p['row_share'])}  "
-              f"counts {p['counts']:>2} (single value {len(p['single_value_counts'])})  same-word pairs {word_cell}")
+              f"counts {p['counts']:>2} (single value {len(p['single_value_counts'])})  "
+              f"same-word pairs: flags {flag_cell:>7}  label cases {case_cell:>7}")
     for name, r in results.items():
         for quantity, q in sorted((r["propose"]["readings"] or {}).items()):
             print(f"{name:<14} {quantity} readings: {q['correct']}/{q['known']} values with a known reading, "
