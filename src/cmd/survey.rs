@@ -4,7 +4,7 @@ use std::process::ExitCode;
 
 use descry::survey::{survey, survey_text, SurveyOptions, DEFAULT_LONG, DEFAULT_PLACEHOLDERS};
 
-use super::common::{json_out, read_vocabulary, Format, InputArgs};
+use super::common::{emit, json_out, read_vocabulary, Format, InputArgs};
 
 pub const ABOUT: &str = "\
 Profile one column: what it holds, in which formats, with which defects,
@@ -92,8 +92,8 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
     };
     let report = survey(&vocab, &args.column, &opts);
     match args.format {
-        Format::Text => print!("{}", survey_text(&report)),
-        Format::Json => println!("{}", json_out(&report)?),
+        Format::Text => emit(&survey_text(&report))?,
+        Format::Json => emit(&(json_out(&report)? + "\n"))?,
     }
     Ok(ExitCode::SUCCESS)
 }
