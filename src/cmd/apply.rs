@@ -1,7 +1,7 @@
 //! `descry apply`: write the input's columns plus the features of one or
 //! more rulesets, in compact types.
 
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 use std::sync::{Arc, Mutex};
 
@@ -9,12 +9,16 @@ use anyhow::bail;
 use polars::prelude::*;
 
 use descry::pipeline::{with_features, Describer, Description, Tally};
-use descry::read::{batch_text, can_stream, for_each_batch, table_columns, StreamedTable, Table};
-use descry::render::thousands;
+use descry::read::{
+    batch_text, can_stream, for_each_batch, table_columns, ReadOptions, StreamedTable, Table,
+};
+use descry::render::{shown, thousands};
 use descry::vocabulary::GrowingVocabulary;
 use descry::write::{check_output_path, sink_table, write_table, OutputFormat, ROW_GROUP_ROWS};
 
-use super::common::{column_notes, load_ruleset, print_notes, source_column, InputArgs};
+use super::common::{
+    column_notes, load_ruleset, parse_batch_rows, print_notes, source_column, InputArgs,
+};
 
 pub const ABOUT: &str = "\
 Apply one or more rulesets to a table and write the features.
@@ -81,7 +85,7 @@ pub struct Args {
     /// Rows per batch when streaming: Parquet row groups hold at most this
     /// many rows (and at most 262,144), and so does each batch of the first
     /// pass when a count has no `range`. Lower it to use less memory.
-    #[arg(long, default_value_t = 1 << 20, hide_short_help = true)]
+    #[arg(long, default_value_t = 1 << 20, hide_short_help = true, value_parser = parse_batch_rows)]
     pub batch_rows: usize,
 }
 
@@ -100,7 +104,10 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
             Ok(Description { rules, column })
         })
         .collect::<anyhow::Result<Vec<_>>>()?;
-    let format = check_output_path(&args.output, &[&args.input.input])?;
+    let inputs: Vec<&Path> = std::iter::once(args.input.input.as_path())
+        .chain(args.rules.iter().map(PathBuf::as_path))
+        .collect();
+    let format = check_output_path(&args.output, &inputs)?;
     let opts = args.input.read_options();
     let streaming = !args.in_memory && can_stream(&args.input.input, &opts);
     let summary = if streaming {
@@ -179,15 +186,17 @@ fn apply_in_memory(
 ) -> anyhow::Result<Summary> {
     let names = sources(&descriptions);
     let columns: Vec<&str> = names.iter().map(String::as_str).collect();
-    let table = Table::read(&args.input.input, &columns, &args.input.read_options())?;
+    let read = columns_read(args, &columns);
+    let projection = args.only_features.then_some(read.as_slice());
+    let table = Table::read_some(&args.input.input, &columns, projection, &kept_types(args))?;
     print_notes(&table.notes, args.quiet);
     check_collisions(&descriptions, &table.column_names(), args)?;
     let describer = Describer::new(descriptions, Vec::new());
     let features = describer.features(&table.frame)?;
     let mut summary = Summary::default();
     summary.add_batch(&table.frame, &columns, &features);
-    let mut frame = OutputShape::of(args).frame(table.frame, &columns, features)?;
-    write_table(&mut frame, &args.output, format)?;
+    let frame = OutputShape::of(args).frame(table.frame, &columns, features)?;
+    write_table(frame, &args.output, format)?;
     Ok(summary.finish(&describer))
 }
 
@@ -198,7 +207,6 @@ fn apply_in_batches(
 ) -> anyhow::Result<Summary> {
     let names = sources(&descriptions);
     let columns: Vec<&str> = names.iter().map(String::as_str).collect();
-    let opts = args.input.read_options();
     let progress = Progress::new(args.quiet, &args.input.input);
     let full = if Describer::one_pass(&descriptions) {
         Vec::new()
@@ -207,20 +215,9 @@ fn apply_in_batches(
         first_pass(args, &columns)?
     };
     progress.phase("applying");
-    // With --only-features, only the kept and described columns are read.
-    let read: Vec<&str> = args
-        .keep
-        .iter()
-        .map(String::as_str)
-        .chain(
-            columns
-                .iter()
-                .copied()
-                .filter(|c| !args.keep.iter().any(|k| k == c)),
-        )
-        .collect();
+    let read = columns_read(args, &columns);
     let projection = args.only_features.then_some(read.as_slice());
-    let table = StreamedTable::open(&args.input.input, &columns, projection, &opts)?;
+    let table = StreamedTable::open(&args.input.input, &columns, projection, &kept_types(args))?;
     print_notes(&table.notes, args.quiet);
     let describer = Arc::new(Describer::new(descriptions, full));
     let summary = Arc::new(Mutex::new(Summary::default()));
@@ -252,6 +249,30 @@ fn apply_in_batches(
     progress.done();
     let summary = std::mem::take(&mut *summary.lock().expect("summary lock"));
     Ok(summary.finish(&describer))
+}
+
+/// The columns to read with --only-features: the kept and described ones
+/// (a column `apply` does not write is not read, whatever its type).
+fn columns_read<'a>(args: &'a Args, described: &[&'a str]) -> Vec<&'a str> {
+    args.keep
+        .iter()
+        .map(String::as_str)
+        .chain(
+            described
+                .iter()
+                .copied()
+                .filter(|c| !args.keep.iter().any(|k| k == c)),
+        )
+        .collect()
+}
+
+/// How `apply` reads its input: the described columns keep their type in
+/// the output, and their text is what the rules see.
+fn kept_types(args: &Args) -> ReadOptions {
+    ReadOptions {
+        keep_types: true,
+        ..args.input.read_options()
+    }
 }
 
 fn output_error(args: &Args, e: anyhow::Error) -> descry::Error {
@@ -307,9 +328,10 @@ fn check_collisions(
     if args.only_features {
         if let Some(k) = args.keep.iter().find(|k| !names.contains(k)) {
             bail!(
-                "{}: --keep names no column \"{k}\"; the columns are: {}",
+                "{}: --keep names no column {}; the columns are: {}",
                 args.input.input.display(),
-                names.join(", ")
+                shown(k),
+                names.iter().map(|n| shown(n)).collect::<Vec<_>>().join(", ")
             );
         }
     }

@@ -11,7 +11,7 @@ use descry::cluster::map::write_label_map;
 use descry::cluster::text::cluster_text;
 use descry::cluster::{cluster, ClusterOptions, Digits, EditLimit, Fuzzy, Method};
 
-use super::common::{json_out, read_vocabulary, Format, InputArgs};
+use super::common::{check_ruleset_target, emit, json_out, read_vocabulary, Format, InputArgs};
 
 pub const ABOUT: &str = "\
 Group the distinct values of a column that are probably the same thing
@@ -140,6 +140,9 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
         },
         (Some(_), _) => bail!("--max-diameter applies to the fuzzy methods (qgram, levenshtein, osa, jaro-winkler); key and tokens groups are exact"),
     };
+    if let Some(map) = &args.write_map {
+        check_ruleset_target(map, &[&args.input.input])?;
+    }
     let vocab = read_vocabulary(&args.input, &args.column, args.quiet)?;
     let digits = match args.digits {
         DigitsArg::Strict => Digits::Strict,
@@ -154,8 +157,8 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
     };
     let report = cluster(&vocab, &args.column, &opts);
     match args.format {
-        Format::Text => print!("{}", cluster_text(&report, args.top)),
-        Format::Json => println!("{}", json_out(&report)?),
+        Format::Text => emit(&cluster_text(&report, args.top))?,
+        Format::Json => emit(&(json_out(&report)? + "\n"))?,
     }
     if let (Some(path), Some(label)) = (&args.write_map, &args.label) {
         let u = write_label_map(path, label, &args.column, &report.clusters)?;

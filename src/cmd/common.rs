@@ -8,13 +8,15 @@ use clap::ValueEnum;
 
 use descry::read::{batch_text, can_stream, for_each_batch, ReadOptions, Table};
 use descry::vocabulary::GrowingVocabulary;
+use descry::write::{check_not_an_input, check_output_file};
 use descry::{Ruleset, Vocabulary};
 
 /// Where the table comes from and how to read it.
 #[derive(Debug, Clone, clap::Args)]
 pub struct InputArgs {
     /// The table: .csv, .tsv, .parquet, .arrow/.ipc/.feather, .ndjson/.jsonl,
-    /// or - for CSV on standard input.
+    /// .json (an array of records, or one record a line), or - for CSV on
+    /// standard input.
     pub input: PathBuf,
     /// Field delimiter for CSV input (one character, or "tab"); overrides the
     /// extension's default.
@@ -30,6 +32,7 @@ impl InputArgs {
         ReadOptions {
             delimiter: self.delimiter,
             lossy_utf8: self.lossy_utf8,
+            keep_types: false,
         }
     }
 }
@@ -64,7 +67,54 @@ pub enum Format {
 }
 
 pub fn load_ruleset(path: &Path) -> anyhow::Result<Ruleset> {
-    Ok(Ruleset::from_path(path)?)
+    let text = ruleset_text(path)?;
+    Ok(Ruleset::from_toml(&text, &path.display().to_string())?)
+}
+
+/// The largest ruleset read: a ruleset is a short TOML file, and a path
+/// like /dev/zero must not fill memory.
+const MAX_RULESET_BYTES: u64 = 16 << 20;
+
+/// The text of a ruleset file, read up to [`MAX_RULESET_BYTES`].
+pub fn ruleset_text(path: &Path) -> anyhow::Result<String> {
+    use std::io::Read;
+    let file = std::fs::File::open(path).map_err(|e| {
+        anyhow::anyhow!("{}: cannot read the ruleset: {e}; check the path given to --rules", path.display())
+    })?;
+    let mut bytes = Vec::new();
+    file.take(MAX_RULESET_BYTES + 1)
+        .read_to_end(&mut bytes)
+        .with_context(|| format!("{}: cannot read the ruleset", path.display()))?;
+    if bytes.len() as u64 > MAX_RULESET_BYTES {
+        bail!(
+            "{}: longer than {} MiB, so not a ruleset; give the TOML file of the rules",
+            path.display(),
+            MAX_RULESET_BYTES >> 20
+        );
+    }
+    String::from_utf8(bytes)
+        .map_err(|e| anyhow::anyhow!("{}: the ruleset is not UTF-8 text (byte {})", path.display(), e.utf8_error().valid_up_to()))
+}
+
+/// Check, before any work, that a ruleset descry is about to rewrite (or
+/// create) can be: not one of the `inputs`, not a folder, not read-only,
+/// and, when it exists, a ruleset-sized file.
+pub fn check_ruleset_target(path: &Path, inputs: &[&Path]) -> anyhow::Result<()> {
+    check_output_file(path)?;
+    check_not_an_input(path, inputs)?;
+    if path.exists() {
+        ruleset_text(path)?;
+    }
+    Ok(())
+}
+
+/// `--batch-rows`: a count of rows, at least 1.
+pub fn parse_batch_rows(s: &str) -> Result<usize, String> {
+    match s.parse::<usize>() {
+        Ok(0) => Err("a batch holds at least 1 row".to_owned()),
+        Ok(n) => Ok(n),
+        Err(_) => Err(format!("{s:?} is not a count of rows")),
+    }
 }
 
 /// The source column: `--column` wins, else the ruleset's `column`.

@@ -56,6 +56,7 @@ pub enum Command {
 }
 
 pub fn run(cli: Cli) -> anyhow::Result<ExitCode> {
+    descry::write::remove_partials_on_signals()?;
     if let Some(n) = cli.threads {
         set_threads(n)?;
     }
@@ -70,10 +71,21 @@ pub fn run(cli: Cli) -> anyhow::Result<ExitCode> {
     }
 }
 
-/// One thread count for descry's own pool and for polars' pool.
-fn set_threads(n: usize) -> anyhow::Result<()> {
-    if n == 0 {
+/// Threads per core at most: more only adds switching and memory.
+const THREADS_PER_CORE: usize = 4;
+
+/// One thread count for descry's own pool and for polars' pool, at most
+/// [`THREADS_PER_CORE`] per core.
+fn set_threads(asked: usize) -> anyhow::Result<()> {
+    if asked == 0 {
         anyhow::bail!("--threads must be at least 1");
+    }
+    let cores = std::thread::available_parallelism().map_or(1, |n| n.get());
+    let n = asked.min(THREADS_PER_CORE * cores);
+    if n < asked {
+        eprintln!(
+            "descry: note: --threads {asked} is more than {THREADS_PER_CORE} per core ({cores} cores); using {n}"
+        );
     }
     std::env::set_var("POLARS_MAX_THREADS", n.to_string());
     rayon::ThreadPoolBuilder::new()

@@ -12,7 +12,8 @@ use descry::write::write_text_atomically;
 use descry::{CoverageReport, Ruleset};
 
 use super::common::{
-    column_notes, emit, json_out, parse_share, print_notes, read_vocabulary, Format, InputArgs,
+    check_ruleset_target, column_notes, emit, json_out, parse_share, print_notes, read_vocabulary,
+    ruleset_text, Format, InputArgs,
 };
 
 pub const ABOUT: &str = "\
@@ -125,21 +126,14 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
     }
     let existing = match &args.update {
         Some(path) => {
-            let rules = Ruleset::from_path(path)?;
-            let text = std::fs::read_to_string(path)
-                .with_context(|| format!("cannot read {}", path.display()))?;
+            let text = ruleset_text(path)?;
+            let rules = Ruleset::from_toml(&text, &path.display().to_string())?;
             Some((rules, text))
         }
         None => None,
     };
-    let output = match (&args.output, &args.update) {
-        (Some(o), _) => o.clone(),
-        (None, Some(u)) => u.clone(),
-        (None, None) => bail!(
-            "say where to write the draft: -o draft.toml (or extend a ruleset with --update FILE)"
-        ),
-    };
-    let updating_in_place = args.update.as_ref().is_some_and(|u| same_file(u, &output));
+    let output = output_path(&args)?;
+    let updating_in_place = args.output.is_none();
     if output.exists() && !args.force && !updating_in_place {
         bail!(
             "{} exists; descry does not overwrite a ruleset you may have edited: give --force, or another -o",
@@ -213,9 +207,27 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
     Ok(ExitCode::SUCCESS)
 }
 
-fn same_file(a: &std::path::Path, b: &std::path::Path) -> bool {
-    a == b
-        || matches!((std::fs::canonicalize(a), std::fs::canonicalize(b)), (Ok(x), Ok(y)) if x == y)
+/// Where the draft goes: -o, or the --update ruleset itself, which is the
+/// one file `propose` may rewrite in place. Checked before any work: -o may
+/// not be the input table or the --update ruleset (leave -o out to update
+/// it in place), nor a folder or a read-only file.
+fn output_path(args: &Args) -> anyhow::Result<PathBuf> {
+    let table = args.input.input.as_path();
+    match (&args.output, &args.update) {
+        (Some(o), update) => {
+            let mut inputs = vec![table];
+            inputs.extend(update.as_deref());
+            check_ruleset_target(o, &inputs)?;
+            Ok(o.clone())
+        }
+        (None, Some(u)) => {
+            check_ruleset_target(u, &[table])?;
+            Ok(u.clone())
+        }
+        (None, None) => bail!(
+            "say where to write the draft: -o draft.toml (or extend a ruleset with --update FILE)"
+        ),
+    }
 }
 
 fn report_text(

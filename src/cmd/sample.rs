@@ -1,7 +1,7 @@
 //! `descry sample`: write the demo scenario's listings table and, next to it,
 //! the true features of every distinct value.
 
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 
 use clap::ValueEnum;
@@ -64,6 +64,7 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
         variants,
         spellings: args.spellings.map(|n| n as usize),
     };
+    check_targets(&args.out_dir)?;
     descry::sample::write_sample(&args.out_dir, &opts)?;
     eprintln!(
         "wrote {} rows to {}",
@@ -71,4 +72,27 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
         args.out_dir.join("listings.csv").display()
     );
     Ok(ExitCode::SUCCESS)
+}
+
+/// The files `sample` writes in OUT_DIR.
+const WRITTEN: [&str; 4] = [
+    "listings.csv",
+    "truth/transmission.csv",
+    "truth/engine.csv",
+    "truth/part_no.csv",
+];
+
+/// Refuse, before writing anything, an OUT_DIR that is a file or holds a
+/// read-only file `sample` would replace.
+fn check_targets(out_dir: &Path) -> anyhow::Result<()> {
+    if out_dir.exists() && !out_dir.is_dir() {
+        anyhow::bail!(
+            "{}: is a file; -o names the folder to write listings.csv and truth/ into",
+            out_dir.display()
+        );
+    }
+    for name in WRITTEN {
+        descry::write::check_replaceable(&out_dir.join(name))?;
+    }
+    Ok(())
 }

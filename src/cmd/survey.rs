@@ -4,7 +4,7 @@ use std::process::ExitCode;
 
 use descry::survey::{survey, survey_text, SurveyOptions, DEFAULT_LONG, DEFAULT_PLACEHOLDERS};
 
-use super::common::{json_out, read_vocabulary, Format, InputArgs};
+use super::common::{emit, json_out, read_vocabulary, Format, InputArgs};
 
 // clap turns `{n}` in help text into a line break and has no escape for
 // it: the style reset between `{` and `n` keeps the braces literal. It is
@@ -95,8 +95,8 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
     };
     let report = survey(&vocab, &args.column, &opts);
     match args.format {
-        Format::Text => print!("{}", survey_text(&report)),
-        Format::Json => println!("{}", json_out(&report)?),
+        Format::Text => emit(&survey_text(&report))?,
+        Format::Json => emit(&(json_out(&report)? + "\n"))?,
     }
     Ok(ExitCode::SUCCESS)
 }

@@ -6,4 +6,6 @@
 pub mod encode;
 pub mod pipeline;
 pub mod read;
+pub mod schema;
+pub mod sniff;
 pub mod write;

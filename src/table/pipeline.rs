@@ -14,6 +14,7 @@ use std::sync::{Arc, OnceLock, RwLock, RwLockReadGuard, RwLockWriteGuard};
 use polars::prelude::*;
 
 use crate::encode::Encoder;
+use crate::read::text_of;
 use crate::ruleset::Ruleset;
 use crate::vocabulary::{GrowingVocabulary, NULL_CODE};
 
@@ -112,12 +113,14 @@ impl Describer {
             .all(|d| Encoder::types_fixed_by_ruleset(&d.rules))
     }
 
-    /// The feature columns for one batch (its described columns must be text).
+    /// The feature columns for one batch (a described column that is not
+    /// text is described by its text rendering).
     pub fn features(&self, batch: &DataFrame) -> PolarsResult<Vec<Column>> {
         let mut out = Vec::new();
         for state in &self.columns {
             let rules = &state.description.rules;
-            let text = batch.column(&state.description.column)?.str()?.rechunk();
+            let text = text_of(batch.column(&state.description.column)?)?;
+            let text = text.rechunk();
             let text = text.downcast_as_array();
             let row = |i: usize| text.get(i);
             let (mut codes, unknown) = state.read()?.vocab.known_codes_of(text.len(), row);

@@ -11,7 +11,10 @@ use std::sync::Arc;
 
 use polars::prelude::*;
 
+use super::schema::{self, FileColumns};
+use super::sniff;
 use crate::error::Error;
+use crate::render::shown;
 
 /// A table format, chosen from a path's extension.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -20,6 +23,9 @@ pub enum TableFormat {
     Parquet,
     Ipc,
     NdJson,
+    /// `.json`: one JSON array of records, or NDJSON, told apart by the
+    /// first character.
+    Json,
 }
 
 impl TableFormat {
@@ -40,14 +46,15 @@ impl TableFormat {
             "tsv" | "tab" => TableFormat::Csv { delimiter: delimiter.unwrap_or(b'\t') },
             "parquet" | "pq" => TableFormat::Parquet,
             "arrow" | "ipc" | "feather" => TableFormat::Ipc,
-            "ndjson" | "jsonl" | "json" => TableFormat::NdJson,
+            "ndjson" | "jsonl" => TableFormat::NdJson,
+            "json" => TableFormat::Json,
             _ if delimiter.is_some() => TableFormat::Csv { delimiter: delimiter.unwrap_or(b',') },
             _ => {
                 return Err(Error::Input {
                     path: path.to_owned(),
                     message: format!(
-                        "unknown table format {:?}; descry reads .csv, .tsv, .parquet, .arrow/.ipc/.feather \
-                         and .ndjson/.jsonl (or give --delimiter to read any file as CSV)",
+                        "unknown table format {:?}; descry reads .csv, .tsv, .parquet, .arrow/.ipc/.feather, \
+                         .ndjson/.jsonl and .json (or give --delimiter to read any file as CSV)",
                         if ext.is_empty() { "(no extension)".to_owned() } else { format!(".{ext}") }
                     ),
                 })
@@ -64,6 +71,10 @@ pub struct ReadOptions {
     pub delimiter: Option<u8>,
     /// Replace invalid UTF-8 with U+FFFD instead of failing.
     pub lossy_utf8: bool,
+    /// Leave the described columns of Parquet, IPC and JSON files in their
+    /// own type (`apply` writes them back unchanged and describes their
+    /// text, see [`text_of`]); CSV columns are text either way.
+    pub keep_types: bool,
 }
 
 /// A table read from a file, with the described columns as text.
@@ -79,37 +90,34 @@ impl Table {
     /// Read a whole table; `text_columns` are read (or cast) as strings and
     /// must exist.
     pub fn read(path: &Path, text_columns: &[&str], opts: &ReadOptions) -> Result<Table, Error> {
-        Table::read_projected(path, text_columns, None, opts)
+        Table::read_some(path, text_columns, None, opts)
     }
 
     /// Read only the given columns (as text).
     pub fn read_columns(path: &Path, columns: &[&str], opts: &ReadOptions) -> Result<Table, Error> {
-        Table::read_projected(path, columns, Some(columns), opts)
+        Table::read_some(path, columns, Some(columns), opts)
     }
 
-    fn read_projected(
+    /// Read the `projection` columns (all when `None`); `text_columns`
+    /// are read (or cast) as strings and must exist.
+    pub fn read_some(
         path: &Path,
         text_columns: &[&str],
         projection: Option<&[&str]>,
         opts: &ReadOptions,
     ) -> Result<Table, Error> {
-        let format = TableFormat::of(path, opts.delimiter)?;
-        let source = Source::open(path)?;
-        let names = column_names(&source, format, opts)
-            .map_err(|e| read_error(path, &source, format, opts, e))?;
-        if let Some(missing) = text_columns.iter().find(|c| !names.iter().any(|n| n == *c)) {
-            return Err(Error::MissingColumn {
-                path: path.to_owned(),
-                column: missing.to_string(),
-                available: names,
-            });
-        }
-        let frame = read_frame(&source, format, text_columns, projection, opts)
-            .map_err(|e| read_error(path, &source, format, opts, e))?;
-        Table::finish(path, frame, text_columns)
+        let file = Opened::new(path, opts)?;
+        file.check_columns(text_columns, projection)?;
+        let frame = read_frame(&file, text_columns, projection, opts).map_err(|e| file.error(opts, e))?;
+        Table::finish(path, frame, text_columns, opts.keep_types)
     }
 
-    fn finish(path: &Path, mut frame: DataFrame, text_columns: &[&str]) -> Result<Table, Error> {
+    fn finish(
+        path: &Path,
+        mut frame: DataFrame,
+        text_columns: &[&str],
+        keep_types: bool,
+    ) -> Result<Table, Error> {
         let mut notes = Vec::new();
         for &name in text_columns {
             let Some(col) = frame.column(name).ok() else {
@@ -117,16 +125,12 @@ impl Table {
             };
             let dtype = col.dtype().clone();
             if dtype != DataType::String {
-                let text = col
-                    .cast(&DataType::String)
-                    .map_err(|e| input_error(path, e))?;
-                frame
-                    .replace(name, text)
-                    .map_err(|e| input_error(path, e))?;
-                if dtype != DataType::Null {
-                    notes.push(format!(
-                        "column \"{name}\" holds {dtype} values; they were read as text"
-                    ));
+                notes.extend(text_note(name, &dtype, keep_types));
+                if !keep_types {
+                    let text = text_of(col).map_err(|e| input_error(path, e))?;
+                    frame
+                        .replace(name, text.into_series().into())
+                        .map_err(|e| input_error(path, e))?;
                 }
             }
         }
@@ -155,6 +159,26 @@ impl Table {
     }
 }
 
+/// The note for a described column that is not text.
+fn text_note(name: &str, dtype: &DataType, kept: bool) -> Option<String> {
+    let how = if kept {
+        "their text was described and the column is written unchanged"
+    } else {
+        "they were read as text"
+    };
+    (*dtype != DataType::Null)
+        .then(|| format!("column {} holds {dtype} values; {how}", shown(name)))
+}
+
+/// A column's values as text: a string column as it is, any other type
+/// rendered by polars (the column itself is left as it was).
+pub fn text_of(column: &Column) -> PolarsResult<StringChunked> {
+    match column.dtype() {
+        DataType::String => Ok(column.str()?.clone()),
+        _ => Ok(column.cast(&DataType::String)?.str()?.clone()),
+    }
+}
+
 /// A file on disk, or standard input read in full.
 enum Source {
     File(PathBuf),
@@ -162,24 +186,38 @@ enum Source {
 }
 
 impl Source {
-    fn open(path: &Path) -> Result<Source, Error> {
+    fn open(path: &Path, format: TableFormat) -> Result<Source, Error> {
         if path.as_os_str() != "-" {
             check_readable(path)?;
+            let head = sniff::head(path).map_err(|e| Error::Input {
+                path: path.to_owned(),
+                message: format!("cannot read: {e}"),
+            })?;
+            sniff::check_head(&head, format).map_err(|message| Error::Input {
+                path: path.to_owned(),
+                message,
+            })?;
             return Ok(Source::File(path.to_owned()));
+        }
+        let stdin_error = |message: String| Error::Input {
+            path: path.to_owned(),
+            message,
+        };
+        if std::io::IsTerminal::is_terminal(&std::io::stdin()) {
+            return Err(stdin_error(
+                "standard input is a terminal, not a table; pipe one in (e.g. `cat table.csv | descry ... -`) \
+                 or give a file"
+                    .to_owned(),
+            ));
         }
         let mut buf = Vec::new();
         std::io::stdin()
             .read_to_end(&mut buf)
-            .map_err(|e| Error::Input {
-                path: path.to_owned(),
-                message: format!("cannot read standard input: {e}"),
-            })?;
+            .map_err(|e| stdin_error(format!("cannot read standard input: {e}")))?;
         if buf.is_empty() {
-            return Err(Error::Input {
-                path: path.to_owned(),
-                message: "standard input is empty".to_owned(),
-            });
+            return Err(stdin_error("standard input is empty".to_owned()));
         }
+        sniff::check_head(&buf[..buf.len().min(16)], format).map_err(stdin_error)?;
         Ok(Source::Bytes(buf))
     }
 
@@ -191,7 +229,123 @@ impl Source {
     }
 }
 
-/// The names of every column of the table, read from its header or schema.
+/// A table file opened and looked over: its format, every column's name,
+/// and, for Parquet and Arrow IPC, what polars cannot read of it.
+struct Opened {
+    path: PathBuf,
+    source: Source,
+    format: TableFormat,
+    names: Vec<String>,
+    file_columns: Option<FileColumns>,
+}
+
+impl Opened {
+    fn new(path: &Path, opts: &ReadOptions) -> Result<Opened, Error> {
+        let format = TableFormat::of(path, opts.delimiter)?;
+        let source = Source::open(path, format)?;
+        let fail = |e| read_error(path, &source, format, opts, e);
+        let file_columns = match format {
+            TableFormat::Parquet => Some(schema::parquet_columns(path).map_err(fail)?),
+            TableFormat::Ipc => Some(schema::ipc_columns(path).map_err(fail)?),
+            _ => None,
+        };
+        let names = match &file_columns {
+            Some(c) => c.names.clone(),
+            None => column_names(&source, format, opts).map_err(fail)?,
+        };
+        Ok(Opened {
+            path: path.to_owned(),
+            source,
+            format,
+            names,
+            file_columns,
+        })
+    }
+
+    /// Check that `text_columns` exist and that the columns to read (all
+    /// when `projection` is `None`) can be told apart and read.
+    fn check_columns(&self, text_columns: &[&str], projection: Option<&[&str]>) -> Result<(), Error> {
+        let input = |message: String| Error::Input {
+            path: self.path.clone(),
+            message,
+        };
+        if let Some(missing) = text_columns.iter().find(|c| !self.names.iter().any(|n| n == *c)) {
+            return Err(Error::MissingColumn {
+                path: self.path.clone(),
+                column: escaped_name(missing),
+                available: self.names.iter().map(|n| escaped_name(n)).collect(),
+            });
+        }
+        let read: Vec<&str> = match projection {
+            Some(cols) => cols.to_vec(),
+            None => self.names.iter().map(String::as_str).collect(),
+        };
+        if let Some((name, at)) = repeated_name(&self.names, &read) {
+            return Err(input(format!(
+                "the column name {} is given to more than one column ({}); descry cannot tell them apart: \
+                 rename one",
+                shown(name),
+                positions(&at)
+            )));
+        }
+        let Some(file) = &self.file_columns else {
+            return Ok(());
+        };
+        if let Some((name, dtype)) = read.iter().find_map(|c| file.unsupported_type(c).map(|t| (c, t))) {
+            return Err(input(format!(
+                "column {} has the type {dtype}, which descry cannot read (its polars is built without \
+                 that type); convert the column to a plain type, or leave it out (apply --only-features \
+                 --keep names the columns to carry)",
+                shown(name)
+            )));
+        }
+        Ok(())
+    }
+
+    /// Whether polars can scan the whole file (a streaming scan converts
+    /// every column's type, read or not).
+    fn scannable(&self) -> bool {
+        self.file_columns.as_ref().is_none_or(FileColumns::all_readable)
+    }
+
+    /// The file positions of `columns`.
+    fn indices(&self, columns: &[&str]) -> Vec<usize> {
+        columns
+            .iter()
+            .filter_map(|c| self.names.iter().position(|n| n == c))
+            .collect()
+    }
+
+    fn error(&self, opts: &ReadOptions, e: PolarsError) -> Error {
+        read_error(&self.path, &self.source, self.format, opts, e)
+    }
+}
+
+/// The first of `read` whose name more than one column has, with the
+/// 1-based positions of those columns.
+fn repeated_name<'a>(names: &[String], read: &[&'a str]) -> Option<(&'a str, Vec<usize>)> {
+    read.iter().find_map(|c| {
+        let at: Vec<usize> = (0..names.len()).filter(|&i| names[i] == *c).map(|i| i + 1).collect();
+        (at.len() > 1).then_some((*c, at))
+    })
+}
+
+/// "columns 2 and 5", "columns 1, 3 and 4".
+pub(crate) fn positions(at: &[usize]) -> String {
+    let list: Vec<String> = at.iter().map(|p| p.to_string()).collect();
+    match list.split_last() {
+        Some((last, rest)) if !rest.is_empty() => format!("columns {} and {last}", rest.join(", ")),
+        _ => format!("column {}", list.join("")),
+    }
+}
+
+/// A column name as shown in a message, control characters escaped.
+fn escaped_name(name: &str) -> String {
+    name.escape_debug().to_string()
+}
+
+/// The names of every column of a CSV or JSON table, read from its header
+/// or its records.
 fn column_names(
     source: &Source,
     format: TableFormat,
@@ -201,6 +355,12 @@ fn column_names(
         TableFormat::Csv { delimiter } => {
             // polars parses only the header record: its whole-file reader,
             // even when asked for no rows, splits and parses chunks ahead.
+            let header = Source::Bytes(header_record(source)?);
+            if let Some((name, at)) = repeated_header(&header, delimiter) {
+                polars_bail!(ComputeError:
+                    "the header gives the name {} to more than one column ({}); rename one",
+                    shown(&name), positions(&at));
+            }
             let options = CsvReadOptions::default()
                 .with_has_header(true)
                 .with_parse_options(
@@ -208,7 +368,6 @@ fn column_names(
                         .with_separator(delimiter)
                         .with_encoding(encoding(opts)),
                 );
-            let header = Source::Bytes(header_record(source)?);
             let frame = csv_reader(&header, options)?;
             frame
                 .get_column_names()
@@ -216,21 +375,58 @@ fn column_names(
                 .map(|s| s.to_string())
                 .collect()
         }
-        TableFormat::Parquet => arrow_names(ParquetReader::new(source.file()?).schema()?.as_ref()),
-        TableFormat::Ipc => arrow_names(IpcReader::new(source.file()?).schema()?.as_ref()),
-        TableFormat::NdJson => {
-            let frame = JsonReader::new(source.file()?)
-                .with_json_format(JsonFormat::JsonLines)
-                .infer_schema_len(std::num::NonZeroUsize::new(1000))
-                .finish()?;
-            frame
-                .get_column_names()
-                .iter()
-                .map(|s| s.to_string())
-                .collect()
+        TableFormat::NdJson | TableFormat::Json => read_json(source, format)?
+            .get_column_names()
+            .iter()
+            .map(|s| s.to_string())
+            .collect(),
+        TableFormat::Parquet | TableFormat::Ipc => {
+            polars_bail!(ComputeError: "Parquet and IPC names come from their schema")
         }
     };
     Ok(names)
+}
+
+/// A name the CSV header record gives to more than one column, with their
+/// 1-based positions.
+fn repeated_header(header: &Source, delimiter: u8) -> Option<(String, Vec<usize>)> {
+    let Source::Bytes(bytes) = header else {
+        return None;
+    };
+    let bytes = bytes.strip_prefix(b"\xef\xbb\xbf").unwrap_or(bytes);
+    let record = csv::ReaderBuilder::new()
+        .delimiter(delimiter)
+        .has_headers(false)
+        .from_reader(bytes)
+        .byte_records()
+        .next()?
+        .ok()?;
+    let names: Vec<String> = record.iter().map(|f| String::from_utf8_lossy(f).into_owned()).collect();
+    let all: Vec<&str> = names.iter().map(String::as_str).collect();
+    repeated_name(&names, &all).map(|(n, at)| (n.to_owned(), at))
+}
+
+/// Read a JSON table whole: records one per line, or (`.json`) one array
+/// of records. The schema is taken from every record, so that a key first
+/// seen deep in the file is not dropped.
+fn read_json(source: &Source, format: TableFormat) -> PolarsResult<DataFrame> {
+    let bytes = std::fs::read(match source {
+        Source::File(p) => p,
+        Source::Bytes(_) => polars_bail!(ComputeError: "standard input holds CSV only"),
+    })?;
+    if let Some(line) = sniff::too_deep(&bytes, sniff::MAX_JSON_DEPTH) {
+        polars_bail!(ComputeError:
+            "line {line}: values nested deeper than {} levels; descry reads records of plain values \
+             (flatten the nested fields first)", sniff::MAX_JSON_DEPTH);
+    }
+    let json_format = match format {
+        TableFormat::Json if sniff::is_json_array(&bytes) => JsonFormat::Json,
+        _ => JsonFormat::JsonLines,
+    };
+    JsonReader::new(Cursor::new(bytes))
+        .with_json_format(json_format)
+        .infer_schema_len(None)
+        .finish()
 }
 
 /// The longest header record read: past it, the file has no line break
@@ -301,11 +497,11 @@ fn csv_reader(source: &Source, options: CsvReadOptions) -> PolarsResult<DataFram
 fn missing_column(path: &Path, frame: &DataFrame, name: &str) -> Error {
     Error::MissingColumn {
         path: path.to_owned(),
-        column: name.to_owned(),
+        column: escaped_name(name),
         available: frame
             .get_column_names()
             .iter()
-            .map(|s| s.to_string())
+            .map(|s| escaped_name(s))
             .collect(),
     }
 }
@@ -340,6 +536,16 @@ fn check_readable(path: &Path) -> Result<(), Error> {
             message: "is a folder, not a table file".to_owned(),
         });
     }
+    if !meta.is_file() {
+        // A pipe or a device can be read only once, and descry reads a
+        // file twice (its header or schema, then its rows).
+        return Err(Error::Input {
+            path: path.to_owned(),
+            message: "is a pipe or a device, not a file; give - to read a CSV table from standard \
+                      input, or save the table to a file first"
+                .to_owned(),
+        });
+    }
     if meta.len() == 0 {
         return Err(Error::Input {
             path: path.to_owned(),
@@ -350,37 +556,32 @@ fn check_readable(path: &Path) -> Result<(), Error> {
 }
 
 fn read_frame(
-    source: &Source,
-    format: TableFormat,
+    file: &Opened,
     text_columns: &[&str],
     projection: Option<&[&str]>,
     opts: &ReadOptions,
 ) -> PolarsResult<DataFrame> {
-    let owned = |cols: &[&str]| cols.iter().map(|s| s.to_string()).collect::<Vec<_>>();
-    match format {
+    // By position: a name may also belong to a column that is not read.
+    let indices = projection.map(|cols| file.indices(cols));
+    let source = &file.source;
+    match file.format {
         TableFormat::Csv { delimiter } => {
             read_csv(source, delimiter, text_columns, projection, opts)
         }
         TableFormat::Parquet => ParquetReader::new(source.file()?)
-            .with_columns(projection.map(owned))
+            .with_projection(indices)
             .finish(),
         TableFormat::Ipc => IpcReader::new(source.file()?)
-            .with_columns(projection.map(owned))
+            .with_projection(indices)
             .finish(),
-        TableFormat::NdJson => {
-            let frame = JsonReader::new(source.file()?)
-                .with_json_format(JsonFormat::JsonLines)
-                .finish()?;
+        TableFormat::NdJson | TableFormat::Json => {
+            let frame = read_json(source, file.format)?;
             match projection {
-                Some(cols) => frame.select(owned(cols)),
+                Some(cols) => frame.select(cols.iter().copied()),
                 None => Ok(frame),
             }
         }
     }
-}
-
-fn arrow_names(schema: &ArrowSchema) -> Vec<String> {
-    schema.iter_names().map(|s| s.to_string()).collect()
 }
 
 fn read_csv(
@@ -454,8 +655,9 @@ fn diagnose_csv(source: &Source, delimiter: u8, lossy_utf8: bool) -> Option<Stri
                         .map(String::from_utf8_lossy)
                         .unwrap_or_default();
                     return Some(format!(
-                        "row {row} (line {line}), column \"{column}\": invalid UTF-8; re-encode the file \
-                         as UTF-8, or pass --lossy-utf8 to replace bad bytes with U+FFFD"
+                        "row {row} (line {line}), column \"{}\": invalid UTF-8; re-encode the file \
+                         as UTF-8, or pass --lossy-utf8 to replace bad bytes with U+FFFD",
+                        escaped_name(&column)
                     ));
                 }
             }
@@ -482,19 +684,23 @@ fn unclosed_quote_line(bytes: &[u8]) -> Option<usize> {
 
 /// The column names of a table, from its header or schema.
 pub fn table_columns(path: &Path, opts: &ReadOptions) -> Result<Vec<String>, Error> {
-    let format = TableFormat::of(path, opts.delimiter)?;
-    let source = Source::open(path)?;
-    column_names(&source, format, opts).map_err(|e| input_error(path, e))
+    Ok(Opened::new(path, opts)?.names)
 }
 
-/// Whether a table can be read batch by batch (files in CSV, Parquet or
-/// Arrow IPC); standard input and NDJSON are read whole.
+/// Whether a table can be read batch by batch: files in CSV, Parquet or
+/// Arrow IPC, when polars can read every column of the file (its scan
+/// converts every column's type). Standard input, JSON and files with
+/// columns polars cannot hold are read whole, and only the columns asked
+/// for.
 pub fn can_stream(path: &Path, opts: &ReadOptions) -> bool {
-    path.as_os_str() != "-"
+    let streamable_format = path.as_os_str() != "-"
         && matches!(
             TableFormat::of(path, opts.delimiter),
             Ok(TableFormat::Csv { .. } | TableFormat::Parquet | TableFormat::Ipc)
-        )
+        );
+    // A file that cannot be opened streams as far as this question goes:
+    // the reader then reports why.
+    streamable_format && Opened::new(path, opts).is_ok_and(|f| f.scannable())
 }
 
 /// The rows of one text column of a batch from [`for_each_batch`]; an error
@@ -524,36 +730,26 @@ pub struct StreamedTable {
     pub lazy: LazyFrame,
     /// Notes for the user, as [`Table::notes`].
     pub notes: Vec<String>,
-    path: PathBuf,
-    source: Source,
-    format: TableFormat,
+    file: Opened,
     opts: ReadOptions,
 }
 
 impl StreamedTable {
     /// Open `path` (checking that it holds `text_columns`); `projection`
-    /// limits the columns read.
+    /// limits the columns read. The file must be one [`can_stream`] accepts.
     pub fn open(
         path: &Path,
         text_columns: &[&str],
         projection: Option<&[&str]>,
         opts: &ReadOptions,
     ) -> Result<StreamedTable, Error> {
-        let format = TableFormat::of(path, opts.delimiter)?;
-        let source = Source::open(path)?;
-        let fail = |e| read_error(path, &source, format, opts, e);
-        let names = column_names(&source, format, opts).map_err(fail)?;
-        if let Some(missing) = text_columns.iter().find(|c| !names.iter().any(|n| n == *c)) {
-            return Err(Error::MissingColumn {
-                path: path.to_owned(),
-                column: missing.to_string(),
-                available: names,
-            });
-        }
-        let mut lazy = scan(path, format, text_columns, opts).map_err(fail)?;
+        let file = Opened::new(path, opts)?;
+        file.check_columns(text_columns, projection)?;
+        let fail = |e| file.error(opts, e);
+        let mut lazy = scan(path, file.format, text_columns, opts).map_err(fail)?;
         if let Some(cols) = projection {
             lazy = lazy.select(cols.iter().map(|c| col(*c)).collect::<Vec<_>>());
-            if matches!(format, TableFormat::Csv { .. }) {
+            if matches!(file.format, TableFormat::Csv { .. }) {
                 // A CSV scan limited to some columns does not notice a row
                 // with more fields than the header; every field is parsed
                 // so that such a row is reported wherever it is.
@@ -563,24 +759,21 @@ impl StreamedTable {
         let schema = lazy.collect_schema().map_err(fail)?;
         let notes = text_columns
             .iter()
-            .filter_map(|c| {
-                schema
-                    .get(c)
-                    .filter(|t| !matches!(t, DataType::String | DataType::Null))
-                    .map(|t| (c, t))
-            })
-            .map(|(c, t)| format!("column \"{c}\" holds {t} values; they were read as text"))
+            .filter_map(|c| schema.get(c).map(|t| (c, t)))
+            .filter(|(_, t)| **t != DataType::String)
+            .filter_map(|(c, t)| text_note(c, t, opts.keep_types))
             .collect();
-        let casts: Vec<Expr> = text_columns
-            .iter()
-            .map(|c| col(*c).cast(DataType::String))
-            .collect();
+        if !opts.keep_types {
+            let casts: Vec<Expr> = text_columns
+                .iter()
+                .map(|c| col(*c).cast(DataType::String))
+                .collect();
+            lazy = lazy.with_columns(casts);
+        }
         Ok(StreamedTable {
-            lazy: lazy.with_columns(casts),
+            lazy,
             notes,
-            path: path.to_owned(),
-            source,
-            format,
+            file,
             opts: opts.clone(),
         })
     }
@@ -588,7 +781,7 @@ impl StreamedTable {
     /// An error of the running scan, located in the file when it is a CSV
     /// the reader rejected.
     pub fn read_error(&self, e: PolarsError) -> Error {
-        read_error(&self.path, &self.source, self.format, &self.opts, e)
+        self.file.error(&self.opts, e)
     }
 }
 
@@ -665,6 +858,9 @@ fn read_error(
     }
 }
 
+/// A lazy scan of the file at `path` itself: polars' glob expansion
+/// (`data[1].csv` read as `data1.csv`, `*` as many files) and folder
+/// partitioning are off, because a path names one file.
 fn scan(
     path: &Path,
     format: TableFormat,
@@ -679,14 +875,32 @@ fn scan(
                 .map(|c| Field::new((*c).into(), DataType::String))
                 .collect();
             LazyCsvReader::new(p)
+                .with_glob(false)
                 .with_has_header(true)
                 .with_separator(delimiter)
                 .with_encoding(encoding(opts))
                 .with_dtype_overwrite(Some(Arc::new(overwrite)))
                 .finish()
         }
-        TableFormat::Parquet => LazyFrame::scan_parquet(p, ScanArgsParquet::default()),
-        TableFormat::Ipc => LazyFrame::scan_ipc(p, Default::default(), Default::default()),
-        TableFormat::NdJson => polars_bail!(ComputeError: "NDJSON is read whole, not in batches"),
+        TableFormat::Parquet => LazyFrame::scan_parquet(
+            p,
+            ScanArgsParquet {
+                glob: false,
+                hive_options: HiveOptions::new_disabled(),
+                ..ScanArgsParquet::default()
+            },
+        ),
+        TableFormat::Ipc => LazyFrame::scan_ipc(
+            p,
+            Default::default(),
+            UnifiedScanArgs {
+                glob: false,
+                hive_options: HiveOptions::new_disabled(),
+                ..UnifiedScanArgs::default()
+            },
+        ),
+        TableFormat::NdJson | TableFormat::Json => {
+            polars_bail!(ComputeError: "JSON is read whole, not in batches")
+        }
     }
 }

@@ -10,7 +10,6 @@ use std::path::{Path, PathBuf};
 
 use polars::io::utils::file::{Writable, WritableTrait};
 use polars::prelude::*;
-use rayon::prelude::*;
 
 use crate::error::Error;
 
@@ -43,31 +42,76 @@ impl OutputFormat {
     }
 }
 
-/// Refuse outputs that would overwrite an input, or land in a missing folder.
+/// Refuse outputs that would overwrite an input, land in a missing folder,
+/// name a folder, or replace a read-only file; before any work is done.
 pub fn check_output_path(output: &Path, inputs: &[&Path]) -> Result<OutputFormat, Error> {
+    check_output_file(output)?;
     let format = OutputFormat::of(output)?;
+    check_not_an_input(output, inputs)?;
+    Ok(format)
+}
+
+/// Refuse a path that cannot name a new or replaceable file: a folder, a
+/// path ending in `/`, a missing folder, a read-only file.
+pub fn check_output_file(output: &Path) -> Result<(), Error> {
+    let refuse = |message: String| {
+        Err(Error::Output {
+            path: output.to_owned(),
+            message,
+        })
+    };
+    if output.is_dir() || output.as_os_str().as_encoded_bytes().ends_with(b"/") {
+        return refuse("is a folder; name the file to write, e.g. DIR/features.parquet".to_owned());
+    }
     let folder = parent_folder(output);
     if !folder.is_dir() {
-        return Err(Error::Output {
+        return refuse(format!(
+            "the folder {} does not exist; create it first",
+            folder.display()
+        ));
+    }
+    check_replaceable(output)
+}
+
+/// Refuse to replace a file that has no write permission bit: a user who
+/// made it read-only meant to keep it (root would otherwise replace it,
+/// since permissions do not stop root).
+pub fn check_replaceable(path: &Path) -> Result<(), Error> {
+    use std::os::unix::fs::PermissionsExt;
+    match std::fs::metadata(path) {
+        Ok(meta) if meta.permissions().mode() & 0o222 == 0 => Err(Error::Output {
+            path: path.to_owned(),
+            message: format!(
+                "is read-only (mode {:o}); descry does not replace a read-only file: make it \
+                 writable (chmod u+w) or choose another output",
+                meta.permissions().mode() & 0o7777
+            ),
+        }),
+        _ => Ok(()),
+    }
+}
+
+/// Refuse an output that is one of the inputs (the same file under any
+/// name, hard links included): descry never writes over what it reads.
+pub fn check_not_an_input(output: &Path, inputs: &[&Path]) -> Result<(), Error> {
+    use std::os::unix::fs::MetadataExt;
+    let Ok(out) = std::fs::metadata(output) else {
+        return Ok(());
+    };
+    let same = |input: &&&Path| {
+        input.as_os_str() != "-"
+            && std::fs::metadata(input).is_ok_and(|m| m.dev() == out.dev() && m.ino() == out.ino())
+    };
+    match inputs.iter().find(same) {
+        Some(input) => Err(Error::Output {
             path: output.to_owned(),
             message: format!(
-                "the folder {} does not exist; create it first",
-                folder.display()
+                "is also the input {}; descry never overwrites its input, choose another output",
+                input.display()
             ),
-        });
+        }),
+        None => Ok(()),
     }
-    let out_id = std::fs::canonicalize(output).ok();
-    for input in inputs {
-        let same = out_id.is_some() && std::fs::canonicalize(input).ok() == out_id;
-        if same {
-            return Err(Error::Output {
-                path: output.to_owned(),
-                message: "is also the input; descry never overwrites its input, choose another -o"
-                    .to_owned(),
-            });
-        }
-    }
-    Ok(format)
 }
 
 /// Write a small text file (a ruleset) atomically: a temporary file in the
@@ -78,25 +122,11 @@ pub fn write_text_atomically(path: &Path, text: &str) -> Result<(), Error> {
         path: path.to_owned(),
         message: format!("cannot write: {e}"),
     };
-    let folder = parent_folder(path);
-    if !folder.is_dir() {
-        return Err(Error::Output {
-            path: path.to_owned(),
-            message: format!(
-                "the folder {} does not exist; create it first",
-                folder.display()
-            ),
-        });
-    }
-    let mut temp = tempfile::Builder::new()
-        .prefix(".descry-")
-        .suffix(".partial")
-        .tempfile_in(&folder)
-        .map_err(err)?;
-    std::io::Write::write_all(&mut temp, text.as_bytes()).map_err(err)?;
+    check_output_file(path)?;
+    let (temp, mut file) = partial_file(path)?;
+    file.write_all(text.as_bytes()).map_err(err)?;
     temp.as_file().sync_all().map_err(err)?;
-    temp.persist(path).map_err(|e| err(e.error))?;
-    Ok(())
+    move_into_place(temp, path)
 }
 
 fn parent_folder(path: &Path) -> PathBuf {
@@ -106,15 +136,14 @@ fn parent_folder(path: &Path) -> PathBuf {
     }
 }
 
-/// Write `frame` to `output` atomically (one batch of a [`TableSink`]).
-pub fn write_table(
-    frame: &mut DataFrame,
-    output: &Path,
-    format: OutputFormat,
-) -> Result<(), Error> {
-    let mut sink = TableSink::create(output, format, &frame.schema().clone())?;
-    sink.write(frame)?;
-    sink.finish()
+/// Write a table in memory to `output` atomically, through the same
+/// writer as [`sink_table`], so that a table written whole and one
+/// streamed have the same schema (the same Arrow string type, for one).
+pub fn write_table(frame: DataFrame, output: &Path, format: OutputFormat) -> Result<(), Error> {
+    sink_table(frame.lazy(), output, format, ROW_GROUP_ROWS, |e| Error::Output {
+        path: output.to_owned(),
+        message: format!("cannot write: {e}"),
+    })
 }
 
 /// Run `lazy` with polars' streaming engine into `output`, atomically: the
@@ -190,6 +219,8 @@ fn partial_file(output: &Path) -> Result<(tempfile::NamedTempFile, SyncingFile),
     let temp = tempfile::Builder::new()
         .prefix(".descry-")
         .suffix(".partial")
+        // A new file's mode is 0666 less the umask, as any program's.
+        .permissions(std::os::unix::fs::PermissionsExt::from_mode(0o666))
         .tempfile_in(&folder)
         .map_err(|e| {
             out_err(format!(
@@ -197,6 +228,12 @@ fn partial_file(output: &Path) -> Result<(tempfile::NamedTempFile, SyncingFile),
                 folder.display()
             ))
         })?;
+    if let Ok(meta) = std::fs::metadata(output) {
+        // The umask may have taken bits the file it replaces had.
+        std::fs::set_permissions(temp.path(), meta.permissions())
+            .map_err(|e| out_err(format!("cannot give the temporary file the output's mode: {e}")))?;
+    }
+    partials().push(temp.path().to_owned());
     let file = temp
         .reopen()
         .map_err(|e| out_err(format!("cannot open the temporary file: {e}")))?;
@@ -206,11 +243,42 @@ fn partial_file(output: &Path) -> Result<(tempfile::NamedTempFile, SyncingFile),
 /// Rename a finished (synced) temporary file over `output` and make the
 /// rename durable.
 fn move_into_place(temp: tempfile::NamedTempFile, output: &Path) -> Result<(), Error> {
+    // Under the lock, so that a signal arriving now finds the file either
+    // still partial (and removes it) or already in place.
+    let mut partials = partials();
+    partials.retain(|p| p != temp.path());
     temp.persist(output).map_err(|e| Error::Output {
         path: output.to_owned(),
         message: format!("cannot move the finished file into place: {}", e.error),
     })?;
+    drop(partials);
     sync_folder(&parent_folder(output));
+    Ok(())
+}
+
+/// The temporary files being written. A signal ends the process without
+/// running destructors, so they are removed from this list instead.
+static PARTIALS: std::sync::Mutex<Vec<PathBuf>> = std::sync::Mutex::new(Vec::new());
+
+fn partials() -> std::sync::MutexGuard<'static, Vec<PathBuf>> {
+    PARTIALS.lock().unwrap_or_else(|poisoned| poisoned.into_inner())
+}
+
+/// On SIGINT, SIGTERM or SIGHUP, remove the temporary files being written
+/// and exit with 128 + the signal's number (as a shell reports a process
+/// a signal ended). Any existing output stays as it was.
+pub fn remove_partials_on_signals() -> std::io::Result<()> {
+    use signal_hook::consts::{SIGHUP, SIGINT, SIGTERM};
+    let mut signals = signal_hook::iterator::Signals::new([SIGINT, SIGTERM, SIGHUP])?;
+    std::thread::spawn(move || {
+        if let Some(signal) = signals.forever().next() {
+            let partials = partials();
+            for path in partials.iter() {
+                let _ = std::fs::remove_file(path);
+            }
+            std::process::exit(128 + signal);
+        }
+    });
     Ok(())
 }
 
@@ -224,19 +292,6 @@ fn sync_folder(folder: &Path) {
 /// Rows per Parquet row group at most (each batch is cut into row groups of
 /// this size): polars' own default, 512².
 pub const ROW_GROUP_ROWS: usize = 512 * 512;
-
-type BatchFn = Box<dyn FnMut(Option<&mut DataFrame>) -> PolarsResult<()> + Send>;
-
-/// An output written batch by batch (Parquet row groups, CSV lines) into a
-/// temporary file that becomes the output only in [`TableSink::finish`].
-/// Dropping the sink without finishing removes the temporary file and
-/// leaves any existing output as it was.
-pub struct TableSink {
-    output: PathBuf,
-    temp: tempfile::NamedTempFile,
-    write: BatchFn,
-    rows: u64,
-}
 
 /// Written-but-unsynced bytes allowed before an output file is flushed to
 /// disk. Dirty pages count against a memory-capped process, so a large
@@ -283,115 +338,4 @@ impl WritableTrait for SyncingFile {
     fn sync_data(&self) -> std::io::Result<()> {
         self.file.sync_data()
     }
-}
-
-impl TableSink {
-    pub fn create(
-        output: &Path,
-        format: OutputFormat,
-        schema: &Schema,
-    ) -> Result<TableSink, Error> {
-        let (temp, file) = partial_file(output)?;
-        // Unbuffered: polars writes in large blocks, and an error on the last
-        // flush must not be lost in a buffer's drop.
-        let write = batch_writer(file, format, schema).map_err(|e| Error::Output {
-            path: output.to_owned(),
-            message: format!("cannot start writing: {e}"),
-        })?;
-        Ok(TableSink {
-            output: output.to_owned(),
-            temp,
-            write,
-            rows: 0,
-        })
-    }
-
-    pub fn write(&mut self, batch: &mut DataFrame) -> Result<(), Error> {
-        let out_err = |message: String| Error::Output {
-            path: self.output.clone(),
-            message,
-        };
-        self.rows += batch.height() as u64;
-        (self.write)(Some(batch)).map_err(|e| out_err(format!("cannot write: {e}")))
-    }
-
-    pub fn rows(&self) -> u64 {
-        self.rows
-    }
-
-    /// Finish the file, flush it to disk and move it into place.
-    pub fn finish(mut self) -> Result<(), Error> {
-        let out_err = |message: String| Error::Output {
-            path: self.output.clone(),
-            message,
-        };
-        (self.write)(None).map_err(|e| out_err(format!("cannot finish writing: {e}")))?;
-        self.temp
-            .as_file()
-            .sync_all()
-            .map_err(|e| out_err(format!("cannot flush to disk: {e}")))?;
-        move_into_place(self.temp, &self.output)
-    }
-}
-
-fn batch_writer(w: SyncingFile, format: OutputFormat, schema: &Schema) -> PolarsResult<BatchFn> {
-    Ok(match format {
-        OutputFormat::Parquet => {
-            let mut writer = Some(ParquetWriter::new(w).batched(schema)?);
-            Box::new(move |batch: Option<&mut DataFrame>| match batch {
-                Some(df) => {
-                    df.align_chunks_par();
-                    let writer = writer.as_ref().expect("open");
-                    // Row groups are encoded in parallel (a single heavy
-                    // column no longer holds up the batch), then written in
-                    // order.
-                    let parts: Vec<DataFrame> = (0..df.height())
-                        .step_by(ROW_GROUP_ROWS)
-                        .map(|at| df.slice(at as i64, ROW_GROUP_ROWS))
-                        .collect();
-                    let groups = parts
-                        .par_iter()
-                        .map(|part| writer.encode_and_compress(part).collect::<Vec<_>>())
-                        .collect::<Vec<_>>();
-                    let groups = groups
-                        .into_iter()
-                        .flatten()
-                        .collect::<PolarsResult<Vec<_>>>()?;
-                    writer.write_row_groups(groups)
-                }
-                None => writer.take().expect("open").finish().map(|_| ()),
-            })
-        }
-        OutputFormat::Csv { delimiter } => {
-            let mut writer = CsvWriter::new(w)
-                .with_separator(delimiter)
-                .batched(schema)?;
-            Box::new(move |batch: Option<&mut DataFrame>| match batch {
-                Some(df) => writer.write_batch(df),
-                None => writer.finish(),
-            })
-        }
-        OutputFormat::Ipc => {
-            // Arrow IPC files are written whole at the end: batches are kept.
-            let mut kept: Option<DataFrame> = None;
-            let mut w = Some(w);
-            Box::new(move |batch: Option<&mut DataFrame>| match batch {
-                Some(df) => match kept.as_mut() {
-                    Some(all) => all.vstack_mut(df).map(|_| ()),
-                    None => {
-                        kept = Some(df.clone());
-                        Ok(())
-                    }
-                },
-                None => {
-                    let mut w = w.take().expect("open");
-                    if let Some(mut all) = kept.take() {
-                        IpcWriter::new(&mut w).finish(&mut all)?;
-                    }
-                    w.flush()?;
-                    Ok(())
-                }
-            })
-        }
-    })
 }
