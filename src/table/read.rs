@@ -341,7 +341,7 @@ pub(crate) fn positions(at: &[usize]) -> String {
 
 /// A column name as shown in a message, control characters escaped.
 fn escaped_name(name: &str) -> String {
-    name.escape_debug().to_string()
+    crate::render::escaped(name)
 }
 
 /// The names of every column of a CSV or JSON table, read from its header

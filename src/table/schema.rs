@@ -82,7 +82,7 @@ pub fn ipc_columns(path: &Path) -> PolarsResult<FileColumns> {
         polars_bail!(ComputeError:
             "column \"{}\" is {what}, which descry's Arrow IPC reader cannot open, whichever columns are read; \
              write the file without it (e.g. pyarrow: cast the column to its plain type)",
-            name.escape_debug());
+            crate::render::escaped(name));
     }
     let names = fields.into_iter().map(|(n, _)| n).collect();
     let schema = IpcReader::new(File::open(path)?).schema()?;
@@ -93,7 +93,7 @@ pub fn ipc_columns(path: &Path) -> PolarsResult<FileColumns> {
         polars_bail!(ComputeError:
             "the column name \"{}\" is given to more than one column ({}); descry's Arrow IPC reader \
              cannot read such a file, whichever columns are read: rename one",
-            name.escape_debug(), crate::read::positions(&at));
+            crate::render::escaped(name), crate::read::positions(&at));
     }
     Ok(columns)
 }
