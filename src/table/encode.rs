@@ -373,18 +373,6 @@ fn label_type(categories: &[String]) -> PolarsResult<DataType> {
     Ok(DataType::from_frozen_categories(frozen))
 }
 
-/// An Enum column of category ids (see [`label_type`]); `None` is null.
-pub fn label_series(
-    name: PlSmallStr,
-    categories: &[String],
-    rows: Vec<Option<u32>>,
-) -> PolarsResult<Series> {
-    let ids = UInt32Chunked::from_iter_options(name, rows.into_iter());
-    let dtype = label_type(categories)?;
-    let ids = ids.cast(&DataType::from(dtype.cat_physical()?))?;
-    Series::from_cats_and_dtype(&ids, &dtype, true)
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -409,15 +397,5 @@ mod tests {
             IntType::Int32
         );
         assert_eq!(IntType::for_range(0, 2_147_483_648), IntType::Int64);
-    }
-
-    #[test]
-    fn label_series_keeps_declared_categories_and_codes() {
-        let cats = vec!["manual".to_owned(), "cvt".to_owned(), "unused".to_owned()];
-        let s = label_series("kind".into(), &cats, vec![Some(1), None, Some(0)]).unwrap();
-        assert!(matches!(s.dtype(), DataType::Enum(_, _)));
-        let text = s.cast(&DataType::String).unwrap();
-        let got: Vec<Option<&str>> = text.str().unwrap().iter().collect();
-        assert_eq!(got, vec![Some("cvt"), None, Some("manual")]);
     }
 }
