@@ -31,6 +31,8 @@ pub const RULESET_FILE: &str = "fuzz/ruleset.toml";
 /// Panic messages seen since the last `guarded` call began, from any
 /// thread (a reader thread's panic may surface only as an error).
 static PANICS: Mutex<Vec<String>> = Mutex::new(Vec::new());
+/// Whether a check is running, so that its panics are recorded, not shown.
+static GUARDING: std::sync::atomic::AtomicBool = std::sync::atomic::AtomicBool::new(false);
 /// One input at a time: the panic record is shared by all threads.
 static ONE_AT_A_TIME: Mutex<()> = Mutex::new(());
 
@@ -49,6 +51,11 @@ fn install_quiet_hook() {
                 .map(|l| format!("{}:{}", l.file(), l.line()))
                 .unwrap_or_default();
             let thread = std::thread::current().name().unwrap_or("?").to_owned();
+            if !GUARDING.load(std::sync::atomic::Ordering::SeqCst) {
+                // A test's own assertion, outside any check: show it.
+                eprintln!("thread {thread} panicked at {place}:\n{message}");
+                return;
+            }
             let mut seen = PANICS.lock().unwrap_or_else(|e| e.into_inner());
             seen.push(format!("panic in thread {thread} at {place}: {message}"));
         }));
@@ -61,7 +68,9 @@ pub fn guarded(check: impl FnOnce() -> Result<String, String>) -> Result<String,
     install_quiet_hook();
     let _one = ONE_AT_A_TIME.lock().unwrap_or_else(|e| e.into_inner());
     PANICS.lock().unwrap_or_else(|e| e.into_inner()).clear();
+    GUARDING.store(true, std::sync::atomic::Ordering::SeqCst);
     let result = panic::catch_unwind(AssertUnwindSafe(check));
+    GUARDING.store(false, std::sync::atomic::Ordering::SeqCst);
     let panics = std::mem::take(&mut *PANICS.lock().unwrap_or_else(|e| e.into_inner()));
     if !panics.is_empty() {
         return Err(panics.join("\n"));
@@ -304,8 +313,8 @@ pub fn check_table(bytes: &[u8], kind: TableKind, dir: &Path) -> Result<String, 
     let mut kinds = Vec::new();
     for lossy_utf8 in [false, true] {
         let opts = ReadOptions {
-            delimiter: None,
             lossy_utf8,
+            ..ReadOptions::default()
         };
         if lossy_utf8 && std::str::from_utf8(bytes).is_ok() {
             continue;
