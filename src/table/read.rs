@@ -598,8 +598,13 @@ fn read_csv(
     // Every column is parsed and the projection taken afterwards: a reader
     // limited to some columns does not notice a row with more fields than
     // the header.
+    // When some columns are read, the others are parsed as text only to
+    // check each row's length: a column inferred as integers from its first
+    // rows must not fail the read at a value such as 9223372036854775808.
+    let infer = if projection.is_some() { Some(0) } else { Some(100) };
     let options = CsvReadOptions::default()
         .with_has_header(true)
+        .with_infer_schema_length(infer)
         .with_schema_overwrite(Some(Arc::new(overwrite)))
         .with_parse_options(
             CsvParseOptions::default()
@@ -746,7 +751,8 @@ impl StreamedTable {
         let file = Opened::new(path, opts)?;
         file.check_columns(text_columns, projection)?;
         let fail = |e| file.error(opts, e);
-        let mut lazy = scan(path, file.format, text_columns, opts).map_err(fail)?;
+        let text_only = projection.is_some_and(|cols| cols.iter().all(|c| text_columns.contains(c)));
+        let mut lazy = scan(path, text_only, file.format, text_columns, opts).map_err(fail)?;
         if let Some(cols) = projection {
             lazy = lazy.select(cols.iter().map(|c| col(*c)).collect::<Vec<_>>());
             if matches!(file.format, TableFormat::Csv { .. }) {
@@ -861,8 +867,12 @@ fn read_error(
 /// A lazy scan of the file at `path` itself: polars' glob expansion
 /// (`data[1].csv` read as `data1.csv`, `*` as many files) and folder
 /// partitioning are off, because a path names one file.
+///
+/// `text_only` reads every column as text, for a scan that keeps only the
+/// described columns (see [`read_csv`]).
 fn scan(
     path: &Path,
+    text_only: bool,
     format: TableFormat,
     text_columns: &[&str],
     opts: &ReadOptions,
@@ -877,6 +887,7 @@ fn scan(
             LazyCsvReader::new(p)
                 .with_glob(false)
                 .with_has_header(true)
+                .with_infer_schema_length(if text_only { Some(0) } else { Some(100) })
                 .with_separator(delimiter)
                 .with_encoding(encoding(opts))
                 .with_dtype_overwrite(Some(Arc::new(overwrite)))
