@@ -423,10 +423,48 @@ fn read_json(source: &Source, format: TableFormat) -> PolarsResult<DataFrame> {
         TableFormat::Json if sniff::is_json_array(&bytes) => JsonFormat::Json,
         _ => JsonFormat::JsonLines,
     };
+    if matches!(json_format, JsonFormat::JsonLines) {
+        check_json_lines(&bytes)?;
+    }
     JsonReader::new(Cursor::new(bytes))
         .with_json_format(json_format)
         .infer_schema_len(None)
         .finish()
+}
+
+/// Refuse, before polars parses them, NDJSON lines its reader panics on:
+/// a line that holds no object (`null`), and an integer beyond Int64
+/// (polars infers Int128, alone or as the supertype of UInt64 and Int64,
+/// a type descry's polars is built without).
+fn check_json_lines(bytes: &[u8]) -> PolarsResult<()> {
+    for (i, text) in bytes.split(|&b| b == b'\n').enumerate() {
+        let line = i + 1;
+        let first = text.iter().find(|b| !b.is_ascii_whitespace());
+        if first.is_some_and(|&b| b != b'{') {
+            polars_bail!(ComputeError: "line {line}: a line of NDJSON must hold one object {{...}}");
+        }
+        let (mut in_string, mut escaped) = (false, false);
+        let mut number = String::new();
+        for &b in text.iter().chain([b' '].iter()) {
+            if !in_string && (b.is_ascii_digit() || b"-+.eE".contains(&b)) {
+                number.push(char::from(b));
+                continue;
+            }
+            let integer = !number.is_empty() && !number.contains(['.', 'e', 'E']);
+            if integer && number.parse::<i64>().is_err() {
+                polars_bail!(ComputeError:
+                    "line {line}: the integer {number} does not fit in a signed 64-bit integer; write it as a string");
+            }
+            number.clear();
+            match b {
+                _ if escaped => escaped = false,
+                b'\\' if in_string => escaped = true,
+                b'"' => in_string = !in_string,
+                _ => {}
+            }
+        }
+    }
+    Ok(())
 }
 
 /// The longest header record read: past it, the file has no line break
