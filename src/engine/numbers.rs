@@ -101,10 +101,21 @@ pub fn number_word(text: &str) -> Option<u32> {
     match (parts.next(), parts.next()) {
         (None, _) => find(UNITS, first)
             .or_else(|| find(TEENS, first))
-            .or_else(|| find(TENS, first)),
+            .or_else(|| find(TENS, first))
+            .or_else(|| joined_tens(first)),
         (Some(second), None) => Some(find(TENS, first)? + find(UNITS, second).filter(|&u| u > 0)?),
         _ => None,
     }
+}
+
+/// A tens word and a unit word written together (`fortyfour`), which
+/// `{count}` matches as it matches `forty-four`.
+fn joined_tens(word: &str) -> Option<u32> {
+    TENS.iter().find_map(|(tens, value)| {
+        let unit = word.strip_prefix(tens)?;
+        let unit = UNITS[1..].iter().find(|(u, _)| *u == unit)?.1;
+        Some(value + unit)
+    })
 }
 
 impl Macro {
@@ -130,14 +141,16 @@ impl Macro {
     pub fn expansion(self, mark: DecimalMark) -> String {
         let t = regex::escape(&mark.thousands().to_string());
         let d = regex::escape(&mark.decimal().to_string());
-        let grouped = format!(r"\d{{1,3}}(?:{t}\d{{3}})+");
+        // ASCII digits only: the regex crate's `\d` is any Unicode digit
+        // (`١٢`, which NFKC keeps), and the parser reads ASCII digits.
+        let grouped = format!(r"[0-9]{{1,3}}(?:{t}[0-9]{{3}})+");
         match self {
-            Macro::Int => format!(r"(?:{grouped}|\d+)"),
+            Macro::Int => format!(r"(?:{grouped}|[0-9]+)"),
             Macro::Count => {
                 let (tens, teens, units) = (words(TENS), words(TEENS), words(UNITS));
                 let ones = words(&UNITS[1..]);
                 format!(
-                    r"(?:{grouped}|\d+|(?i:\b(?:(?:{tens})(?:[- ]?(?:{ones}))?|{teens}|{units})\b))"
+                    r"(?:{grouped}|[0-9]+|(?i:\b(?:(?:{tens})(?:[- ]?(?:{ones}))?|{teens}|{units})\b))"
                 )
             }
             Macro::Num => {
@@ -148,7 +161,7 @@ impl Macro {
                 // The parser then takes only proper fractions with a
                 // denominator of at most 64.
                 format!(
-                    r"(?:\d+(?:-| )\d{{1,2}}{slash}\d{{1,2}}|\d{{1,2}}{slash}\d{{1,2}}|(?:{grouped}|\d+)?{d}\d+|{grouped}|\d+)"
+                    r"(?:[0-9]+(?:-| )[0-9]{{1,2}}{slash}[0-9]{{1,2}}|[0-9]{{1,2}}{slash}[0-9]{{1,2}}|(?:{grouped}|[0-9]+)?{d}[0-9]+|{grouped}|[0-9]+)"
                 )
             }
         }
@@ -175,10 +188,12 @@ pub fn parse_number(text: &str, mark: DecimalMark) -> Option<f64> {
     if text.is_empty() {
         return None;
     }
-    if let Some(value) = parse_fraction_forms(text) {
-        return Some(value);
-    }
-    parse_decimal(text, mark).or_else(|| number_word(text).map(f64::from))
+    let value = match parse_fraction_forms(text) {
+        Some(value) => Some(value),
+        None => parse_decimal(text, mark).or_else(|| number_word(text).map(f64::from)),
+    };
+    // Three hundred digits parse to infinity: that is no number to report.
+    value.filter(|v| v.is_finite())
 }
 
 /// Parse a whole number; `None` when the text is not an integer (`4.5`).
@@ -348,6 +363,29 @@ mod tests {
         assert_eq!(all, ["208", "230", "460"]);
         let all: Vec<&str> = re.find_iter("7-1/2 x 3 3/4").map(|m| m.as_str()).collect();
         assert_eq!(all, ["7-1/2", "3 3/4"]);
+    }
+
+    #[test]
+    fn macros_match_ascii_digits_only() {
+        // Arabic-Indic digits are Unicode digits (`\d`) that NFKC keeps; the
+        // parser reads ASCII digits, so the macros must not match them.
+        for m in [Macro::Int, Macro::Num, Macro::Count] {
+            assert!(!whole_match(m, P, "\u{661}\u{662}"), "{m:?}");
+        }
+    }
+
+    #[test]
+    fn numbers_too_large_for_f64_are_no_numbers() {
+        let digits = "9".repeat(400);
+        assert!(whole_match(Macro::Num, P, &digits));
+        assert_eq!(parse_number(&digits, P), None);
+    }
+
+    #[test]
+    fn count_words_written_together_read_as_with_a_hyphen() {
+        assert!(whole_match(Macro::Count, P, "fortyfour"));
+        assert_eq!(parse_integer("fortyfour", P), Some(44));
+        assert_eq!(number_word("twentyzero"), None);
     }
 
     #[test]

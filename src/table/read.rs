@@ -423,10 +423,48 @@ fn read_json(source: &Source, format: TableFormat) -> PolarsResult<DataFrame> {
         TableFormat::Json if sniff::is_json_array(&bytes) => JsonFormat::Json,
         _ => JsonFormat::JsonLines,
     };
+    if matches!(json_format, JsonFormat::JsonLines) {
+        check_json_lines(&bytes)?;
+    }
     JsonReader::new(Cursor::new(bytes))
         .with_json_format(json_format)
         .infer_schema_len(None)
         .finish()
+}
+
+/// Refuse, before polars parses them, NDJSON lines its reader panics on:
+/// a line that holds no object (`null`), and an integer beyond Int64
+/// (polars infers Int128, alone or as the supertype of UInt64 and Int64,
+/// a type descry's polars is built without).
+fn check_json_lines(bytes: &[u8]) -> PolarsResult<()> {
+    for (i, text) in bytes.split(|&b| b == b'\n').enumerate() {
+        let line = i + 1;
+        let first = text.iter().find(|b| !b.is_ascii_whitespace());
+        if first.is_some_and(|&b| b != b'{') {
+            polars_bail!(ComputeError: "line {line}: a line of NDJSON must hold one object {{...}}");
+        }
+        let (mut in_string, mut escaped) = (false, false);
+        let mut number = String::new();
+        for &b in text.iter().chain([b' '].iter()) {
+            if !in_string && (b.is_ascii_digit() || b"-+.eE".contains(&b)) {
+                number.push(char::from(b));
+                continue;
+            }
+            let integer = !number.is_empty() && !number.contains(['.', 'e', 'E']);
+            if integer && number.parse::<i64>().is_err() {
+                polars_bail!(ComputeError:
+                    "line {line}: the integer {number} does not fit in a signed 64-bit integer; write it as a string");
+            }
+            number.clear();
+            match b {
+                _ if escaped => escaped = false,
+                b'\\' if in_string => escaped = true,
+                b'"' => in_string = !in_string,
+                _ => {}
+            }
+        }
+    }
+    Ok(())
 }
 
 /// The longest header record read: past it, the file has no line break
@@ -598,8 +636,13 @@ fn read_csv(
     // Every column is parsed and the projection taken afterwards: a reader
     // limited to some columns does not notice a row with more fields than
     // the header.
+    // When some columns are read, the others are parsed as text only to
+    // check each row's length: a column inferred as integers from its first
+    // rows must not fail the read at a value such as 9223372036854775808.
+    let infer = if projection.is_some() { Some(0) } else { Some(100) };
     let options = CsvReadOptions::default()
         .with_has_header(true)
+        .with_infer_schema_length(infer)
         .with_schema_overwrite(Some(Arc::new(overwrite)))
         .with_parse_options(
             CsvParseOptions::default()
@@ -746,7 +789,8 @@ impl StreamedTable {
         let file = Opened::new(path, opts)?;
         file.check_columns(text_columns, projection)?;
         let fail = |e| file.error(opts, e);
-        let mut lazy = scan(path, file.format, text_columns, opts).map_err(fail)?;
+        let text_only = projection.is_some_and(|cols| cols.iter().all(|c| text_columns.contains(c)));
+        let mut lazy = scan(path, text_only, file.format, text_columns, opts).map_err(fail)?;
         if let Some(cols) = projection {
             lazy = lazy.select(cols.iter().map(|c| col(*c)).collect::<Vec<_>>());
             if matches!(file.format, TableFormat::Csv { .. }) {
@@ -861,8 +905,12 @@ fn read_error(
 /// A lazy scan of the file at `path` itself: polars' glob expansion
 /// (`data[1].csv` read as `data1.csv`, `*` as many files) and folder
 /// partitioning are off, because a path names one file.
+///
+/// `text_only` reads every column as text, for a scan that keeps only the
+/// described columns (see [`read_csv`]).
 fn scan(
     path: &Path,
+    text_only: bool,
     format: TableFormat,
     text_columns: &[&str],
     opts: &ReadOptions,
@@ -877,6 +925,7 @@ fn scan(
             LazyCsvReader::new(p)
                 .with_glob(false)
                 .with_has_header(true)
+                .with_infer_schema_length(if text_only { Some(0) } else { Some(100) })
                 .with_separator(delimiter)
                 .with_encoding(encoding(opts))
                 .with_dtype_overwrite(Some(Arc::new(overwrite)))

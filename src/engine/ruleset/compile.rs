@@ -435,6 +435,13 @@ fn compile_measure(
             .hint("name the unit every value is converted to, e.g. unit = \"l\""));
     }
     let range = match m.range {
+        // NaN compares false with everything: as a bound it would let
+        // every value through its side of the range.
+        Some([lo, hi]) if lo.is_nan() || hi.is_nan() => {
+            return Err(place
+                .err(Some(title), Some(line), format!("`range = [{lo}, {hi}]` holds NaN"))
+                .hint("write numbers for both bounds"))
+        }
         Some([lo, hi]) if lo > hi => {
             return Err(place.err(
                 Some(title),
@@ -444,6 +451,11 @@ fn compile_measure(
         }
         other => other.map(|[lo, hi]| (lo, hi)),
     };
+    if let Some(missing) = m.missing.filter(|x| !x.is_finite()) {
+        return Err(place
+            .err(Some(title), Some(line), format!("`missing = {missing}` is not a finite number"))
+            .hint("leave `missing` out to write null when nothing matches"));
+    }
     let at = At { title: &title, line, fancy: m.fancy };
     let unless = unless(place, &at, &m.unless_any, &m.unless_pattern, spec, warnings)?;
     let rule = MeasureRule {
