@@ -327,7 +327,10 @@ pub(crate) fn get_line_stats_json(bytes: &[u8], n_lines: usize) -> Option<(f32, 
     for offset in [0, (bytes_len as f32 * 0.75) as usize] {
         bytes_trunc = &bytes[offset..];
         let pos = next_line_position_naive_json(bytes_trunc)?;
-        if pos >= bytes_len {
+        // descry's patch (vendor/README.md): the position is within
+        // `bytes_trunc`, which starts at `offset`; comparing it with the
+        // whole length let `pos + 1` run past the end and panic.
+        if pos >= bytes_trunc.len() {
             return None;
         }
         bytes_trunc = &bytes_trunc[pos + 1..];
