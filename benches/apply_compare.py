@@ -19,7 +19,7 @@ the input columns plus the features of the transmission and engine rulesets):
 
 The Python contenders do not hold hand-written copies of the rules: every
 ruleset is translated from its TOML file here (tomllib), with descry's
-semantics (rulesets/README.md, src/engine/numbers.rs, src/engine/pattern.rs,
+semantics (docs/rulesets.md, src/engine/numbers.rs, src/engine/pattern.rs,
 src/engine/evaluate.rs):
 
   * normalization: NFKC, lower case, every run of Unicode White_Space
@@ -1006,7 +1006,7 @@ def timed_run(cmd: list[str], log: Path) -> tuple[float, float, int]:
 
 
 def sample_args(args, rows: int) -> list[str]:
-    """The `descry sample` options of the benchmark data."""
+    """The `descry demo` options of the benchmark data."""
     spellings = [] if args.spellings is None else ["--spellings", str(args.spellings)]
     return ["--rows", str(rows), "--seed", str(args.seed), *spellings]
 
@@ -1024,8 +1024,8 @@ def generate(args, rows: int, folder: Path) -> Path:
         print(f"  reusing {csv}")
         return csv
     folder.mkdir(parents=True, exist_ok=True)
-    print(f"  generating: descry sample {' '.join(sample_args(args, rows))} -o {folder}")
-    subprocess.run([str(args.descry), "sample", *sample_args(args, rows), "-o", str(folder)], check=True, stdout=subprocess.DEVNULL)
+    print(f"  generating: descry demo {' '.join(sample_args(args, rows))} -o {folder}")
+    subprocess.run([str(args.descry), "demo", *sample_args(args, rows), "-o", str(folder)], check=True, stdout=subprocess.DEVNULL)
     stamp.write_text(json.dumps(want))
     return csv
 
@@ -1139,7 +1139,7 @@ def markdown(results: list[dict], machine: dict, command: str) -> str:
     for res in results:
         distinct = ", ".join(f"{k} {v:,}" for k, v in res["distinct"].items())
         lines += [
-            f"**{res['rows']:,} rows** (`descry sample {res.get('sample', '')}`; CSV {res['csv_mib']:,.0f} MiB; "
+            f"**{res['rows']:,} rows** (`descry demo {res.get('sample', '')}`; CSV {res['csv_mib']:,.0f} MiB; "
             f"distinct values: {distinct}; median of {res['runs']} alternating runs)",
             "",
             "| contender | median s | peak RSS MiB | × descry | × floor | output |",
@@ -1232,7 +1232,7 @@ def main(argv: list[str]) -> int:
     r.add_argument("--quick", action="store_true", help="smoke run: 200,000 rows, 3 runs")
     r.add_argument("--seed", type=int, default=7)
     r.add_argument("--spellings", default="5000",
-                   help="`descry sample --spellings`: distinct spellings per descriptor column (default 5000); "
+                   help="`descry demo --spellings`: distinct spellings per descriptor column (default 5000); "
                         "`unbounded` for the sample's growing vocabulary")
     r.add_argument("--contenders", default=",".join(CONTENDERS))
     r.add_argument("--descry", default=str(REPO / "target" / "release" / "descry"))

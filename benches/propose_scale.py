@@ -65,7 +65,7 @@ def main():
         csv = os.path.join(data, "listings.csv")
         if not os.path.exists(csv):
             print(f"generating {rows:,} listings in {data} ...", flush=True)
-            subprocess.run([args.descry, "sample", "--rows", str(rows), "--seed", "7", "-o", data], check=True)
+            subprocess.run([args.descry, "demo", "--rows", str(rows), "--seed", "7", "-o", data], check=True)
         survey = subprocess.run(
             [args.descry, "survey", csv, "--column", column, "--format", "json", "--quiet"],
             check=True, capture_output=True,
@@ -94,7 +94,7 @@ def main():
             "peak_mib": max(rss),
         })
     print(f"\nmachine: {platform.machine()}, {os.cpu_count()} cores, {platform.system()} {platform.release()}")
-    print("data: descry sample --rows N --seed 7\n")
+    print("data: descry demo --rows N --seed 7\n")
     print("| column | listings (CSV) | distinct values | rules | draft coverage | median time | runs | peak memory | target |")
     print("|---|---:|---:|---:|---:|---:|---|---:|---|")
     for r in results:

@@ -387,7 +387,7 @@ fn streamed_output_is_identical_across_thread_counts_and_the_in_memory_path() {
     let data = dir.path().join("data");
     let out = run(
         &[
-            "sample",
+            "demo",
             "--rows",
             "300000",
             "--seed",
@@ -510,7 +510,7 @@ fn help_teaches_with_the_long_usage_text() {
         ("check", "Exit codes"),
         ("apply", "Enum (dictionary-encoded)"),
         ("explain", "debug a rule"),
-        ("sample", "seeded"),
+        ("demo", "seeded"),
     ] {
         let out = run(&[command, "--help"], None);
         assert_eq!(out.status.code(), Some(0));
@@ -532,7 +532,7 @@ fn sample_spellings_bounds_the_descriptor_columns() {
     let out_dir = dir.path().join("bounded");
     let out = run(
         &[
-            "sample",
+            "demo",
             "-o",
             s(&out_dir),
             "--rows",
@@ -555,7 +555,7 @@ fn sample_spellings_bounds_the_descriptor_columns() {
             "{column}: {described} spellings"
         );
     }
-    let refused = run(&["sample", "-o", s(&out_dir), "--spellings", "0"], None);
+    let refused = run(&["demo", "-o", s(&out_dir), "--spellings", "0"], None);
     assert_eq!(refused.status.code(), Some(2), "{}", stderr(&refused));
 }
 

@@ -1,4 +1,4 @@
-//! Hostile files (README, "Bad inputs tried"): each case ends with exit 0
+//! Hostile files (docs/bad-input.md, "Bad inputs tried"): each case ends with exit 0
 //! and the right result, or exit 2 and a message naming the file and the
 //! place; none panics, overflows its stack, destroys an input or leaves a
 //! partial file behind.
@@ -405,7 +405,7 @@ fn a_read_only_output_or_ruleset_is_never_replaced() {
     let listings = write(&samples, "listings.csv", "kept\n");
     read_only(&listings);
     expect_error(
-        &run(&["sample", "-o", s(&samples), "--rows", "10"], None),
+        &run(&["demo", "-o", s(&samples), "--rows", "10"], None),
         &["listings.csv", "read-only"],
     );
     for kept in [&output, &draft, &listings] {

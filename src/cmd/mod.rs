@@ -6,9 +6,9 @@ pub mod apply;
 pub mod check;
 pub mod cluster;
 pub mod common;
+pub mod demo;
 pub mod explain;
 pub mod propose;
-pub mod sample;
 pub mod survey;
 
 use std::process::ExitCode;
@@ -45,8 +45,8 @@ pub enum Command {
     #[command(long_about = propose::ABOUT)]
     Propose(propose::Args),
     /// Write the demo marketplace listings and their true features.
-    #[command(long_about = sample::ABOUT)]
-    Sample(sample::Args),
+    #[command(long_about = demo::ABOUT)]
+    Demo(demo::Args),
     /// Profile a column: counts, frequent values, shapes, anomalies, tokens.
     #[command(long_about = survey::ABOUT)]
     Survey(survey::Args),
@@ -65,7 +65,7 @@ pub fn run(cli: Cli) -> anyhow::Result<ExitCode> {
         Command::Apply(args) => apply::run(args),
         Command::Explain(args) => explain::run(args),
         Command::Propose(args) => propose::run(args),
-        Command::Sample(args) => sample::run(args),
+        Command::Demo(args) => demo::run(args),
         Command::Survey(args) => survey::run(args),
         Command::Cluster(args) => cluster::run(args),
     }

@@ -1,4 +1,4 @@
-//! `descry sample`: write the demo scenario's listings table and, next to it,
+//! `descry demo`: write the demo scenario's listings table and, next to it,
 //! the true features of every distinct value.
 
 use std::path::{Path, PathBuf};
@@ -28,7 +28,7 @@ the number of distinct values (one truth entry each).";
 #[command(long_about = ABOUT)]
 pub struct Args {
     /// Folder to write listings.csv and truth/ into (created if missing).
-    #[arg(long, short = 'o', default_value = "samples")]
+    #[arg(long, short = 'o', default_value = "descry-demo")]
     pub out_dir: PathBuf,
     /// Number of listing rows.
     #[arg(long, default_value_t = 4000)]
@@ -55,17 +55,17 @@ pub enum Variants {
 
 pub fn run(args: Args) -> anyhow::Result<ExitCode> {
     let variants = match args.variants {
-        Variants::Standard => descry::sample::Variants::Standard,
-        Variants::Extended => descry::sample::Variants::Extended,
+        Variants::Standard => descry::demo::Variants::Standard,
+        Variants::Extended => descry::demo::Variants::Extended,
     };
-    let opts = descry::sample::SampleOptions {
+    let opts = descry::demo::SampleOptions {
         rows: args.rows,
         seed: args.seed,
         variants,
         spellings: args.spellings.map(|n| n as usize),
     };
     check_targets(&args.out_dir)?;
-    descry::sample::write_sample(&args.out_dir, &opts)?;
+    descry::demo::write_sample(&args.out_dir, &opts)?;
     eprintln!(
         "wrote {} rows to {}",
         args.rows,
@@ -74,7 +74,7 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
     Ok(ExitCode::SUCCESS)
 }
 
-/// The files `sample` writes in OUT_DIR.
+/// The files `demo` writes in OUT_DIR.
 const WRITTEN: [&str; 4] = [
     "listings.csv",
     "truth/transmission.csv",
@@ -83,7 +83,7 @@ const WRITTEN: [&str; 4] = [
 ];
 
 /// Refuse, before writing anything, an OUT_DIR that is a file or holds a
-/// read-only file `sample` would replace.
+/// read-only file `demo` would replace.
 fn check_targets(out_dir: &Path) -> anyhow::Result<()> {
     if out_dir.exists() && !out_dir.is_dir() {
         anyhow::bail!(
