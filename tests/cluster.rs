@@ -274,12 +274,12 @@ fn pairwise(report: &ClusterReport, truth: &BTreeMap<String, String>) -> (f64, f
     (precision, recall, found, true_pairs)
 }
 
-/// Floors from the figures measured on the committed sample (see the
-/// README); a change that makes grouping worse fails here.
+/// Floors from the figures measured on the committed sample (see
+/// docs/cluster.md); a change that makes grouping worse fails here.
 #[test]
 fn groups_against_the_generators_truth() {
     // (method, column, precision floor, recall floor); measured on the
-    // committed sample: see the README's table.
+    // committed sample: see the table in docs/cluster.md.
     let osa = Method::Fuzzy(Fuzzy::Osa(EditLimit::Ratio(0.2)));
     let jaro_winkler = Method::Fuzzy(Fuzzy::JaroWinkler {
         min_similarity: 0.93,
@@ -360,6 +360,13 @@ const TABLE: &str =
     "id,part\n1,PMP-0750-3T\n2,PMP-0750-3T\n3,pmp 0750 3t\n4,PMP0750-3T\n5,PMP-0751-3T\n\
                      6,FLT-1204-A\n7,FLT-1240-A\n8,\n9,FTL-1204-A\n10,FLT-1204-A\n";
 
+/// `descry cluster TABLE -c part OPTIONS...`.
+fn cluster_parts(table: &std::path::Path, options: &[&str]) -> std::process::Output {
+    let mut args = vec!["cluster", s(table), "-c", "part"];
+    args.extend_from_slice(options);
+    run(&args, None)
+}
+
 fn table() -> (TempDir, std::path::PathBuf) {
     let dir = TempDir::new().unwrap();
     let path = write(dir.path(), "parts.csv", TABLE);
@@ -369,20 +376,9 @@ fn table() -> (TempDir, std::path::PathBuf) {
 #[test]
 fn json_report_names_method_threshold_and_members() {
     let (_d, t) = table();
-    let out = run(
-        &[
-            "cluster",
-            s(&t),
-            "-c",
-            "part",
-            "--method",
-            "osa",
-            "--threshold",
-            "2",
-            "--format",
-            "json",
-        ],
-        None,
+    let out = cluster_parts(
+        &t,
+        &["--method", "osa", "--threshold", "2", "--format", "json"],
     );
     assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
     let r: serde_json::Value = serde_json::from_str(&stdout(&out)).unwrap();
@@ -406,12 +402,9 @@ fn json_report_names_method_threshold_and_members() {
 #[test]
 fn digits_loose_lets_numbers_differ() {
     let (_d, t) = table();
-    let out = run(
+    let out = cluster_parts(
+        &t,
         &[
-            "cluster",
-            s(&t),
-            "-c",
-            "part",
             "--method",
             "levenshtein",
             "--threshold",
@@ -421,7 +414,6 @@ fn digits_loose_lets_numbers_differ() {
             "--format",
             "json",
         ],
-        None,
     );
     let r: serde_json::Value = serde_json::from_str(&stdout(&out)).unwrap();
     let first: Vec<&str> = r["clusters"][0]["members"]
@@ -477,12 +469,9 @@ fn output_is_the_same_whatever_the_thread_count() {
 fn write_map_creates_a_ruleset_that_check_uses() {
     let (dir, t) = table();
     let rules = dir.path().join("part.toml");
-    let out = run(
+    let out = cluster_parts(
+        &t,
         &[
-            "cluster",
-            s(&t),
-            "-c",
-            "part",
             "-m",
             "osa",
             "-t",
@@ -492,7 +481,6 @@ fn write_map_creates_a_ruleset_that_check_uses() {
             "--label",
             "part",
         ],
-        None,
     );
     assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
     assert!(stderr(&out).contains("created"), "{}", stderr(&out));
@@ -518,20 +506,9 @@ fn write_map_keeps_comments_and_other_rules() {
         "part.toml",
         "# parts, by hand\ncolumn = \"part\"\n\n[[flag]]\nname = \"pump\" # the PMP family\nany = [\"pmp\"]\n",
     );
-    let out = run(
-        &[
-            "cluster",
-            s(&t),
-            "-c",
-            "part",
-            "-m",
-            "key",
-            "--write-map",
-            s(&rules),
-            "--label",
-            "part",
-        ],
-        None,
+    let out = cluster_parts(
+        &t,
+        &["-m", "key", "--write-map", s(&rules), "--label", "part"],
     );
     assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
     let text = std::fs::read_to_string(&rules).unwrap();
@@ -611,19 +588,7 @@ fn errors_name_the_problem_and_exit_2() {
         assert!(stderr(&out).contains(message), "{args:?}: {}", stderr(&out));
     }
     let bad = write(dir.path(), "bad.toml", "[[label]\n");
-    let out = run(
-        &[
-            "cluster",
-            s(&t),
-            "-c",
-            "part",
-            "--write-map",
-            s(&bad),
-            "--label",
-            "x",
-        ],
-        None,
-    );
+    let out = cluster_parts(&t, &["--write-map", s(&bad), "--label", "x"]);
     assert_eq!(out.status.code(), Some(2));
     assert!(
         stderr(&out).contains("bad.toml") && stderr(&out).contains("not valid TOML"),

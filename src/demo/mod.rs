@@ -593,6 +593,23 @@ impl Dice {
     }
 }
 
+/// The ways one thing is written: the usual spellings, which the bundled
+/// rulesets know, and odd ones, which they are not meant to know.
+struct Spellings {
+    usual: &'static [&'static str],
+    odd: &'static [&'static str],
+}
+
+impl Spellings {
+    fn new(usual: &'static [&'static str], odd: &'static [&'static str]) -> Spellings {
+        Spellings { usual, odd }
+    }
+
+    fn pick(&self, d: &mut Dice, odd: bool) -> &'static str {
+        d.one_of(if odd { self.odd } else { self.usual })
+    }
+}
+
 /// Put a number into a spelling template: `{n}` (and `{r}`).
 fn spell(template: &str, n: impl std::fmt::Display) -> String {
     template.replace("{n}", &n.to_string())
@@ -1151,19 +1168,14 @@ const ODD_CVT_WORDS: &[&str] = &["variable ratio", "c.v.t.", "power-split variab
 const ODD_AUTOMATIC_WORDS: &[&str] = &["autom.", "self-shifting"];
 
 fn kind_phrase(d: &mut Dice, kind: GearboxKind, odd: bool) -> String {
-    let words = match (kind, odd) {
-        (GearboxKind::Manual, false) => MANUAL_WORDS,
-        (GearboxKind::Powershift, false) => POWERSHIFT_WORDS,
-        (GearboxKind::Hydrostatic, false) => HYDROSTATIC_WORDS,
-        (GearboxKind::Cvt, false) => CVT_WORDS,
-        (GearboxKind::Automatic, false) => AUTOMATIC_WORDS,
-        (GearboxKind::Manual, true) => ODD_MANUAL_WORDS,
-        (GearboxKind::Powershift, true) => ODD_POWERSHIFT_WORDS,
-        (GearboxKind::Hydrostatic, true) => ODD_HYDROSTATIC_WORDS,
-        (GearboxKind::Cvt, true) => ODD_CVT_WORDS,
-        (GearboxKind::Automatic, true) => ODD_AUTOMATIC_WORDS,
+    let spellings = match kind {
+        GearboxKind::Manual => Spellings::new(MANUAL_WORDS, ODD_MANUAL_WORDS),
+        GearboxKind::Powershift => Spellings::new(POWERSHIFT_WORDS, ODD_POWERSHIFT_WORDS),
+        GearboxKind::Hydrostatic => Spellings::new(HYDROSTATIC_WORDS, ODD_HYDROSTATIC_WORDS),
+        GearboxKind::Cvt => Spellings::new(CVT_WORDS, ODD_CVT_WORDS),
+        GearboxKind::Automatic => Spellings::new(AUTOMATIC_WORDS, ODD_AUTOMATIC_WORDS),
     };
-    let word = d.one_of(words);
+    let word = spellings.pick(d, odd);
     if !odd && !word.contains("trans") && d.chance(0.05) {
         format!("{word} {}", d.one_of(TRANS_WORDS))
     } else {
@@ -1789,17 +1801,13 @@ fn turbo_and_fuel(
 }
 
 fn fuel_word(d: &mut Dice, fuel: Fuel, odd: bool) -> String {
-    let words = match (fuel, odd) {
-        (Fuel::Diesel, false) => DIESEL_WORDS,
-        (Fuel::Gasoline, false) => GASOLINE_WORDS,
-        (Fuel::Lpg, false) => LPG_WORDS,
-        (Fuel::Electric, false) => MOTOR_WORDS,
-        (Fuel::Diesel, true) => ODD_DIESEL_WORDS,
-        (Fuel::Gasoline, true) => ODD_GASOLINE_WORDS,
-        (Fuel::Lpg, true) => ODD_LPG_WORDS,
-        (Fuel::Electric, true) => ODD_MOTOR_WORDS,
+    let spellings = match fuel {
+        Fuel::Diesel => Spellings::new(DIESEL_WORDS, ODD_DIESEL_WORDS),
+        Fuel::Gasoline => Spellings::new(GASOLINE_WORDS, ODD_GASOLINE_WORDS),
+        Fuel::Lpg => Spellings::new(LPG_WORDS, ODD_LPG_WORDS),
+        Fuel::Electric => Spellings::new(MOTOR_WORDS, ODD_MOTOR_WORDS),
     };
-    d.one_of(words).to_owned()
+    spellings.pick(d, odd).to_owned()
 }
 
 // ---------------------------------------------------------------------------

@@ -258,25 +258,13 @@ impl Encoder {
                 // it; a null row or null cell holds id 0 under a null bit.
                 let series = match dtype.cat_physical()? {
                     CategoricalPhysical::U8 => unsafe {
-                        let ids = gathered.chunked::<UInt8Type>(name, |w| w as u8);
-                        CategoricalChunked::<Categorical8Type>::from_cats_and_dtype_unchecked(
-                            ids, dtype,
-                        )
-                        .into_series()
+                        gathered.categorical::<Categorical8Type>(name, dtype, |w| w as u8)
                     },
                     CategoricalPhysical::U16 => unsafe {
-                        let ids = gathered.chunked::<UInt16Type>(name, |w| w as u16);
-                        CategoricalChunked::<Categorical16Type>::from_cats_and_dtype_unchecked(
-                            ids, dtype,
-                        )
-                        .into_series()
+                        gathered.categorical::<Categorical16Type>(name, dtype, |w| w as u16)
                     },
                     CategoricalPhysical::U32 => unsafe {
-                        let ids = gathered.chunked::<UInt32Type>(name, |w| w as u32);
-                        CategoricalChunked::<Categorical32Type>::from_cats_and_dtype_unchecked(
-                            ids, dtype,
-                        )
-                        .into_series()
+                        gathered.categorical::<Categorical32Type>(name, dtype, |w| w as u32)
                     },
                 };
                 Ok(series)
@@ -355,6 +343,21 @@ impl Gathered<'_> {
         convert: impl Fn(u64) -> T::Native + Sync,
     ) -> ChunkedArray<T> {
         ChunkedArray::<T>::from_vec_validity(name, self.values(convert), self.validity())
+    }
+
+    /// A label column: category ids of `T`'s width under `dtype`.
+    ///
+    /// # Safety
+    /// Every valid id must index `dtype`'s categories.
+    unsafe fn categorical<T: PolarsCategoricalType>(
+        &self,
+        name: PlSmallStr,
+        dtype: DataType,
+        convert: impl Fn(u64) -> T::Native + Sync,
+    ) -> Series {
+        let ids = self.chunked::<T::PolarsPhysical>(name, convert);
+        // SAFETY: the caller's promise.
+        unsafe { CategoricalChunked::<T>::from_cats_and_dtype_unchecked(ids, dtype).into_series() }
     }
 
     fn numeric<T: PolarsNumericType>(
