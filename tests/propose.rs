@@ -211,6 +211,52 @@ fn update_appends_and_keeps_the_file_byte_for_byte() {
     assert!(std::fs::read_to_string(&out).unwrap().starts_with(original));
 }
 
+/// `--update` mines numbers the way the ruleset writes them: with
+/// `decimal = ","`, "4,5 l" is 4.5 litres (a decimal comma: common
+/// practice in much of continental Europe), not a 4 and a 5 l.
+#[test]
+fn update_reads_numbers_with_the_rulesets_decimal_comma() {
+    let dir = tempfile::tempdir().unwrap();
+    let original = "column = \"engine\"\ndecimal = \",\"\n\n[[flag]]\nname = \"diesel\"\nany = [\"diesel\"]\n";
+    let rules = write(dir.path(), "engine.toml", original);
+    let mut table = String::from("id,engine\n");
+    let spellings = [
+        "motor 4,5 l benzin",
+        "motor 3,2 l",
+        "motor 2,8 l benzin",
+        "motor 1,9 l",
+        "motor 6,4 l benzin",
+        "motor 5,1 l diesel",
+    ];
+    for i in 0..240 {
+        table.push_str(&format!("{i},{:?}\n", spellings[i % spellings.len()]));
+    }
+    let csv = write(dir.path(), "engines.csv", &table);
+    let o = run(&["propose", s(&csv), "--update", s(&rules)], None);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let updated = descry::Ruleset::from_path(&rules).unwrap();
+    let text = std::fs::read_to_string(&rules).unwrap();
+    let outcomes = updated.evaluate(&updated.normalizer.apply("motor 4,5 l benzin"));
+    let read: Vec<(&str, &descry::evaluate::Cell)> = updated
+        .features
+        .iter()
+        .zip(&outcomes)
+        .filter(|(_, o)| o.fired)
+        .map(|(f, o)| (f.rule.kind(), &o.cell))
+        .collect();
+    assert!(
+        read.iter().any(|(kind, cell)| *kind == "measure" && **cell == descry::evaluate::Cell::Float(4.5)),
+        "no measure reads 4.5 from \"motor 4,5 l benzin\": {read:?}\n{text}"
+    );
+    assert!(
+        !read.iter().any(|(kind, _)| *kind == "count"),
+        "a count reads the whole part of a decimal: {read:?}\n{text}"
+    );
+    // The values the miner saw (with a decimal point it would have seen
+    // the digits after each comma: 2 to 9 l).
+    assert!(text.contains("values seen: 1.9 to 6.4 l"), "{text}");
+}
+
 #[test]
 fn json_report_has_the_draft_and_its_check() {
     let dir = tempfile::tempdir().unwrap();

@@ -19,7 +19,7 @@ pub enum DecimalMark {
 }
 
 impl DecimalMark {
-    fn decimal(self) -> char {
+    pub(crate) fn decimal(self) -> char {
         match self {
             DecimalMark::Point => '.',
             DecimalMark::Comma => ',',

@@ -44,8 +44,11 @@ const ALIKE: f64 = 0.8;
 /// Counts are whole numbers up to this; larger numbers are codes or measures.
 const MAX_COUNT: i64 = 999;
 
-static NUMBER: LazyLock<Regex> =
+/// `{num}` with each decimal mark.
+static NUMBER_POINT: LazyLock<Regex> =
     LazyLock::new(|| Regex::new(&Macro::Num.expansion(DecimalMark::Point)).expect("number regex"));
+static NUMBER_COMMA: LazyLock<Regex> =
+    LazyLock::new(|| Regex::new(&Macro::Num.expansion(DecimalMark::Comma)).expect("number regex"));
 static WORD_AFTER: LazyLock<Regex> = LazyLock::new(|| Regex::new(r"^\s?-?\s?(\p{L}+)").unwrap());
 static WORD_AHEAD: LazyLock<Regex> =
     LazyLock::new(|| Regex::new(r"(?:^|[^\p{L}])(\p{L}+) $").unwrap());
@@ -84,6 +87,7 @@ enum Mark {
     Paren,
 }
 
+#[derive(Debug)]
 struct Seen {
     entry: u32,
     mark: Mark,
@@ -113,16 +117,22 @@ fn unit_index(spelling: &str) -> usize {
         .expect("a spelling of the table")
 }
 
-/// The numbers of one normalized value with their markers and units.
-fn scan(entry: u32, value: &str) -> (Vec<Seen>, Vec<UnitSeen>) {
+/// The numbers of one normalized value, written with the `decimal` mark,
+/// with their markers and units.
+fn scan(entry: u32, value: &str, decimal: DecimalMark) -> (Vec<Seen>, Vec<UnitSeen>) {
     let mut seen = Vec::new();
     let mut units = Vec::new();
     let mut unit_end = 0;
-    for m in NUMBER.find_iter(value) {
+    let number_regex = match decimal {
+        DecimalMark::Point => &NUMBER_POINT,
+        DecimalMark::Comma => &NUMBER_COMMA,
+    };
+    let mark = decimal.decimal();
+    for m in number_regex.find_iter(value) {
         let text = m.as_str();
         let before = &value[..m.start()];
         let rest = &value[m.end()..];
-        let leading_zero = text.len() > 1 && text.starts_with('0') && !text[1..].starts_with('.');
+        let leading_zero = text.len() > 1 && text.starts_with('0') && !text[1..].starts_with(mark);
         let mut back = before.chars().rev();
         let code_like = matches!(back.next(), Some('-' | '_' | '.' | '/'))
             && back.next().is_some_and(|c| c.is_ascii_digit());
@@ -133,9 +143,9 @@ fn scan(entry: u32, value: &str) -> (Vec<Seen>, Vec<UnitSeen>) {
         // is two counts, and its first number is read below.
         let leading = || {
             let cut = text.find(['/', ' ', '-'])?;
-            parse_number(&text[..cut], DecimalMark::Point)
+            parse_number(&text[..cut], decimal)
         };
-        let Some(number) = parse_number(text, DecimalMark::Point).or_else(leading) else {
+        let Some(number) = parse_number(text, decimal).or_else(leading) else {
             continue;
         };
         if let Some(c) = UNIT_AFTER.captures(rest) {
@@ -154,7 +164,7 @@ fn scan(entry: u32, value: &str) -> (Vec<Seen>, Vec<UnitSeen>) {
             Some(cut) => (&text[..cut], &value[m.start() + cut..]),
             None => (text, rest),
         };
-        let whole = parse_integer(text, DecimalMark::Point).filter(|_| !text.contains('.'));
+        let whole = parse_integer(text, decimal).filter(|_| !text.contains(mark));
         let mut push = |mark: Mark| seen.push(Seen { entry, mark, whole });
         if let Some(c) = WORD_AFTER.captures(rest) {
             push(Mark::After(c[1].to_owned()));
@@ -261,7 +271,7 @@ pub(crate) fn mine(corpus: &Corpus, words: &WordIndex, opts: &ProposeOptions) ->
         .normalized
         .par_iter()
         .enumerate()
-        .map(|(i, v)| scan(i as u32, v))
+        .map(|(i, v)| scan(i as u32, v, opts.decimal))
         .collect();
     let mut seen = Vec::new();
     let mut units = Vec::new();
@@ -702,8 +712,22 @@ fn short(x: f64) -> String {
 mod tests {
     use super::*;
 
+    #[test]
+    fn numbers_are_read_with_the_rulesets_decimal_mark() {
+        // With `decimal = ","`, "4,5 l" is 4.5 l and "4" is no count of
+        // the word ahead (a decimal comma: common practice in much of
+        // continental Europe).
+        let (seen, units) = scan(0, "motor 4,5 l", DecimalMark::Comma);
+        assert_eq!(units.iter().map(|u| u.value).collect::<Vec<_>>(), vec![4.5]);
+        assert!(seen.iter().all(|s| s.whole.is_none()), "{seen:?}");
+        // Read with a decimal point, the same text is a 4 and 5 l.
+        let (seen, units) = scan(0, "motor 4,5 l", DecimalMark::Point);
+        assert_eq!(units.iter().map(|u| u.value).collect::<Vec<_>>(), vec![5.0]);
+        assert!(seen.iter().any(|s| s.whole == Some(4)), "{seen:?}");
+    }
+
     fn marks(value: &str) -> Vec<(Mark, Option<i64>)> {
-        scan(0, value)
+        scan(0, value, DecimalMark::Point)
             .0
             .into_iter()
             .map(|s| (s.mark, s.whole))
@@ -734,12 +758,12 @@ mod tests {
 
     #[test]
     fn units_and_codes() {
-        let (seen, units) = scan(0, "4.5 l 120hp 30 km/h");
+        let (seen, units) = scan(0, "4.5 l 120hp 30 km/h", DecimalMark::Point);
         assert!(seen.is_empty());
         let spelled: Vec<&str> = units.iter().map(|u| UNITS[u.unit].spelling).collect();
         assert_eq!(spelled, ["l", "hp", "km/h"]);
         // Parts of a code are not numbers to read.
-        let (seen, units) = scan(0, "vlv-0181-1l");
+        let (seen, units) = scan(0, "vlv-0181-1l", DecimalMark::Point);
         assert!(seen.is_empty() && units.is_empty());
     }
 }

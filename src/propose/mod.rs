@@ -49,6 +49,7 @@ use serde::Serialize;
 
 use crate::error::RulesetError;
 use crate::normalize::Normalizer;
+use crate::numbers::DecimalMark;
 use crate::ruleset::Ruleset;
 use crate::survey::DEFAULT_PLACEHOLDERS;
 use crate::vocabulary::Vocabulary;
@@ -139,6 +140,8 @@ pub struct ProposeOptions {
     pub taken: Vec<String>,
     /// Placeholder spellings (normalized): not mined.
     pub placeholders: Vec<String>,
+    /// How numbers are written (`4.5` or `4,5`): the ruleset's `decimal`.
+    pub decimal: DecimalMark,
 }
 
 impl Default for ProposeOptions {
@@ -154,6 +157,7 @@ impl Default for ProposeOptions {
             prefix: String::new(),
             taken: Vec::new(),
             placeholders: DEFAULT_PLACEHOLDERS.iter().map(|s| s.to_string()).collect(),
+            decimal: DecimalMark::Point,
         }
     }
 }
@@ -386,6 +390,7 @@ pub fn propose_more(
     let mut opts = opts.clone();
     opts.normalizer = existing.normalizer.clone();
     opts.prefix = existing.prefix.clone();
+    opts.decimal = existing.decimal;
     opts.taken = existing.features.iter().map(|f| f.name.clone()).collect();
     let corpus = Corpus::new(&rest, &opts);
     let mut draft = mine(&corpus, column, &opts);
