@@ -9,16 +9,12 @@ use anyhow::bail;
 use polars::prelude::*;
 
 use descry::pipeline::{with_features, Describer, Description, Tally};
-use descry::read::{
-    batch_text, can_stream, for_each_batch, table_columns, ReadOptions, StreamedTable, Table,
-};
+use descry::read::{batch_text, Input, ReadOptions};
 use descry::render::{shown, thousands};
 use descry::vocabulary::GrowingVocabulary;
-use descry::write::{check_output_path, sink_table, write_table, OutputFormat, ROW_GROUP_ROWS};
+use descry::write::{check_output_path, sink_table, OutputFormat, ROW_GROUP_ROWS};
 
-use super::common::{
-    column_notes, load_ruleset, parse_batch_rows, print_notes, source_column, InputArgs,
-};
+use super::common::{column_notes, load_descriptions, parse_batch_rows, print_notes, InputArgs};
 
 pub const ABOUT: &str = "\
 Apply one or more rulesets to a table and write the features.
@@ -40,13 +36,14 @@ into place at the end: an existing output is replaced only on success, and
 the input is never written to.
 
 Memory: a few morsels plus the vocabulary and each distinct value's features.
-Files in CSV, Parquet and Arrow IPC are streamed through polars' streaming
-engine: morsels of rows are read, described, encoded and written in parallel,
-and the output keeps the input's row order. Memory holds a few morsels plus
-the vocabulary and the per-value results, so files larger than memory work.
-Standard input, NDJSON and --in-memory read the whole table first. When a
-count rule has no `range`, its type depends on every value, so the file is
-read twice (the first pass keeps only the vocabulary).
+Every input takes the same route through polars' streaming engine: morsels
+of rows are read, described, encoded and written in parallel, and the output
+keeps the input's row order, so files larger than memory work. Standard
+input is first copied to a temporary file. JSON, and Parquet or Arrow IPC
+files holding a column of a type polars cannot scan, have the columns read
+loaded whole; so has every input with --in-memory. When a count rule has no
+`range`, its type depends on every value, so the input is read twice (the
+first pass keeps only the vocabulary).
 
 Examples:
   descry apply samples/listings.csv -r rulesets/transmission.toml -r rulesets/engine.toml -o features.parquet
@@ -90,36 +87,14 @@ pub struct Args {
 }
 
 pub fn run(args: Args) -> anyhow::Result<ExitCode> {
-    if args.column.is_some() && args.rules.len() > 1 {
-        bail!(
-            "--column applies to a single ruleset; with several, name each column in its ruleset"
-        );
-    }
-    let descriptions = args
-        .rules
-        .iter()
-        .map(|p| {
-            let rules = load_ruleset(p)?;
-            let column = source_column(args.column.as_deref(), &rules)?;
-            Ok(Description { rules, column })
-        })
-        .collect::<anyhow::Result<Vec<_>>>()?;
+    let descriptions = load_descriptions(&args.rules, args.column.as_deref())?;
     let inputs: Vec<&Path> = std::iter::once(args.input.input.as_path())
         .chain(args.rules.iter().map(PathBuf::as_path))
         .collect();
     let format = check_output_path(&args.output, &inputs)?;
-    let opts = args.input.read_options();
-    let streaming = !args.in_memory && can_stream(&args.input.input, &opts);
-    let summary = if streaming {
-        check_collisions(
-            &descriptions,
-            &table_columns(&args.input.input, &opts)?,
-            &args,
-        )?;
-        apply_in_batches(&args, descriptions, format)?
-    } else {
-        apply_in_memory(&args, descriptions, format)?
-    };
+    let input = Input::open(&args.input.input, &kept_types(&args))?;
+    check_collisions(&descriptions, input.columns(), &args)?;
+    let summary = apply_features(&args, &input, descriptions, format)?;
     if !args.quiet {
         for (d, tally) in &summary.columns {
             print_notes(&column_notes(tally.rows, tally.distinct, &d.column), false);
@@ -179,29 +154,12 @@ fn sources(descriptions: &[Description]) -> Vec<String> {
     descriptions.iter().map(|d| d.column.clone()).collect()
 }
 
-fn apply_in_memory(
+/// Read the input, describe it and write the output, batch by batch: the
+/// one route every input takes. `--in-memory` only collects the whole
+/// table before the features are computed.
+fn apply_features(
     args: &Args,
-    descriptions: Vec<Description>,
-    format: OutputFormat,
-) -> anyhow::Result<Summary> {
-    let names = sources(&descriptions);
-    let columns: Vec<&str> = names.iter().map(String::as_str).collect();
-    let read = columns_read(args, &columns);
-    let projection = args.only_features.then_some(read.as_slice());
-    let table = Table::read_some(&args.input.input, &columns, projection, &kept_types(args))?;
-    print_notes(&table.notes, args.quiet);
-    check_collisions(&descriptions, &table.column_names(), args)?;
-    let describer = Describer::new(descriptions, Vec::new());
-    let features = describer.features(&table.frame)?;
-    let mut summary = Summary::default();
-    summary.add_batch(&table.frame, &columns, &features);
-    let frame = OutputShape::of(args).frame(table.frame, &columns, features)?;
-    write_table(frame, &args.output, format)?;
-    Ok(summary.finish(&describer))
-}
-
-fn apply_in_batches(
-    args: &Args,
+    input: &Input,
     descriptions: Vec<Description>,
     format: OutputFormat,
 ) -> anyhow::Result<Summary> {
@@ -212,13 +170,22 @@ fn apply_in_batches(
         Vec::new()
     } else {
         progress.phase("reading the vocabulary (a count has no range)");
-        first_pass(args, &columns)?
+        first_pass(args, input, &columns)?
     };
     progress.phase("applying");
     let read = columns_read(args, &columns);
     let projection = args.only_features.then_some(read.as_slice());
-    let table = StreamedTable::open(&args.input.input, &columns, projection, &kept_types(args))?;
+    let mut table = input.scan(&columns, projection)?;
     print_notes(&table.notes, args.quiet);
+    if args.in_memory {
+        let whole = table
+            .lazy
+            .clone()
+            .collect_with_engine(Engine::Streaming)
+            .map_err(|e| table.read_error(e))?
+            .unwrap_single();
+        table.lazy = whole.lazy();
+    }
     let describer = Arc::new(Describer::new(descriptions, full));
     let summary = Arc::new(Mutex::new(Summary::default()));
     let finish = {
@@ -283,14 +250,15 @@ fn output_error(args: &Args, e: anyhow::Error) -> descry::Error {
 }
 
 /// The complete vocabulary of each described column, without row codes.
-fn first_pass(args: &Args, columns: &[&str]) -> anyhow::Result<Vec<Option<GrowingVocabulary>>> {
+fn first_pass(
+    args: &Args,
+    input: &Input,
+    columns: &[&str],
+) -> anyhow::Result<Vec<Option<GrowingVocabulary>>> {
     let mut vocabs = vec![GrowingVocabulary::default(); columns.len()];
-    let opts = args.input.read_options();
-    for_each_batch(
-        &args.input.input,
+    input.keeping_types(false).for_each_batch(
         columns,
         Some(columns),
-        &opts,
         args.batch_rows,
         |batch| {
             for (vocab, c) in vocabs.iter_mut().zip(columns) {

@@ -41,9 +41,9 @@ holding a \"descry.check/1\" report for each ruleset and every gate.
 Exit codes: 0 when every gate passes; 1 when a gate or an example fails;
 2 on any error (bad file, bad ruleset, a --require naming no rule).
 
-Memory: proportional to the number of distinct values. CSV, Parquet and
-Arrow IPC files are read in batches and only the vocabulary is kept;
-standard input and NDJSON are read whole.
+Memory: proportional to the number of distinct values. The table is read
+in batches and only the vocabulary is kept (JSON is loaded whole, one
+column).
 
 Examples:
   descry check samples/listings.csv -r rulesets/engine.toml --min-coverage 0.95
@@ -55,7 +55,7 @@ Examples:
 pub struct Args {
     #[command(flatten)]
     pub input: InputArgs,
-    /// A ruleset (TOML; see rulesets/README.md); repeat to check several
+    /// A ruleset (TOML; see docs/rulesets.md); repeat to check several
     /// columns in one read.
     #[arg(long, short = 'r', required = true)]
     pub rules: Vec<PathBuf>,

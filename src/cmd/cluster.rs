@@ -55,7 +55,7 @@ group's canonical spelling. Comments, other rules and entries already in the
 map are kept; only new spellings are added.
 
 Memory: the column's vocabulary (proportional to the number of distinct
-values; CSV, Parquet and Arrow IPC files are read in batches) and, for the
+values; the table is read in batches) and, for the
 fuzzy methods, an index of about 8 bytes per character
 of every distinct value.
 

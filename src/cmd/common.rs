@@ -6,7 +6,7 @@ use std::path::{Path, PathBuf};
 use anyhow::{bail, Context};
 use clap::ValueEnum;
 
-use descry::read::{batch_text, can_stream, for_each_batch, ReadOptions, Table};
+use descry::read::{batch_text, for_each_batch, ReadOptions};
 use descry::vocabulary::GrowingVocabulary;
 use descry::write::{check_not_an_input, check_output_file};
 use descry::{Ruleset, Vocabulary};
@@ -118,6 +118,25 @@ pub fn parse_batch_rows(s: &str) -> Result<usize, String> {
 }
 
 /// The source column: `--column` wins, else the ruleset's `column`.
+/// Load each ruleset with the column it describes; `column` (from
+/// `--column`) overrides a single ruleset's `column`.
+pub fn load_descriptions(
+    rules: &[PathBuf],
+    column: Option<&str>,
+) -> anyhow::Result<Vec<descry::pipeline::Description>> {
+    if column.is_some() && rules.len() > 1 {
+        bail!("--column applies to a single ruleset; with several, name each column in its ruleset");
+    }
+    rules
+        .iter()
+        .map(|p| {
+            let rules = load_ruleset(p)?;
+            let column = source_column(column, &rules)?;
+            Ok(descry::pipeline::Description { rules, column })
+        })
+        .collect()
+}
+
 pub fn source_column(cli: Option<&str>, rules: &Ruleset) -> anyhow::Result<String> {
     match (cli, &rules.column) {
         (Some(c), _) => Ok(c.to_owned()),
@@ -130,9 +149,8 @@ pub fn source_column(cli: Option<&str>, rules: &Ruleset) -> anyhow::Result<Strin
 }
 
 /// Read one column of the input, print the reader's notes (unless
-/// `quiet`) and build the column's vocabulary. CSV, Parquet and Arrow IPC
-/// files are read in batches, keeping only the vocabulary; standard input
-/// and NDJSON are read whole.
+/// `quiet`) and build the column's vocabulary. The input is read in
+/// batches, keeping only the vocabulary.
 pub fn read_vocabulary(input: &InputArgs, column: &str, quiet: bool) -> anyhow::Result<Vocabulary> {
     Ok(read_vocabularies(input, &[column], quiet)?.remove(0))
 }
@@ -150,42 +168,26 @@ pub fn read_vocabularies(
             distinct.push(c);
         }
     }
-    let opts = input.read_options();
-    let vocabs: Vec<Vocabulary> = if !can_stream(&input.input, &opts) {
-        let table = Table::read_columns(&input.input, &distinct, &opts)?;
-        print_notes(&table.notes, quiet);
-        distinct
-            .iter()
-            .map(|c| vocabulary_of(&table, c))
-            .collect::<anyhow::Result<_>>()?
-    } else {
-        let mut growing = vec![GrowingVocabulary::default(); distinct.len()];
-        let notes = for_each_batch(
-            &input.input,
-            &distinct,
-            Some(&distinct),
-            &opts,
-            1 << 20,
-            |batch| {
-                for (vocab, c) in growing.iter_mut().zip(&distinct) {
-                    vocab.codes_for(&batch_text(&batch, c, &input.input)?);
-                }
-                Ok(())
-            },
-        )?;
-        print_notes(&notes, quiet);
-        growing.iter().map(GrowingVocabulary::to_vocabulary).collect()
-    };
+    let mut growing = vec![GrowingVocabulary::default(); distinct.len()];
+    let notes = for_each_batch(
+        &input.input,
+        &distinct,
+        Some(&distinct),
+        &input.read_options(),
+        1 << 20,
+        |batch| {
+            for (vocab, c) in growing.iter_mut().zip(&distinct) {
+                vocab.codes_for(&batch_text(&batch, c, &input.input)?);
+            }
+            Ok(())
+        },
+    )?;
+    print_notes(&notes, quiet);
+    let vocabs: Vec<Vocabulary> = growing.iter().map(GrowingVocabulary::to_vocabulary).collect();
     Ok(columns
         .iter()
         .map(|c| vocabs[distinct.iter().position(|d| d == c).expect("listed")].clone())
         .collect())
-}
-
-/// The vocabulary of a text column of a table.
-pub fn vocabulary_of(table: &descry::read::Table, column: &str) -> anyhow::Result<Vocabulary> {
-    let text = table.text(column)?;
-    Ok(Vocabulary::build(text.iter()))
 }
 
 /// Notes about a column that is technically fine but probably not what the

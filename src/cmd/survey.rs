@@ -42,8 +42,7 @@ punctuation and symbols. --placeholder adds to the list;
 --no-default-placeholders starts from an empty one.
 
 Memory: the column's vocabulary (proportional to the number of distinct
-values); CSV, Parquet and Arrow IPC files are read in batches, standard
-input and NDJSON whole.
+values); the table is read in batches (JSON is loaded whole, one column).
 
 Example:
   descry survey samples/listings.csv --column transmission --top 30";

@@ -106,39 +106,7 @@ impl Table {
         projection: Option<&[&str]>,
         opts: &ReadOptions,
     ) -> Result<Table, Error> {
-        let file = Opened::new(path, opts)?;
-        file.check_columns(text_columns, projection)?;
-        let frame = read_frame(&file, text_columns, projection, opts).map_err(|e| file.error(opts, e))?;
-        Table::finish(path, frame, text_columns, opts.keep_types)
-    }
-
-    fn finish(
-        path: &Path,
-        mut frame: DataFrame,
-        text_columns: &[&str],
-        keep_types: bool,
-    ) -> Result<Table, Error> {
-        let mut notes = Vec::new();
-        for &name in text_columns {
-            let Some(col) = frame.column(name).ok() else {
-                return Err(missing_column(path, &frame, name));
-            };
-            let dtype = col.dtype().clone();
-            if dtype != DataType::String {
-                notes.extend(text_note(name, &dtype, keep_types));
-                if !keep_types {
-                    let text = text_of(col).map_err(|e| input_error(path, e))?;
-                    frame
-                        .replace(name, text.into_series().into())
-                        .map_err(|e| input_error(path, e))?;
-                }
-            }
-        }
-        Ok(Table {
-            path: path.to_owned(),
-            frame,
-            notes,
-        })
+        Input::open(path, opts)?.read(text_columns, projection)
     }
 
     /// The text values of a column (which `read` made a string column).
@@ -179,87 +147,194 @@ pub fn text_of(column: &Column) -> PolarsResult<StringChunked> {
     }
 }
 
-/// A file on disk, or standard input read in full.
-enum Source {
-    File(PathBuf),
-    Bytes(Vec<u8>),
-}
-
-impl Source {
-    fn open(path: &Path, format: TableFormat) -> Result<Source, Error> {
-        if path.as_os_str() != "-" {
-            check_readable(path)?;
-            let head = sniff::head(path).map_err(|e| Error::Input {
-                path: path.to_owned(),
-                message: format!("cannot read: {e}"),
-            })?;
-            sniff::check_head(&head, format).map_err(|message| Error::Input {
-                path: path.to_owned(),
-                message,
-            })?;
-            return Ok(Source::File(path.to_owned()));
-        }
-        let stdin_error = |message: String| Error::Input {
-            path: path.to_owned(),
-            message,
-        };
-        if std::io::IsTerminal::is_terminal(&std::io::stdin()) {
-            return Err(stdin_error(
-                "standard input is a terminal, not a table; pipe one in (e.g. `cat table.csv | descry ... -`) \
-                 or give a file"
-                    .to_owned(),
-            ));
-        }
-        let mut buf = Vec::new();
-        std::io::stdin()
-            .read_to_end(&mut buf)
-            .map_err(|e| stdin_error(format!("cannot read standard input: {e}")))?;
-        if buf.is_empty() {
-            return Err(stdin_error("standard input is empty".to_owned()));
-        }
-        sniff::check_head(&buf[..buf.len().min(16)], format).map_err(stdin_error)?;
-        Ok(Source::Bytes(buf))
-    }
-
-    fn file(&self) -> PolarsResult<File> {
-        match self {
-            Source::File(p) => Ok(File::open(p)?),
-            Source::Bytes(_) => polars_bail!(ComputeError: "standard input holds CSV only"),
-        }
-    }
-}
-
-/// A table file opened and looked over: its format, every column's name,
-/// and, for Parquet and Arrow IPC, what polars cannot read of it.
-struct Opened {
+/// A table input opened once: its format, the names of its columns, and
+/// the file its rows are read from. Standard input is copied to a
+/// temporary file first (deleted with the last clone of the `Input`), so
+/// that every input is read by the same route, in batches.
+#[derive(Clone)]
+pub struct Input {
+    /// The path as the user gave it (`-` for standard input), for messages.
     path: PathBuf,
-    source: Source,
+    /// The file read: `path`, or the copy of standard input.
+    file: PathBuf,
+    _spool: Option<Arc<tempfile::TempPath>>,
     format: TableFormat,
+    /// Every column's name, in file order.
     names: Vec<String>,
+    /// For CSV, the names polars' reader gives the columns, where one
+    /// differs from the header's (polars keeps a doubled quote `""` in a
+    /// header name); the scan renames them.
+    polars_names: Option<Vec<String>>,
     file_columns: Option<FileColumns>,
+    opts: ReadOptions,
 }
 
-impl Opened {
-    fn new(path: &Path, opts: &ReadOptions) -> Result<Opened, Error> {
+impl Input {
+    /// Open a table (`-` reads CSV from standard input) and read its
+    /// column names.
+    pub fn open(path: &Path, opts: &ReadOptions) -> Result<Input, Error> {
         let format = TableFormat::of(path, opts.delimiter)?;
-        let source = Source::open(path, format)?;
-        let fail = |e| read_error(path, &source, format, opts, e);
-        let file_columns = match format {
-            TableFormat::Parquet => Some(schema::parquet_columns(path).map_err(fail)?),
-            TableFormat::Ipc => Some(schema::ipc_columns(path).map_err(fail)?),
-            _ => None,
+        let (file, spool) = if path.as_os_str() == "-" {
+            let spool = spool_stdin(format)?;
+            (spool.to_path_buf(), Some(Arc::new(spool)))
+        } else {
+            check_file(path, format)?;
+            (path.to_owned(), None)
         };
-        let names = match &file_columns {
-            Some(c) => c.names.clone(),
-            None => column_names(&source, format, opts).map_err(fail)?,
-        };
-        Ok(Opened {
+        let mut input = Input {
             path: path.to_owned(),
-            source,
+            file,
+            _spool: spool,
             format,
-            names,
-            file_columns,
+            names: Vec::new(),
+            polars_names: None,
+            file_columns: None,
+            opts: opts.clone(),
+        };
+        let (names, polars_names, file_columns) = input.read_names().map_err(|e| input.error(e))?;
+        input.polars_names = polars_names.filter(|theirs| *theirs != names);
+        input.names = names;
+        input.file_columns = file_columns;
+        Ok(input)
+    }
+
+    /// Every column's name; for CSV also the names polars gives them, and
+    /// for Parquet and IPC what polars can read of each column.
+    #[allow(clippy::type_complexity)]
+    fn read_names(&self) -> PolarsResult<(Vec<String>, Option<Vec<String>>, Option<FileColumns>)> {
+        let names = |frame: DataFrame| frame.get_column_names().iter().map(|s| s.to_string()).collect();
+        Ok(match self.format {
+            TableFormat::Parquet => {
+                let columns = schema::parquet_columns(&self.file)?;
+                (columns.names.clone(), None, Some(columns))
+            }
+            TableFormat::Ipc => {
+                let columns = schema::ipc_columns(&self.file)?;
+                (columns.names.clone(), None, Some(columns))
+            }
+            TableFormat::Csv { delimiter } => {
+                let (header, polars_names) = csv_names(&self.file, delimiter, &self.opts)?;
+                (header, Some(polars_names), None)
+            }
+            TableFormat::NdJson | TableFormat::Json => (names(read_json(&self.file, self.format)?), None, None),
         })
+    }
+
+    /// The path as the user gave it.
+    pub fn path(&self) -> &Path {
+        &self.path
+    }
+
+    /// Every column's name, in file order.
+    pub fn columns(&self) -> &[String] {
+        &self.names
+    }
+
+    /// The same input, read with `keep_types` as given (see
+    /// [`ReadOptions::keep_types`]).
+    pub fn keeping_types(&self, keep_types: bool) -> Input {
+        let mut input = self.clone();
+        input.opts.keep_types = keep_types;
+        input
+    }
+
+    /// A lazy scan of the `projection` columns (all when `None`), checking
+    /// first that `text_columns` exist; they are cast to text unless types
+    /// are kept.
+    pub fn scan(&self, text_columns: &[&str], projection: Option<&[&str]>) -> Result<StreamedTable, Error> {
+        self.check_columns(text_columns, projection)?;
+        let fail = |e| self.error(e);
+        let text_only = projection.is_some_and(|cols| cols.iter().all(|c| text_columns.contains(c)));
+        let mut lazy = self.lazy(text_only, text_columns, projection).map_err(fail)?;
+        if let Some(cols) = projection {
+            lazy = lazy.select(cols.iter().map(|c| col(*c)).collect::<Vec<_>>());
+            if matches!(self.format, TableFormat::Csv { .. }) {
+                // A CSV scan limited to some columns does not notice a row
+                // with more fields than the header; every field is parsed
+                // so that such a row is reported wherever it is.
+                lazy = lazy.with_projection_pushdown(false);
+            }
+        }
+        let schema = lazy.collect_schema().map_err(fail)?;
+        let notes = text_columns
+            .iter()
+            .filter_map(|c| schema.get(c).map(|t| (c, t)))
+            .filter(|(_, t)| **t != DataType::String)
+            .filter_map(|(c, t)| text_note(c, t, self.opts.keep_types))
+            .collect();
+        if !self.opts.keep_types {
+            let casts: Vec<Expr> = text_columns
+                .iter()
+                .map(|c| col(*c).cast(DataType::String))
+                .collect();
+            lazy = lazy.with_columns(casts);
+        }
+        Ok(StreamedTable {
+            lazy,
+            notes,
+            input: self.clone(),
+        })
+    }
+
+    /// Read the `projection` columns (all when `None`) whole: the scan of
+    /// [`Input::scan`], collected.
+    pub fn read(&self, text_columns: &[&str], projection: Option<&[&str]>) -> Result<Table, Error> {
+        let table = self.scan(text_columns, projection)?;
+        let frame = table
+            .lazy
+            .clone()
+            .collect_with_engine(Engine::Streaming)
+            .map(|result| result.unwrap_single())
+            .map_err(|e| table.read_error(e))?;
+        Ok(Table {
+            path: self.path.clone(),
+            frame,
+            notes: table.notes,
+        })
+    }
+
+    /// Read the table in batches of about `batch_rows` rows, in file
+    /// order, and hand each to `each`. Only the batch in hand (and polars'
+    /// read-ahead) is in memory. Returns notes for the user, as
+    /// [`Table::notes`].
+    pub fn for_each_batch(
+        &self,
+        text_columns: &[&str],
+        projection: Option<&[&str]>,
+        batch_rows: usize,
+        mut each: impl FnMut(DataFrame) -> Result<(), Error>,
+    ) -> Result<Vec<String>, Error> {
+        let table = self.scan(text_columns, projection)?;
+        let (send, receive) = std::sync::mpsc::sync_channel::<DataFrame>(2);
+        let sink = table
+            .lazy
+            .clone()
+            .sink_batches(
+                PlanCallback::new(move |df: DataFrame| Ok(send.send(df).is_err())),
+                true,
+                std::num::NonZeroUsize::new(batch_rows.max(1)),
+            )
+            .map_err(|e| table.read_error(e))?;
+        let runner =
+            std::thread::spawn(move || sink.collect_with_engine(Engine::Streaming).map(|_| ()));
+        let mut failure = None;
+        for batch in receive.iter() {
+            if let Err(e) = each(batch) {
+                failure = Some(e);
+                break;
+            }
+        }
+        drop(receive);
+        let read_result = runner
+            .join()
+            .unwrap_or_else(|_| Err(polars_err!(ComputeError: "the reader stopped unexpectedly")));
+        if let Some(e) = failure {
+            return Err(e);
+        }
+        match read_result {
+            Ok(()) => Ok(table.notes),
+            Err(e) => Err(table.read_error(e)),
+        }
     }
 
     /// Check that `text_columns` exist and that the columns to read (all
@@ -302,10 +377,59 @@ impl Opened {
         Ok(())
     }
 
-    /// Whether polars can scan the whole file (a streaming scan converts
-    /// every column's type, read or not).
-    fn scannable(&self) -> bool {
-        self.file_columns.as_ref().is_none_or(FileColumns::all_readable)
+    /// The file as a lazy frame of every column. CSV, and Parquet and IPC
+    /// files whose every column polars can hold, are scanned in batches; a
+    /// Parquet or IPC file with other columns has the `projection` (which
+    /// [`Input::check_columns`] found readable) read whole, and so has JSON.
+    ///
+    /// `text_only` reads every CSV column as text, for a scan that keeps
+    /// only the described columns: a column inferred as integers from its
+    /// first rows must not fail the read at a value such as
+    /// 9223372036854775808.
+    fn lazy(&self, text_only: bool, text_columns: &[&str], projection: Option<&[&str]>) -> PolarsResult<LazyFrame> {
+        let scannable = self.file_columns.as_ref().is_none_or(FileColumns::all_readable);
+        // By position: a name may also belong to a column that is not read.
+        let indices = projection.map(|cols| self.indices(cols));
+        match self.format {
+            TableFormat::Csv { delimiter } => self.scan_csv(delimiter, text_only, text_columns),
+            TableFormat::Parquet | TableFormat::Ipc if scannable => scan(&self.file, self.format),
+            TableFormat::Parquet => Ok(ParquetReader::new(File::open(&self.file)?)
+                .with_projection(indices)
+                .finish()?
+                .lazy()),
+            TableFormat::Ipc => Ok(IpcReader::new(File::open(&self.file)?)
+                .with_projection(indices)
+                .finish()?
+                .lazy()),
+            TableFormat::NdJson | TableFormat::Json => Ok(read_json(&self.file, self.format)?.lazy()),
+        }
+    }
+
+    /// A lazy CSV scan whose `text_columns` are read as text, its columns
+    /// named as the header names them.
+    fn scan_csv(&self, delimiter: u8, text_only: bool, text_columns: &[&str]) -> PolarsResult<LazyFrame> {
+        let polars_name = |name: &str| -> PlSmallStr {
+            match (&self.polars_names, self.names.iter().position(|n| n == name)) {
+                (Some(theirs), Some(i)) => theirs[i].as_str().into(),
+                _ => name.into(),
+            }
+        };
+        let overwrite: Schema = text_columns
+            .iter()
+            .map(|c| Field::new(polars_name(c), DataType::String))
+            .collect();
+        let lazy = LazyCsvReader::new(PlRefPath::new(self.file.to_string_lossy().as_ref()))
+            .with_glob(false)
+            .with_has_header(true)
+            .with_infer_schema_length(if text_only { Some(0) } else { Some(100) })
+            .with_separator(delimiter)
+            .with_encoding(encoding(&self.opts))
+            .with_dtype_overwrite(Some(Arc::new(overwrite)))
+            .finish()?;
+        Ok(match &self.polars_names {
+            Some(theirs) => lazy.rename(theirs, &self.names, true),
+            None => lazy,
+        })
     }
 
     /// The file positions of `columns`.
@@ -316,9 +440,58 @@ impl Opened {
             .collect()
     }
 
-    fn error(&self, opts: &ReadOptions, e: PolarsError) -> Error {
-        read_error(&self.path, &self.source, self.format, opts, e)
+    /// A read error, located in the file when it is a CSV the reader
+    /// rejected.
+    fn error(&self, e: PolarsError) -> Error {
+        if let TableFormat::Csv { delimiter } = self.format {
+            if let Some(place) = diagnose_csv(&self.file, delimiter, self.opts.lossy_utf8) {
+                return Error::Input {
+                    path: self.path.clone(),
+                    message: format!("cannot read the table: {place}"),
+                };
+            }
+        }
+        input_error(&self.path, e)
     }
+}
+
+/// Check that `path` is a table file of `format` that can be read.
+fn check_file(path: &Path, format: TableFormat) -> Result<(), Error> {
+    check_readable(path)?;
+    let head = sniff::head(path).map_err(|e| Error::Input {
+        path: path.to_owned(),
+        message: format!("cannot read: {e}"),
+    })?;
+    sniff::check_head(&head, format).map_err(|message| Error::Input {
+        path: path.to_owned(),
+        message,
+    })
+}
+
+/// Copy standard input to a temporary file.
+fn spool_stdin(format: TableFormat) -> Result<tempfile::TempPath, Error> {
+    let stdin_error = |message: String| Error::Input {
+        path: PathBuf::from("-"),
+        message,
+    };
+    if std::io::IsTerminal::is_terminal(&std::io::stdin()) {
+        return Err(stdin_error(
+            "standard input is a terminal, not a table; pipe one in (e.g. `cat table.csv | descry ... -`) \
+             or give a file"
+                .to_owned(),
+        ));
+    }
+    let mut spool = tempfile::NamedTempFile::new()
+        .map_err(|e| stdin_error(format!("cannot create a temporary file to hold standard input: {e}")))?;
+    let copied = std::io::copy(&mut std::io::stdin().lock(), spool.as_file_mut())
+        .map_err(|e| stdin_error(format!("cannot copy standard input to {}: {e}", spool.path().display())))?;
+    if copied == 0 {
+        return Err(stdin_error("standard input is empty".to_owned()));
+    }
+    let spool = spool.into_temp_path();
+    let head = sniff::head(&spool).map_err(|e| stdin_error(format!("cannot read: {e}")))?;
+    sniff::check_head(&head, format).map_err(stdin_error)?;
+    Ok(spool)
 }
 
 /// The first of `read` whose name more than one column has, with the
@@ -344,56 +517,41 @@ fn escaped_name(name: &str) -> String {
     crate::render::escaped(name)
 }
 
-/// The names of every column of a CSV or JSON table, read from its header
-/// or its records.
-fn column_names(
-    source: &Source,
-    format: TableFormat,
-    opts: &ReadOptions,
-) -> PolarsResult<Vec<String>> {
-    let names = match format {
-        TableFormat::Csv { delimiter } => {
-            // polars parses only the header record: its whole-file reader,
-            // even when asked for no rows, splits and parses chunks ahead.
-            let header = Source::Bytes(header_record(source)?);
-            if let Some((name, at)) = repeated_header(&header, delimiter) {
-                polars_bail!(ComputeError:
-                    "the header gives the name {} to more than one column ({}); rename one",
-                    shown(&name), positions(&at));
-            }
-            let options = CsvReadOptions::default()
-                .with_has_header(true)
-                .with_parse_options(
-                    CsvParseOptions::default()
-                        .with_separator(delimiter)
-                        .with_encoding(encoding(opts)),
-                );
-            let frame = csv_reader(&header, options)?;
-            frame
-                .get_column_names()
-                .iter()
-                .map(|s| s.to_string())
-                .collect()
-        }
-        TableFormat::NdJson | TableFormat::Json => read_json(source, format)?
-            .get_column_names()
-            .iter()
-            .map(|s| s.to_string())
-            .collect(),
-        TableFormat::Parquet | TableFormat::Ipc => {
-            polars_bail!(ComputeError: "Parquet and IPC names come from their schema")
-        }
-    };
-    Ok(names)
+/// The names of a CSV file's columns: as its header record gives them
+/// (RFC 4180: `"c""0"` names `c"0`), and as polars' reader names them. The
+/// header names are the polars ones when the two disagree in number.
+fn csv_names(file: &Path, delimiter: u8, opts: &ReadOptions) -> PolarsResult<(Vec<String>, Vec<String>)> {
+    // polars parses only the header record: its whole-file reader, even
+    // when asked for no rows, splits and parses chunks ahead.
+    let header = header_record(file)?;
+    let options = CsvReadOptions::default()
+        .with_has_header(true)
+        .with_parse_options(
+            CsvParseOptions::default()
+                .with_separator(delimiter)
+                .with_encoding(encoding(opts)),
+        );
+    let theirs: Vec<String> = options
+        .into_reader_with_file_handle(Cursor::new(header.as_slice()))
+        .finish()?
+        .get_column_names()
+        .iter()
+        .map(|s| s.to_string())
+        .collect();
+    let ours = header_names(&header, delimiter).filter(|ours| ours.len() == theirs.len());
+    let names = ours.unwrap_or_else(|| theirs.clone());
+    let all: Vec<&str> = names.iter().map(String::as_str).collect();
+    if let Some((name, at)) = repeated_name(&names, &all) {
+        polars_bail!(ComputeError:
+            "the header gives the name {} to more than one column ({}); rename one",
+            shown(name), positions(&at));
+    }
+    Ok((names, theirs))
 }
 
-/// A name the CSV header record gives to more than one column, with their
-/// 1-based positions.
-fn repeated_header(header: &Source, delimiter: u8) -> Option<(String, Vec<usize>)> {
-    let Source::Bytes(bytes) = header else {
-        return None;
-    };
-    let bytes = bytes.strip_prefix(b"\xef\xbb\xbf").unwrap_or(bytes);
+/// The names of a CSV header record, read by the `csv` crate.
+fn header_names(header: &[u8], delimiter: u8) -> Option<Vec<String>> {
+    let bytes = header.strip_prefix(b"\xef\xbb\xbf").unwrap_or(header);
     let record = csv::ReaderBuilder::new()
         .delimiter(delimiter)
         .has_headers(false)
@@ -401,19 +559,14 @@ fn repeated_header(header: &Source, delimiter: u8) -> Option<(String, Vec<usize>
         .byte_records()
         .next()?
         .ok()?;
-    let names: Vec<String> = record.iter().map(|f| String::from_utf8_lossy(f).into_owned()).collect();
-    let all: Vec<&str> = names.iter().map(String::as_str).collect();
-    repeated_name(&names, &all).map(|(n, at)| (n.to_owned(), at))
+    Some(record.iter().map(|f| String::from_utf8_lossy(f).into_owned()).collect())
 }
 
 /// Read a JSON table whole: records one per line, or (`.json`) one array
 /// of records. The schema is taken from every record, so that a key first
 /// seen deep in the file is not dropped.
-fn read_json(source: &Source, format: TableFormat) -> PolarsResult<DataFrame> {
-    let bytes = std::fs::read(match source {
-        Source::File(p) => p,
-        Source::Bytes(_) => polars_bail!(ComputeError: "standard input holds CSV only"),
-    })?;
+fn read_json(file: &Path, format: TableFormat) -> PolarsResult<DataFrame> {
+    let bytes = std::fs::read(file)?;
     if let Some(line) = sniff::too_deep(&bytes, sniff::MAX_JSON_DEPTH) {
         polars_bail!(ComputeError:
             "line {line}: values nested deeper than {} levels; descry reads records of plain values \
@@ -474,7 +627,7 @@ const MAX_HEADER_BYTES: usize = 16 << 20;
 /// The bytes of a CSV source up to and including the line break that ends
 /// its first record (a line break inside double quotes does not), or all of
 /// it when it has one record.
-fn header_record(source: &Source) -> PolarsResult<Vec<u8>> {
+fn header_record(file: &Path) -> PolarsResult<Vec<u8>> {
     let mut header = Vec::new();
     let mut quoted = false;
     let mut scan = |chunk: &[u8], header: &mut Vec<u8>| {
@@ -491,26 +644,16 @@ fn header_record(source: &Source) -> PolarsResult<Vec<u8>> {
         header.extend_from_slice(chunk);
         false
     };
-    match source {
-        Source::Bytes(b) => {
-            scan(b, &mut header);
-        }
-        Source::File(p) => {
-            let mut file = File::open(p)?;
-            let mut buf = vec![0; 64 * 1024];
-            loop {
-                let n = match file.read(&mut buf) {
-                    Ok(n) => n,
-                    Err(e) if e.kind() == std::io::ErrorKind::Interrupted => continue,
-                    Err(e) => return Err(e.into()),
-                };
-                if n == 0 || scan(&buf[..n], &mut header) {
-                    break;
-                }
-                if header.len() > MAX_HEADER_BYTES {
-                    break;
-                }
-            }
+    let mut file = File::open(file)?;
+    let mut buf = vec![0; 64 * 1024];
+    loop {
+        let n = match file.read(&mut buf) {
+            Ok(n) => n,
+            Err(e) if e.kind() == std::io::ErrorKind::Interrupted => continue,
+            Err(e) => return Err(e.into()),
+        };
+        if n == 0 || scan(&buf[..n], &mut header) || header.len() > MAX_HEADER_BYTES {
+            break;
         }
     }
     if header.len() > MAX_HEADER_BYTES {
@@ -519,17 +662,6 @@ fn header_record(source: &Source) -> PolarsResult<Vec<u8>> {
             MAX_HEADER_BYTES >> 20);
     }
     Ok(header)
-}
-
-fn csv_reader(source: &Source, options: CsvReadOptions) -> PolarsResult<DataFrame> {
-    match source {
-        Source::File(p) => options
-            .try_into_reader_with_file_path(Some(p.clone()))?
-            .finish(),
-        Source::Bytes(b) => options
-            .into_reader_with_file_handle(Cursor::new(b.as_slice()))
-            .finish(),
-    }
 }
 
 fn missing_column(path: &Path, frame: &DataFrame, name: &str) -> Error {
@@ -593,76 +725,10 @@ fn check_readable(path: &Path) -> Result<(), Error> {
     Ok(())
 }
 
-fn read_frame(
-    file: &Opened,
-    text_columns: &[&str],
-    projection: Option<&[&str]>,
-    opts: &ReadOptions,
-) -> PolarsResult<DataFrame> {
-    // By position: a name may also belong to a column that is not read.
-    let indices = projection.map(|cols| file.indices(cols));
-    let source = &file.source;
-    match file.format {
-        TableFormat::Csv { delimiter } => {
-            read_csv(source, delimiter, text_columns, projection, opts)
-        }
-        TableFormat::Parquet => ParquetReader::new(source.file()?)
-            .with_projection(indices)
-            .finish(),
-        TableFormat::Ipc => IpcReader::new(source.file()?)
-            .with_projection(indices)
-            .finish(),
-        TableFormat::NdJson | TableFormat::Json => {
-            let frame = read_json(source, file.format)?;
-            match projection {
-                Some(cols) => frame.select(cols.iter().copied()),
-                None => Ok(frame),
-            }
-        }
-    }
-}
-
-fn read_csv(
-    source: &Source,
-    delimiter: u8,
-    text_columns: &[&str],
-    projection: Option<&[&str]>,
-    opts: &ReadOptions,
-) -> PolarsResult<DataFrame> {
-    let overwrite: Schema = text_columns
-        .iter()
-        .map(|c| Field::new((*c).into(), DataType::String))
-        .collect();
-    // Every column is parsed and the projection taken afterwards: a reader
-    // limited to some columns does not notice a row with more fields than
-    // the header.
-    // When some columns are read, the others are parsed as text only to
-    // check each row's length: a column inferred as integers from its first
-    // rows must not fail the read at a value such as 9223372036854775808.
-    let infer = if projection.is_some() { Some(0) } else { Some(100) };
-    let options = CsvReadOptions::default()
-        .with_has_header(true)
-        .with_infer_schema_length(infer)
-        .with_schema_overwrite(Some(Arc::new(overwrite)))
-        .with_parse_options(
-            CsvParseOptions::default()
-                .with_separator(delimiter)
-                .with_encoding(encoding(opts)),
-        );
-    let frame = csv_reader(source, options)?;
-    match projection {
-        Some(cols) => frame.select(cols.iter().copied()),
-        None => Ok(frame),
-    }
-}
-
 /// Find where a CSV file goes wrong, in words a user can act on: the
 /// reader's own errors do not always say which row.
-fn diagnose_csv(source: &Source, delimiter: u8, lossy_utf8: bool) -> Option<String> {
-    let bytes: std::borrow::Cow<[u8]> = match source {
-        Source::File(p) => std::fs::read(p).ok()?.into(),
-        Source::Bytes(b) => b.as_slice().into(),
-    };
+fn diagnose_csv(file: &Path, delimiter: u8, lossy_utf8: bool) -> Option<String> {
+    let bytes = std::fs::read(file).ok()?;
     if let Some(line) = unclosed_quote_line(&bytes) {
         return Some(format!(
             "line {line}: a quoted field opens here and is never closed; close the quote or double the \" inside it"
@@ -727,23 +793,7 @@ fn unclosed_quote_line(bytes: &[u8]) -> Option<usize> {
 
 /// The column names of a table, from its header or schema.
 pub fn table_columns(path: &Path, opts: &ReadOptions) -> Result<Vec<String>, Error> {
-    Ok(Opened::new(path, opts)?.names)
-}
-
-/// Whether a table can be read batch by batch: files in CSV, Parquet or
-/// Arrow IPC, when polars can read every column of the file (its scan
-/// converts every column's type). Standard input, JSON and files with
-/// columns polars cannot hold are read whole, and only the columns asked
-/// for.
-pub fn can_stream(path: &Path, opts: &ReadOptions) -> bool {
-    let streamable_format = path.as_os_str() != "-"
-        && matches!(
-            TableFormat::of(path, opts.delimiter),
-            Ok(TableFormat::Csv { .. } | TableFormat::Parquet | TableFormat::Ipc)
-        );
-    // A file that cannot be opened streams as far as this question goes:
-    // the reader then reports why.
-    streamable_format && Opened::new(path, opts).is_ok_and(|f| f.scannable())
+    Ok(Input::open(path, opts)?.names)
 }
 
 /// The rows of one text column of a batch from [`for_each_batch`]; an error
@@ -763,115 +813,46 @@ pub fn batch_text<'a>(
     Ok(text.iter().collect())
 }
 
-/// A table opened for streaming: a lazy scan (polars' streaming engine) of
-/// a CSV, Parquet or Arrow IPC file whose described columns are cast to
-/// text, with the notes for the user and what it takes to locate a read
-/// error in the file.
+/// A lazy scan of a table's columns (see [`Input::scan`]), with the notes
+/// for the user and what it takes to locate a read error in the file.
 pub struct StreamedTable {
     /// The scan; run it with `Engine::Streaming` so that only a few
     /// morsels are in memory at a time.
     pub lazy: LazyFrame,
     /// Notes for the user, as [`Table::notes`].
     pub notes: Vec<String>,
-    file: Opened,
-    opts: ReadOptions,
+    input: Input,
 }
 
 impl StreamedTable {
-    /// Open `path` (checking that it holds `text_columns`); `projection`
-    /// limits the columns read. The file must be one [`can_stream`] accepts.
+    /// Open `path` and scan it: [`Input::open`], then [`Input::scan`].
     pub fn open(
         path: &Path,
         text_columns: &[&str],
         projection: Option<&[&str]>,
         opts: &ReadOptions,
     ) -> Result<StreamedTable, Error> {
-        let file = Opened::new(path, opts)?;
-        file.check_columns(text_columns, projection)?;
-        let fail = |e| file.error(opts, e);
-        let text_only = projection.is_some_and(|cols| cols.iter().all(|c| text_columns.contains(c)));
-        let mut lazy = scan(path, text_only, file.format, text_columns, opts).map_err(fail)?;
-        if let Some(cols) = projection {
-            lazy = lazy.select(cols.iter().map(|c| col(*c)).collect::<Vec<_>>());
-            if matches!(file.format, TableFormat::Csv { .. }) {
-                // A CSV scan limited to some columns does not notice a row
-                // with more fields than the header; every field is parsed
-                // so that such a row is reported wherever it is.
-                lazy = lazy.with_projection_pushdown(false);
-            }
-        }
-        let schema = lazy.collect_schema().map_err(fail)?;
-        let notes = text_columns
-            .iter()
-            .filter_map(|c| schema.get(c).map(|t| (c, t)))
-            .filter(|(_, t)| **t != DataType::String)
-            .filter_map(|(c, t)| text_note(c, t, opts.keep_types))
-            .collect();
-        if !opts.keep_types {
-            let casts: Vec<Expr> = text_columns
-                .iter()
-                .map(|c| col(*c).cast(DataType::String))
-                .collect();
-            lazy = lazy.with_columns(casts);
-        }
-        Ok(StreamedTable {
-            lazy,
-            notes,
-            file,
-            opts: opts.clone(),
-        })
+        Input::open(path, opts)?.scan(text_columns, projection)
     }
 
     /// An error of the running scan, located in the file when it is a CSV
     /// the reader rejected.
     pub fn read_error(&self, e: PolarsError) -> Error {
-        self.file.error(&self.opts, e)
+        self.input.error(e)
     }
 }
 
-/// Read a table in batches of about `batch_rows` rows, in file order, and
-/// hand each to `each`. Only the batch in hand (and polars' read-ahead) is
-/// in memory. `projection` limits the columns read. Returns notes for the
-/// user, as [`Table::notes`].
+/// Open `path` and read it in batches: [`Input::open`], then
+/// [`Input::for_each_batch`].
 pub fn for_each_batch(
     path: &Path,
     text_columns: &[&str],
     projection: Option<&[&str]>,
     opts: &ReadOptions,
     batch_rows: usize,
-    mut each: impl FnMut(DataFrame) -> Result<(), Error>,
+    each: impl FnMut(DataFrame) -> Result<(), Error>,
 ) -> Result<Vec<String>, Error> {
-    let table = StreamedTable::open(path, text_columns, projection, opts)?;
-    let (send, receive) = std::sync::mpsc::sync_channel::<DataFrame>(2);
-    let sink = table
-        .lazy
-        .clone()
-        .sink_batches(
-            PlanCallback::new(move |df: DataFrame| Ok(send.send(df).is_err())),
-            true,
-            std::num::NonZeroUsize::new(batch_rows.max(1)),
-        )
-        .map_err(|e| table.read_error(e))?;
-    let runner =
-        std::thread::spawn(move || sink.collect_with_engine(Engine::Streaming).map(|_| ()));
-    let mut failure = None;
-    for batch in receive.iter() {
-        if let Err(e) = each(batch) {
-            failure = Some(e);
-            break;
-        }
-    }
-    drop(receive);
-    let read_result = runner
-        .join()
-        .unwrap_or_else(|_| Err(polars_err!(ComputeError: "the reader stopped unexpectedly")));
-    if let Some(e) = failure {
-        return Err(e);
-    }
-    match read_result {
-        Ok(()) => Ok(table.notes),
-        Err(e) => Err(table.read_error(e)),
-    }
+    Input::open(path, opts)?.for_each_batch(text_columns, projection, batch_rows, each)
 }
 
 fn encoding(opts: &ReadOptions) -> CsvEncoding {
@@ -882,55 +863,13 @@ fn encoding(opts: &ReadOptions) -> CsvEncoding {
     }
 }
 
-/// A read error, located in the file when it is a CSV the reader rejected.
-fn read_error(
-    path: &Path,
-    source: &Source,
-    format: TableFormat,
-    opts: &ReadOptions,
-    e: PolarsError,
-) -> Error {
-    match format {
-        TableFormat::Csv { delimiter } => match diagnose_csv(source, delimiter, opts.lossy_utf8) {
-            Some(place) => Error::Input {
-                path: path.to_owned(),
-                message: format!("cannot read the table: {place}"),
-            },
-            None => input_error(path, e),
-        },
-        _ => input_error(path, e),
-    }
-}
-
-/// A lazy scan of the file at `path` itself: polars' glob expansion
-/// (`data[1].csv` read as `data1.csv`, `*` as many files) and folder
-/// partitioning are off, because a path names one file.
-///
-/// `text_only` reads every column as text, for a scan that keeps only the
-/// described columns (see [`read_csv`]).
-fn scan(
-    path: &Path,
-    text_only: bool,
-    format: TableFormat,
-    text_columns: &[&str],
-    opts: &ReadOptions,
-) -> PolarsResult<LazyFrame> {
+/// A lazy scan of the Parquet or IPC file at `path` itself: polars' glob
+/// expansion (`data[1].csv` read as `data1.csv`, `*` as many files) and
+/// folder partitioning are off, because a path names one file. (The CSV
+/// scan turns them off too.)
+fn scan(path: &Path, format: TableFormat) -> PolarsResult<LazyFrame> {
     let p = PlRefPath::new(path.to_string_lossy().as_ref());
     match format {
-        TableFormat::Csv { delimiter } => {
-            let overwrite: Schema = text_columns
-                .iter()
-                .map(|c| Field::new((*c).into(), DataType::String))
-                .collect();
-            LazyCsvReader::new(p)
-                .with_glob(false)
-                .with_has_header(true)
-                .with_infer_schema_length(if text_only { Some(0) } else { Some(100) })
-                .with_separator(delimiter)
-                .with_encoding(encoding(opts))
-                .with_dtype_overwrite(Some(Arc::new(overwrite)))
-                .finish()
-        }
         TableFormat::Parquet => LazyFrame::scan_parquet(
             p,
             ScanArgsParquet {
@@ -948,8 +887,6 @@ fn scan(
                 ..UnifiedScanArgs::default()
             },
         ),
-        TableFormat::NdJson | TableFormat::Json => {
-            polars_bail!(ComputeError: "JSON is read whole, not in batches")
-        }
+        _ => polars_bail!(ComputeError: "only Parquet and IPC files are scanned here"),
     }
 }

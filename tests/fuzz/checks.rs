@@ -14,7 +14,7 @@ use std::sync::{Mutex, OnceLock};
 
 use descry::evaluate::Cell;
 use descry::numbers::{parse_integer, parse_number, DecimalMark, Macro};
-use descry::read::{batch_text, can_stream, for_each_batch, ReadOptions, Table};
+use descry::read::{batch_text, for_each_batch, ReadOptions, Table};
 use descry::ruleset::{Feature, Rule};
 use descry::vocabulary::GrowingVocabulary;
 use descry::{Ruleset, Vocabulary};
@@ -369,17 +369,13 @@ pub fn check_table(bytes: &[u8], kind: TableKind, dir: &Path) -> Result<String, 
     Ok(kinds.join(" / lossy "))
 }
 
-/// The read `read_vocabulary` does: in batches for files that stream,
-/// whole otherwise. `Err(String)` is a failure of the check; the inner
+/// The read `read_vocabulary` does: in batches. `Err(String)` is a failure of the check; the inner
 /// `Err` is descry's error text, which names the file.
 fn read_as_commands(
     path: &Path,
     column: &str,
     opts: &ReadOptions,
 ) -> Result<Result<VocabSummary, String>, String> {
-    if !can_stream(path, opts) {
-        return read_whole(path, column, opts);
-    }
     let mut vocab = GrowingVocabulary::default();
     let result = for_each_batch(path, &[column], Some(&[column]), opts, 1 << 20, |batch| {
         vocab.codes_for(&batch_text(&batch, column, path)?);
