@@ -50,7 +50,7 @@ Examples:
   descry apply listings.parquet -r rulesets/engine.toml -o eng.parquet --only-features --keep listing_id";
 
 #[derive(Debug, clap::Args)]
-#[command(long_about = ABOUT)]
+#[command(long_about = ABOUT, mut_arg("counts", |a| a.hide(true)))]
 pub struct Args {
     #[command(flatten)]
     pub input: InputArgs,
@@ -87,6 +87,12 @@ pub struct Args {
 }
 
 pub fn run(args: Args) -> anyhow::Result<ExitCode> {
+    if args.input.counts.is_some() {
+        bail!(
+            "apply writes one row per input row, and --counts reads a table of distinct values; \
+             `descry lookup` writes one row per distinct value, to join to the rows"
+        );
+    }
     let descriptions = load_descriptions(&args.rules, args.column.as_deref())?;
     let inputs: Vec<&Path> = std::iter::once(args.input.input.as_path())
         .chain(args.rules.iter().map(PathBuf::as_path))

@@ -7,6 +7,7 @@ use anyhow::{bail, Context};
 use clap::ValueEnum;
 
 use descry::read::{batch_text, for_each_batch, ReadOptions};
+use descry::render::shown;
 use descry::vocabulary::GrowingVocabulary;
 use descry::write::{check_not_an_input, check_output_file};
 use descry::{Ruleset, Vocabulary};
@@ -25,6 +26,12 @@ pub struct InputArgs {
     /// Replace invalid UTF-8 in the input with U+FFFD instead of failing.
     #[arg(long)]
     pub lossy_utf8: bool,
+    /// The input is a vocabulary table: one row per distinct value of the
+    /// described column, with its number of rows in COLUMN (what
+    /// `SELECT col, count(*) AS rows ... GROUP BY col` gives; nulls may be
+    /// one row with their count). Reports are those of the raw rows.
+    #[arg(long, value_name = "COLUMN")]
+    pub counts: Option<String>,
 }
 
 impl InputArgs {
@@ -168,6 +175,10 @@ pub fn read_vocabularies(
             distinct.push(c);
         }
     }
+    if let Some(counts) = &input.counts {
+        let vocab = read_counted(input, &distinct, counts, quiet)?;
+        return Ok(vec![vocab; columns.len()]);
+    }
     let mut growing = vec![GrowingVocabulary::default(); distinct.len()];
     let notes = for_each_batch(
         &input.input,
@@ -188,6 +199,107 @@ pub fn read_vocabularies(
         .iter()
         .map(|c| vocabs[distinct.iter().position(|d| d == c).expect("listed")].clone())
         .collect())
+}
+
+/// The vocabulary of a table that holds one row per distinct value of the
+/// one described column, with its row count in `counts`.
+fn read_counted(
+    input: &InputArgs,
+    columns: &[&str],
+    counts: &str,
+    quiet: bool,
+) -> anyhow::Result<Vocabulary> {
+    let path = &input.input;
+    let [column] = columns else {
+        bail!(
+            "{}: --counts reads a table of one column's distinct values, and the rulesets describe {} \
+             columns ({}); check each column's vocabulary table on its own",
+            path.display(),
+            columns.len(),
+            columns.iter().map(|c| shown(c)).collect::<Vec<_>>().join(", ")
+        );
+    };
+    if counts == *column {
+        bail!("{}: --counts names the described column {}; name the column of row counts", path.display(), shown(column));
+    }
+    let mut builder = CountedVocabulary::default();
+    let mut row = 0u64;
+    let notes = for_each_batch(path, &[column], Some(&[column, counts]), &input.read_options(), 1 << 20, |batch| {
+        let values = batch_text(&batch, column, path)?;
+        let rows = row_counts(&batch, counts, path, row)?;
+        for (value, n) in values.into_iter().zip(rows) {
+            builder.add(value, n);
+        }
+        row += batch.height() as u64;
+        Ok(())
+    })?;
+    print_notes(&notes, quiet);
+    Ok(builder.finish())
+}
+
+/// The row counts of a batch of a vocabulary table: whole numbers, 0 or
+/// more. `first_row` is the batch's first row in the table (from 0), for
+/// messages.
+fn row_counts(
+    batch: &polars::prelude::DataFrame,
+    counts: &str,
+    path: &Path,
+    first_row: u64,
+) -> Result<Vec<u64>, descry::Error> {
+    use polars::prelude::DataType;
+    let input_error = |message: String| descry::Error::Input {
+        path: path.to_owned(),
+        message,
+    };
+    let column = batch.column(counts).map_err(|e| input_error(e.to_string()))?;
+    // Cast value by value: a value that is no whole number of rows
+    // (negative, fractional, text) becomes null and is reported.
+    let whole = column.cast(&DataType::UInt64).ok();
+    let whole = whole.as_ref().and_then(|c| c.u64().ok());
+    let real = column.cast(&DataType::Float64).ok();
+    let real = real.as_ref().and_then(|c| c.f64().ok());
+    let text = descry::read::text_of(column).map_err(|e| input_error(e.to_string()))?;
+    (0..batch.height())
+        .map(|i| match (whole.and_then(|w| w.get(i)), real.and_then(|r| r.get(i))) {
+            (Some(n), Some(x)) if n as f64 == x => Ok(n),
+            (Some(n), None) => Ok(n),
+            _ => Err(input_error(format!(
+                "row {} of the --counts column {} holds {}, not a number of rows (a whole number, 0 or more)",
+                first_row + i as u64 + 1,
+                shown(counts),
+                text.get(i).map_or("null".to_owned(), shown),
+            ))),
+        })
+        .collect()
+}
+
+/// A vocabulary built from (value, rows) pairs; a value listed twice has
+/// its rows added.
+#[derive(Default)]
+struct CountedVocabulary {
+    index: std::collections::HashMap<String, usize>,
+    vocab: Vocabulary,
+}
+
+impl CountedVocabulary {
+    fn add(&mut self, value: Option<&str>, rows: u64) {
+        let Some(value) = value else {
+            self.vocab.null_rows += rows;
+            return;
+        };
+        match self.index.get(value) {
+            Some(&i) => self.vocab.counts[i] += rows,
+            None => {
+                self.index.insert(value.to_owned(), self.vocab.values.len());
+                self.vocab.values.push(value.to_owned());
+                self.vocab.counts.push(rows);
+            }
+        }
+    }
+
+    fn finish(self) -> Vocabulary {
+        self.vocab
+    }
 }
 
 /// Notes about a column that is technically fine but probably not what the

@@ -8,6 +8,7 @@ pub mod cluster;
 pub mod common;
 pub mod demo;
 pub mod explain;
+pub mod lookup;
 pub mod propose;
 pub mod survey;
 
@@ -44,6 +45,9 @@ pub enum Command {
     /// Draft a ruleset from a column's distinct values, tested on all of them.
     #[command(long_about = propose::ABOUT)]
     Propose(propose::Args),
+    /// Write one row per distinct value with its rows and features, to join.
+    #[command(long_about = lookup::ABOUT)]
+    Lookup(lookup::Args),
     /// Write the demo marketplace listings and their true features.
     #[command(long_about = demo::ABOUT)]
     Demo(demo::Args),
@@ -65,6 +69,7 @@ pub fn run(cli: Cli) -> anyhow::Result<ExitCode> {
         Command::Apply(args) => apply::run(args),
         Command::Explain(args) => explain::run(args),
         Command::Propose(args) => propose::run(args),
+        Command::Lookup(args) => lookup::run(args),
         Command::Demo(args) => demo::run(args),
         Command::Survey(args) => survey::run(args),
         Command::Cluster(args) => cluster::run(args),
