@@ -6,7 +6,7 @@
 //! Compares `strsim` (plain dynamic programming), `rapidfuzz` (bit-parallel,
 //! with a cached pattern for one-against-many) and `triple_accel` (SIMD,
 //! bytes only) on the same pairs, checks they agree, and prints nanoseconds
-//! per pair. The figures are in the README.
+//! per pair. The figures are in docs/cluster.md.
 
 use std::hint::black_box;
 use std::time::Instant;

@@ -1,4 +1,4 @@
-//! The catalogue of bad inputs (README, "Bad input"): each case gives exit
+//! The catalogue of bad inputs (docs/bad-input.md): each case gives exit
 //! code 2 (or 1 for a failed gate) and a message naming the file and the
 //! place, and none panics.
 

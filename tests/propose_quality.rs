@@ -15,7 +15,7 @@
 //!   with (proposed labels are named after spellings, not families).
 //!
 //! The figures are printed (`cargo test --release --test propose_quality --
-//! --nocapture`) and written in the README; the floors asserted below sit a
+//! --nocapture`) and written in docs/propose.md; the floors asserted below sit a
 //! little under them so that a regression fails. This is the demo scenario
 //! (invented data), not an outside-world check.
 
@@ -233,7 +233,7 @@ fn transmission_draft_on_a_new_drop() {
         &[("kind", |f: &G| Some(f.kind.label().to_owned()))],
     );
     // Floors a little under the lowest of the two drops; the figures are in
-    // the README ("How good is an unedited draft?"). The misses are forms the
+    // docs/propose.md ("How good is an unedited draft?"). The misses are forms the
     // drafting data never shows (`5-gear`, `19 ratios`, `(8)`, `stick`).
     for s in &drops {
         assert_floor("transmission coverage", s.coverage, 0.96);
@@ -257,7 +257,7 @@ fn engine_draft_on_a_new_drop() {
         ],
         &[("fuel", |f: &E| f.fuel.map(|x| x.label().to_owned()))],
     );
-    // Floors a little under the lowest of the two drops (README). Cylinder
+    // Floors a little under the lowest of the two drops (docs/propose.md). Cylinder
     // misses are a form the drafting data never shows (`cyl x4`).
     for s in &drops {
         assert_floor("engine coverage", s.coverage, 0.97);

@@ -6,9 +6,9 @@ mod common;
 
 use descry::{Ruleset, RulesetError};
 
-/// The ```toml block under "A complete example" in rulesets/README.md.
+/// The ```toml block under "A complete example" in docs/rulesets.md.
 fn documented_example() -> String {
-    let doc = std::fs::read_to_string(common::root().join("rulesets/README.md")).unwrap();
+    let doc = std::fs::read_to_string(common::root().join("docs/rulesets.md")).unwrap();
     let section = doc
         .split("## A complete example")
         .nth(1)
@@ -19,7 +19,7 @@ fn documented_example() -> String {
 
 #[test]
 fn the_documented_example_loads_and_its_examples_pass() {
-    let rules = Ruleset::from_toml(&documented_example(), "rulesets/README.md").unwrap();
+    let rules = Ruleset::from_toml(&documented_example(), "docs/rulesets.md").unwrap();
     let names: Vec<&str> = rules.features.iter().map(|f| f.output.as_str()).collect();
     assert_eq!(
         names,
@@ -179,9 +179,9 @@ fn a_pattern_over_the_size_limit_is_an_error_naming_the_rule() {
     shows(&e, &["bad.toml:2", "[[count]] \"huge\"", "limit"]);
 }
 
-/// Every ```toml block of rulesets/README.md, in order.
+/// Every ```toml block of docs/rulesets.md, in order.
 fn documented_blocks() -> Vec<String> {
-    let doc = std::fs::read_to_string(common::root().join("rulesets/README.md")).unwrap();
+    let doc = std::fs::read_to_string(common::root().join("docs/rulesets.md")).unwrap();
     doc.split("```toml")
         .skip(1)
         .map(|b| b.split("```").next().unwrap().to_owned())
@@ -199,7 +199,7 @@ fn every_documented_block_loads() {
     assert!(blocks.len() >= 4, "{}", blocks.len());
     // Blocks that declare rules are whole rulesets; the rest are fragments.
     for b in blocks.iter().filter(|b| b.contains("name =")) {
-        Ruleset::from_toml(b, "rulesets/README.md").unwrap_or_else(|e| panic!("{e}\n{b}"));
+        Ruleset::from_toml(b, "docs/rulesets.md").unwrap_or_else(|e| panic!("{e}\n{b}"));
     }
 }
 
@@ -210,7 +210,7 @@ fn the_documented_compound_measures_read_what_the_reference_says() {
         .into_iter()
         .find(|b| b.contains("height_in"))
         .expect("the combine example");
-    let rules = Ruleset::from_toml(&block, "rulesets/README.md").unwrap();
+    let rules = Ruleset::from_toml(&block, "docs/rulesets.md").unwrap();
     // 1 ft = 12 in exactly (NIST SP 811, Appendix B.8): 5 ft 6 in = 66 in.
     for value in ["5 ft 6 in", "5'6\"", "5\u{2032}6\u{2033}", "5\u{2032} 6\u{2033}", "5 feet 6 inches"] {
         assert_eq!(reading(&rules, "height_in", value), Float(66.0), "{value}");

@@ -114,7 +114,8 @@ fn ruleset_seeds() -> Vec<String> {
             seeds.push(std::fs::read_to_string(&path).expect("a ruleset"));
         }
     }
-    let readme = std::fs::read_to_string(root.join("README.md")).expect("rulesets/README.md");
+    let reference = Path::new(env!("CARGO_MANIFEST_DIR")).join("docs/rulesets.md");
+    let readme = std::fs::read_to_string(reference).expect("docs/rulesets.md");
     for block in readme.split("```toml\n").skip(1) {
         seeds.push(block.split("```").next().unwrap_or_default().to_owned());
     }

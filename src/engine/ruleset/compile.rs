@@ -93,7 +93,7 @@ fn toml_error(file: &str, text: &str, e: toml::de::Error) -> RulesetError {
         .collect::<Vec<_>>()
         .join(": ");
     let hint = if message.contains("unknown field") {
-        Some("see rulesets/README.md for the keys each table accepts")
+        Some("see docs/rulesets.md for the keys each table accepts")
     } else if message.contains("missing field") {
         Some("every rule needs a `name`; count and measure rules need a `pattern`")
     } else {

@@ -2,7 +2,7 @@
 //!
 //! A ruleset is read from TOML ([`Ruleset::from_path`], [`Ruleset::from_toml`]),
 //! checked as a whole, and compiled once. The format is documented in
-//! `rulesets/README.md`; `spec.rs` mirrors it key by key and `compile.rs`
+//! `docs/rulesets.md`; `spec.rs` mirrors it key by key and `compile.rs`
 //! checks it and builds the matchers.
 
 mod compile;

@@ -5,7 +5,7 @@
 //! `rapidfuzz` crate: bit-parallel algorithms (Hyyrö's for the edit
 //! distances), measured faster than `strsim` and `triple_accel` on this
 //! workload (`cargo run --release --example distance_crates`; figures in the
-//! README). The q-gram Jaccard similarity is computed here.
+//! docs/benchmarks.md). The q-gram Jaccard similarity is computed here.
 //!
 //! ```
 //! use descry::cluster::distance::{jaro_winkler, levenshtein, osa, qgram_jaccard};

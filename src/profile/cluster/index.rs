@@ -39,7 +39,7 @@
 //!   itself, which a bigram prefix filter over all values looks for (see
 //!   [`jaro_winkler_bigrams`]). The tests compare both with all pairs, and
 //!   the benchmark measures the heuristic's recall on 100,000 values (see
-//!   the README).
+//!   docs/cluster.md).
 //!
 //! Cost: the indexes hold a few entries of 8 to 16 bytes per character of
 //! every value; time grows with the number of values times the length of
@@ -875,7 +875,7 @@ fn probe_prefix(tau: f64, len: usize) -> usize {
 /// they need fewer than four matches). If two values share as many bigrams
 /// as they have matched characters less two, their two rarest shared
 /// bigrams are in both prefixes; most pairs above the threshold do
-/// (measured: see the README). It can miss pairs whose letters are
+/// (measured: see docs/cluster.md). It can miss pairs whose letters are
 /// scrambled, or whose longer value's rarest bigrams are not the shared
 /// ones. Meeting a candidate twice instead of once, with one more bigram
 /// each, is what keeps the number of candidates down: most values meet

@@ -30,7 +30,7 @@
 //! for the edit distances, q-gram Jaccard, and Jaro-Winkler up to a work
 //! budget; beyond it (hundreds of thousands of values in one block, as with
 //! `--digits loose`) Jaro-Winkler uses a heuristic whose recall is measured
-//! by the benchmark (see the README). The tests compare the index with all
+//! by the benchmark (see docs/cluster.md). The tests compare the index with all
 //! pairs.
 //!
 //! ```
