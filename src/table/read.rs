@@ -519,7 +519,8 @@ fn escaped_name(name: &str) -> String {
 
 /// The names of a CSV file's columns: as its header record gives them
 /// (RFC 4180: `"c""0"` names `c"0`), and as polars' reader names them. The
-/// header names are the polars ones when the two disagree in number.
+/// header names are the polars ones when the two disagree in number, and
+/// for an empty name.
 fn csv_names(file: &Path, delimiter: u8, opts: &ReadOptions) -> PolarsResult<(Vec<String>, Vec<String>)> {
     // polars parses only the header record: its whole-file reader, even
     // when asked for no rows, splits and parses chunks ahead.
@@ -538,8 +539,15 @@ fn csv_names(file: &Path, delimiter: u8, opts: &ReadOptions) -> PolarsResult<(Ve
         .iter()
         .map(|s| s.to_string())
         .collect();
-    let ours = header_names(&header, delimiter).filter(|ours| ours.len() == theirs.len());
-    let names = ours.unwrap_or_else(|| theirs.clone());
+    // An empty header name keeps the name polars gives it.
+    let names = match header_names(&header, delimiter).filter(|ours| ours.len() == theirs.len()) {
+        Some(ours) => ours
+            .into_iter()
+            .zip(&theirs)
+            .map(|(ours, theirs)| if ours.is_empty() { theirs.clone() } else { ours })
+            .collect(),
+        None => theirs.clone(),
+    };
     let all: Vec<&str> = names.iter().map(String::as_str).collect();
     if let Some((name, at)) = repeated_name(&names, &all) {
         polars_bail!(ComputeError:

@@ -426,6 +426,12 @@ pub fn csv_reference(bytes: &[u8], column: &str) -> Option<VocabSummary> {
         .has_headers(true)
         .from_reader(bytes);
     let header = reader.headers().ok()?.clone();
+    // descry refuses a header that gives one name to two columns (an
+    // empty name excepted: polars names those columns).
+    let names: Vec<&str> = header.iter().filter(|h| !h.is_empty()).collect();
+    if names.iter().enumerate().any(|(i, h)| names[..i].contains(h)) {
+        return None;
+    }
     let index = header.iter().position(|h| h == column)?;
     let mut rows = Vec::new();
     for record in reader.records() {
