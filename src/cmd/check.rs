@@ -1,19 +1,23 @@
 //! `descry check`: test one or more rulesets on every distinct value of
 //! their columns and report coverage, with gates for each new data drop.
 
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 
-use anyhow::bail;
+use anyhow::{bail, Context};
 use serde::Serialize;
 
 use descry::render::{check_text, escaped};
-use descry::report::Gate;
+use descry::pipeline::{lookup_table, Description};
+use descry::report::drift::{drift, read_baseline, write_baseline, BaselineFigures, Drop};
+use descry::report::{DriftLimits, Gate};
+use descry::ruleset::ValueKind;
+use descry::write::check_output_file;
 use descry::{CoverageReport, Ruleset};
 
 use super::common::{
     column_notes, emit, json_out, load_ruleset, parse_share, print_notes, read_vocabularies,
-    source_column, Format, InputArgs,
+    ruleset_text, source_column, Format, InputArgs,
 };
 
 pub const ABOUT: &str = "\
@@ -75,6 +79,33 @@ pub struct Args {
     /// Repeatable.
     #[arg(long, value_name = "FEATURE=SHARE", value_parser = parse_requirement)]
     pub require: Vec<(String, f64)>,
+    /// Store what this run saw as a baseline for the next drop: the lookup
+    /// table (each distinct value, its rows, its features) with the ruleset's
+    /// SHA-256 and the coverage in its Parquet metadata. With several
+    /// rulesets, a folder of RULESET-STEM.parquet files.
+    #[arg(long, value_name = "PATH")]
+    pub save_baseline: Option<PathBuf>,
+    /// Compare with a baseline saved by an earlier --save-baseline: new and
+    /// gone values, rule shares, label shares (PSI), count and measure
+    /// distributions. With several rulesets, the folder --save-baseline wrote.
+    #[arg(long, value_name = "PATH")]
+    pub baseline: Option<PathBuf>,
+    /// Fail (exit 1) when more than this share of the rows with text hold
+    /// values the baseline never saw (needs --baseline).
+    #[arg(long, value_parser = parse_share, requires = "baseline")]
+    pub max_new_share: Option<f64>,
+    /// Fail (exit 1) when more than this share of the rows with text hold
+    /// new values that no rule covers (needs --baseline).
+    #[arg(long, value_parser = parse_share, requires = "baseline")]
+    pub max_new_uncovered_share: Option<f64>,
+    /// Fail (exit 1) when a label's population stability index is above
+    /// this, e.g. 0.25 (needs --baseline).
+    #[arg(long, value_parser = parse_psi, requires = "baseline")]
+    pub max_psi: Option<f64>,
+    /// Fail (exit 1) when a rule's share of the rows with text moved by
+    /// more than this, e.g. 0.05 for 5 points (needs --baseline).
+    #[arg(long, value_parser = parse_share, requires = "baseline")]
+    pub max_shift: Option<f64>,
     /// How many unmatched values, placeholders, issues and conflicts the
     /// text report lists (JSON lists all); 0 leaves those sections out.
     #[arg(long, default_value_t = 20)]
@@ -82,6 +113,13 @@ pub struct Args {
     /// Print no notes on standard error.
     #[arg(long, short = 'q')]
     pub quiet: bool,
+}
+
+fn parse_psi(s: &str) -> Result<f64, String> {
+    match s.parse::<f64>() {
+        Ok(x) if x.is_finite() && x >= 0.0 => Ok(x),
+        _ => Err(format!("{s:?} is not a PSI limit (a number, 0 or more, e.g. 0.25)")),
+    }
 }
 
 fn parse_requirement(s: &str) -> Result<(String, f64), String> {
@@ -129,6 +167,14 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
         .map(|r| source_column(args.column.as_deref(), r))
         .collect::<anyhow::Result<Vec<_>>>()?;
     let required = resolve_requirements(&rulesets, &args.require)?;
+    let limits = DriftLimits {
+        max_new_share: args.max_new_share,
+        max_new_uncovered_share: args.max_new_uncovered_share,
+        max_psi: args.max_psi,
+        max_shift: args.max_shift,
+    };
+    let baselines = baseline_paths(args.baseline.as_deref(), &args.rules, false)?;
+    let saves = baseline_paths(args.save_baseline.as_deref(), &args.rules, true)?;
     let names: Vec<&str> = columns.iter().map(String::as_str).collect();
     let vocabs = read_vocabularies(&args.input, &names, args.quiet)?;
     let mut reports = Vec::new();
@@ -142,6 +188,19 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
             .map(|&(_, f, share)| (f, share))
             .collect();
         report.judge(rules, args.min_coverage, &mine);
+        if args.save_baseline.is_some() || args.baseline.is_some() {
+            let path = &args.rules[reports.len()];
+            let drop = this_drop(rules, column, vocab, &eval, &report, path)?;
+            if let Some(base) = &baselines[reports.len()] {
+                let (table, figures) = read_baseline(base)?;
+                let old = Drop { table, figures, states: Vec::new() };
+                report.drift = Some(drift(&base.display().to_string(), &old, &drop, rules)?);
+                report.judge_drift(&limits);
+            }
+            if let Some(save) = &saves[reports.len()] {
+                write_baseline(save, drop.table, &drop.figures)?;
+            }
+        }
         reports.push(report);
     }
     let passed = reports.iter().all(|r| r.passed);
@@ -182,6 +241,69 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
     } else {
         ExitCode::from(1)
     })
+}
+
+/// A drop as the drift sees it: its lookup table, its figures, and which
+/// of its values have text and are covered.
+fn this_drop(
+    rules: &Ruleset,
+    column: &str,
+    vocab: &descry::Vocabulary,
+    eval: &descry::Evaluation,
+    report: &CoverageReport,
+    ruleset_path: &Path,
+) -> anyhow::Result<Drop> {
+    let description = Description { rules: rules.clone(), column: column.to_owned() };
+    let table = lookup_table(column, vocab, vec![description])?;
+    let figures = BaselineFigures::of(report, ruleset_text(ruleset_path)?.as_bytes());
+    let states = eval
+        .normalized
+        .iter()
+        .zip(&eval.outcomes)
+        .map(|(n, outcomes)| {
+            let considered = rules.kind_of(n) == ValueKind::Considered;
+            (considered, considered && outcomes.iter().any(|o| o.fired))
+        })
+        .collect();
+    Ok(Drop { table, figures, states })
+}
+
+/// The baseline file of each ruleset: `path` itself for one ruleset; for
+/// several, `path` is a folder (created when `create`) holding one file per
+/// ruleset, named after the ruleset file's stem.
+fn baseline_paths(path: Option<&Path>, rules: &[PathBuf], create: bool) -> anyhow::Result<Vec<Option<PathBuf>>> {
+    let Some(path) = path else {
+        return Ok(vec![None; rules.len()]);
+    };
+    if rules.len() == 1 {
+        if create {
+            check_output_file(path)?;
+        }
+        return Ok(vec![Some(path.to_owned())]);
+    }
+    if create {
+        std::fs::create_dir_all(path)
+            .with_context(|| format!("{}: cannot create the baseline folder", path.display()))?;
+    } else if !path.is_dir() {
+        bail!(
+            "{}: with several rulesets, the baseline is a folder of RULESET-STEM.parquet files (what \
+             --save-baseline wrote); this is not a folder",
+            path.display()
+        );
+    }
+    let mut out: Vec<Option<PathBuf>> = Vec::new();
+    for r in rules {
+        let stem = r.file_stem().map_or("ruleset".into(), |s| s.to_string_lossy().into_owned());
+        let file = path.join(format!("{stem}.parquet"));
+        if out.iter().any(|p| p.as_deref() == Some(file.as_path())) {
+            bail!("two rulesets are named {stem:?}; their baselines would share {}", file.display());
+        }
+        if create {
+            check_output_file(&file)?;
+        }
+        out.push(Some(file));
+    }
+    Ok(out)
 }
 
 /// Each `--require FEATURE=SHARE` as (its ruleset, feature index, share).

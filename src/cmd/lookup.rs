@@ -5,13 +5,10 @@ use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 
 use anyhow::bail;
-use polars::prelude::*;
 
-use descry::pipeline::{Describer, Description};
+use descry::pipeline::{lookup_table, Description, LOOKUP_ROWS as ROWS, LOOKUP_VALUE as VALUE};
 use descry::render::{shown, thousands};
-use descry::vocabulary::GrowingVocabulary;
 use descry::write::{check_output_path, write_table};
-use descry::Vocabulary;
 
 use super::common::{load_descriptions, read_vocabularies, InputArgs};
 
@@ -61,10 +58,6 @@ pub struct Args {
     pub quiet: bool,
 }
 
-/// The column names of a lookup table besides the features.
-const VALUE: &str = "value";
-const ROWS: &str = "rows";
-
 pub fn run(args: Args) -> anyhow::Result<ExitCode> {
     let mut columns: Vec<(String, Vec<Description>)> = Vec::new();
     for description in load_descriptions(&args.rules, args.column.as_deref())? {
@@ -78,7 +71,7 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
     let names: Vec<&str> = columns.iter().map(|(c, _)| c.as_str()).collect();
     let vocabs = read_vocabularies(&args.input, &names, args.quiet)?;
     for (((column, descriptions), vocab), output) in columns.into_iter().zip(&vocabs).zip(&outputs) {
-        let frame = lookup_frame(&column, vocab, descriptions)?;
+        let frame = lookup_table(&column, vocab, descriptions)?;
         let format = descry::write::OutputFormat::of(output)?;
         let features = frame.width() - 2;
         write_table(frame, output, format)?;
@@ -163,29 +156,4 @@ fn file_stem(column: &str) -> String {
         "" => "column".to_owned(),
         _ => stem,
     }
-}
-
-/// The lookup table of one column: its distinct values, their rows and the
-/// features of every ruleset on it, typed as `apply` types them (a count
-/// with no `range` is typed by the values of the whole column, as `apply`'s
-/// first pass does).
-fn lookup_frame(
-    column: &str,
-    vocab: &Vocabulary,
-    descriptions: Vec<Description>,
-) -> anyhow::Result<DataFrame> {
-    let values: Vec<Option<&str>> = vocab.values.iter().map(|v| Some(v.as_str())).collect();
-    let mut whole = GrowingVocabulary::default();
-    whole.codes_for(&values);
-    let full = vec![Some(whole); descriptions.len()];
-    let describer = Describer::new(descriptions, full);
-    let height = vocab.values.len();
-    let source = Column::new(column.into(), &vocab.values);
-    let features = describer.features(&DataFrame::new(height, vec![source])?)?;
-    let mut out = vec![
-        Column::new(VALUE.into(), &vocab.values),
-        Column::new(ROWS.into(), &vocab.counts),
-    ];
-    out.extend(features);
-    Ok(DataFrame::new(height, out)?)
 }

@@ -4,6 +4,7 @@
 //! schema); `render.rs` turns it into text. Every number here is computed
 //! from the per-value outcomes and the vocabulary's row counts.
 
+pub mod drift;
 pub mod render;
 
 use serde::Serialize;
@@ -50,6 +51,27 @@ pub struct CoverageReport {
     pub gates: Vec<Gate>,
     /// Whether every gate passed.
     pub passed: bool,
+    /// With `--baseline`: the drift since the baseline.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub drift: Option<drift::Drift>,
+}
+
+/// The gates on drift (`--max-new-share` and the others); `None` is no gate.
+#[derive(Debug, Clone, Copy, Default)]
+pub struct DriftLimits {
+    pub max_new_share: Option<f64>,
+    pub max_new_uncovered_share: Option<f64>,
+    pub max_psi: Option<f64>,
+    pub max_shift: Option<f64>,
+}
+
+impl DriftLimits {
+    pub fn any(&self) -> bool {
+        self.max_new_share.is_some()
+            || self.max_new_uncovered_share.is_some()
+            || self.max_psi.is_some()
+            || self.max_shift.is_some()
+    }
 }
 
 /// One gate of `check` and its outcome.
@@ -181,6 +203,7 @@ impl CoverageReport {
             warnings: rules.warnings.iter().map(RulesetWarning::to_string).collect(),
             gates: Vec::new(),
             passed: true,
+            drift: None,
         };
         for (i, value) in vocab.values.iter().enumerate() {
             report.add_value(
@@ -364,6 +387,71 @@ impl CoverageReport {
         }
         self.passed = gates.iter().all(|g| g.passed);
         self.gates = gates;
+    }
+
+    /// Add the drift gates to those [`CoverageReport::judge`] set; each
+    /// fails when its figure is above its limit.
+    pub fn judge_drift(&mut self, limits: &DriftLimits) {
+        let Some(d) = &self.drift else {
+            return;
+        };
+        let mut gates = Vec::new();
+        let mut above = |gate: &'static str, limit: Option<f64>, value: f64, what: String| {
+            let Some(limit) = limit else {
+                return;
+            };
+            let option = format!("--{}", gate.replace('_', "-"));
+            gates.push(Gate {
+                gate,
+                feature: None,
+                threshold: Some(limit),
+                value: Some(value),
+                passed: value <= limit,
+                reason: (value > limit).then(|| format!("{what} is above {option} {limit}")),
+            });
+        };
+        above(
+            "max_new_share",
+            limits.max_new_share,
+            d.new_row_share,
+            format!("the share of rows on values the baseline never saw, {},", percent_of(d.new_row_share)),
+        );
+        above(
+            "max_new_uncovered_share",
+            limits.max_new_uncovered_share,
+            d.new_uncovered_share,
+            format!(
+                "the share of rows on new values no rule covers, {},",
+                percent_of(d.new_uncovered_share)
+            ),
+        );
+        let worst_label = d.labels.iter().max_by(|a, b| a.psi.total_cmp(&b.psi));
+        above(
+            "max_psi",
+            limits.max_psi,
+            worst_label.map_or(0.0, |l| l.psi),
+            worst_label.map_or("no label".to_owned(), |l| {
+                format!("the PSI of label {}, {:.4},", crate::render::shown(&l.output), l.psi)
+            }),
+        );
+        let shift = |r: &drift::RuleShift| (r.share_after - r.share_before).abs();
+        let worst_rule = d.rules.iter().max_by(|a, b| shift(a).total_cmp(&shift(b)));
+        above(
+            "max_shift",
+            limits.max_shift,
+            worst_rule.map_or(0.0, shift),
+            worst_rule.map_or("no rule".to_owned(), |r| {
+                format!(
+                    "the shift of rule {} ({} to {}), {} points,",
+                    crate::render::shown(&r.output),
+                    percent_of(r.share_before),
+                    percent_of(r.share_after),
+                    format!("{:.2}", shift(r) * 100.0)
+                )
+            }),
+        );
+        self.gates.extend(gates);
+        self.passed = self.gates.iter().all(|g| g.passed);
     }
 
     /// The gate on coverage and examples alone (see [`CoverageReport::judge`]).

@@ -137,8 +137,84 @@ pub fn check_text(r: &CoverageReport, top: usize) -> String {
         );
     }
     examples_section(&mut out, r);
+    if let Some(d) = &r.drift {
+        drift_section(&mut out, d, top);
+    }
     gates_section(&mut out, r);
     out
+}
+
+fn drift_section(out: &mut String, d: &crate::report::drift::Drift, top: usize) {
+    let _ = writeln!(out, "\ndrift since the baseline {}", d.baseline);
+    if d.ruleset_changed {
+        let _ = writeln!(out, "  the ruleset changed since the baseline; compared all the same");
+    }
+    let _ = writeln!(
+        out,
+        "  new values: {} ({} of rows with text; {} of their rows covered)  gone values: {}",
+        thousands(d.new_values.len() as u64),
+        percent(d.new_row_share),
+        d.new_covered_share.map_or("-".to_owned(), percent),
+        thousands(d.gone_values.len() as u64)
+    );
+    for v in d.new_values.iter().take(top) {
+        let mark = if v.covered { "covered" } else { "unmatched" };
+        let _ = writeln!(out, "  {:>9}  {mark:<9}  {}", thousands(v.rows), shown(&v.value));
+    }
+    if !d.rules.is_empty() {
+        let _ = writeln!(out, "  rule shares of rows with text (before -> after, p-value):");
+        for r in &d.rules {
+            let _ = writeln!(
+                out,
+                "    {:<24} {} -> {}  p {}",
+                escaped(&r.output),
+                percent(r.share_before),
+                percent(r.share_after),
+                p_value(r.p_value)
+            );
+        }
+    }
+    for l in &d.labels {
+        let _ = writeln!(
+            out,
+            "  label {}: PSI {:.4} ({}), chi-square p {}",
+            escaped(&l.output),
+            l.psi,
+            psi_reading(l.psi),
+            p_value(l.p_value)
+        );
+    }
+    for (kind, shifts) in [("count", &d.counts), ("measure", &d.measures)] {
+        for s in shifts.iter() {
+            let _ = writeln!(
+                out,
+                "  {kind} {}: Kolmogorov-Smirnov D {}, p {}",
+                escaped(&s.output),
+                s.ks_statistic.map_or("-".to_owned(), |v| format!("{v:.4}")),
+                s.p_value.map_or("-".to_owned(), p_value)
+            );
+        }
+    }
+}
+
+/// The usual reading of a PSI (common practice: below 0.1 stable, 0.1 to
+/// 0.25 a moderate shift, above 0.25 a large one).
+fn psi_reading(psi: f64) -> &'static str {
+    if psi < 0.1 {
+        "stable"
+    } else if psi <= 0.25 {
+        "moderate shift"
+    } else {
+        "large shift"
+    }
+}
+
+fn p_value(p: f64) -> String {
+    if p < 1e-4 {
+        "< 0.0001".to_owned()
+    } else {
+        format!("{p:.4}")
+    }
 }
 
 fn gates_section(out: &mut String, r: &CoverageReport) {
@@ -149,9 +225,10 @@ fn gates_section(out: &mut String, r: &CoverageReport) {
     let failed = asked.iter().filter(|g| !g.passed).count();
     let _ = writeln!(out, "\ngates: {} passed, {failed} failed", asked.len() - failed);
     for g in asked {
-        let what = match &g.feature {
-            Some(f) => format!("--require {}={}", escaped(f), g.threshold.unwrap_or(0.0)),
-            None => format!("--min-coverage {}", g.threshold.unwrap_or(0.0)),
+        let threshold = g.threshold.unwrap_or(0.0);
+        let what = match (&g.feature, g.gate) {
+            (Some(f), _) => format!("--require {}={threshold}", escaped(f)),
+            (None, gate) => format!("--{} {threshold}", gate.replace('_', "-")),
         };
         match &g.reason {
             Some(reason) => {
@@ -161,7 +238,11 @@ fn gates_section(out: &mut String, r: &CoverageReport) {
                 let _ = writeln!(
                     out,
                     "  passed {what}: {}",
-                    g.value.map_or("-".to_owned(), |v| format!("{:.2}%", v * 100.0))
+                    g.value.map_or("-".to_owned(), |v| if g.gate == "max_psi" {
+                        format!("{v:.4}")
+                    } else {
+                        format!("{:.2}%", v * 100.0)
+                    })
                 );
             }
         }

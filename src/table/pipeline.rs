@@ -156,6 +156,36 @@ impl Describer {
     }
 }
 
+/// The lookup table of a column: one row per distinct non-null value of
+/// `vocab`, with the columns `value`, `rows` and the features of every
+/// description, typed as `apply` types them (a count with no `range` is
+/// typed by the values of the whole vocabulary, as `apply`'s first pass
+/// does). Joined to the rows on `value`, it gives what `apply` writes.
+pub fn lookup_table(
+    column: &str,
+    vocab: &crate::Vocabulary,
+    descriptions: Vec<Description>,
+) -> PolarsResult<DataFrame> {
+    let values: Vec<Option<&str>> = vocab.values.iter().map(|v| Some(v.as_str())).collect();
+    let mut whole = GrowingVocabulary::default();
+    whole.codes_for(&values);
+    let full = vec![Some(whole); descriptions.len()];
+    let describer = Describer::new(descriptions, full);
+    let height = vocab.values.len();
+    let source = Column::new(column.into(), &vocab.values);
+    let features = describer.features(&DataFrame::new(height, vec![source])?)?;
+    let mut out = vec![
+        Column::new(LOOKUP_VALUE.into(), &vocab.values),
+        Column::new(LOOKUP_ROWS.into(), &vocab.counts),
+    ];
+    out.extend(features);
+    DataFrame::new(height, out)
+}
+
+/// The columns of a lookup table besides the features.
+pub const LOOKUP_VALUE: &str = "value";
+pub const LOOKUP_ROWS: &str = "rows";
+
 /// `lazy` with each morsel passed through `finish(morsel, features)`, the
 /// features being those `describer` computes for the morsel. Run with
 /// polars' streaming engine, morsels are read, finished, encoded and

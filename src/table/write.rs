@@ -118,13 +118,23 @@ pub fn check_not_an_input(output: &Path, inputs: &[&Path]) -> Result<(), Error> 
 /// same folder, synced, then renamed over `path`. A crash leaves either the
 /// old file or the new one, never half of one.
 pub fn write_text_atomically(path: &Path, text: &str) -> Result<(), Error> {
+    write_atomically(path, |file| file.write_all(text.as_bytes()))
+}
+
+/// Write a file atomically with `write`: a temporary file in the same
+/// folder, synced, then renamed over `path`.
+pub fn write_atomically(
+    path: &Path,
+    write: impl FnOnce(&mut dyn Write) -> std::io::Result<()>,
+) -> Result<(), Error> {
     let err = |e: std::io::Error| Error::Output {
         path: path.to_owned(),
         message: format!("cannot write: {e}"),
     };
     check_output_file(path)?;
     let (temp, mut file) = partial_file(path)?;
-    file.write_all(text.as_bytes()).map_err(err)?;
+    write(&mut file).map_err(err)?;
+    file.flush().map_err(err)?;
     temp.as_file().sync_all().map_err(err)?;
     move_into_place(temp, path)
 }
