@@ -162,3 +162,25 @@ fn several_rulesets_keep_one_baseline_each_in_a_folder() {
     assert_eq!(code, Some(2), "{err}");
     assert!(err.contains("engine.toml"), "{err}");
 }
+
+/// The drift sections users read, on the shifted drop: a change shows up
+/// as a diff to review (`cargo insta review`). The JSON lists of new and
+/// gone values are cut to their first five (most rows first).
+#[test]
+fn snapshots_of_the_drift_sections() {
+    let dir = TempDir::new().unwrap();
+    let d = dir.path();
+    let engine = ruleset("engine.toml");
+    check(&["check", s(&sample_csv()), "-r", s(&engine), "--save-baseline", "base.parquet"], d);
+    let drop = shifted_drop(d);
+    let (_, text, _) = check(&["check", s(&drop), "-r", s(&engine), "--baseline", "base.parquet", "--top", "5"], d);
+    let section = &text[text.find("drift since").expect("a drift section")..];
+    insta::assert_snapshot!("drift_text_engine", section);
+    let (_, json, _) =
+        check(&["check", s(&drop), "-r", s(&engine), "--baseline", "base.parquet", "--format", "json"], d);
+    let mut report: serde_json::Value = serde_json::from_str(&json).unwrap();
+    for list in ["new_values", "gone_values"] {
+        report["drift"][list].as_array_mut().unwrap().truncate(5);
+    }
+    insta::assert_json_snapshot!("drift_json_engine", report["drift"]);
+}

@@ -8,7 +8,7 @@ use anyhow::{bail, Context};
 use serde::Serialize;
 
 use descry::render::{check_text, escaped};
-use descry::pipeline::{lookup_table, Description};
+use descry::pipeline::lookup_table_evaluated;
 use descry::report::drift::{drift, read_baseline, write_baseline, BaselineFigures, Drop};
 use descry::report::{DriftLimits, Gate};
 use descry::ruleset::ValueKind;
@@ -190,7 +190,7 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
         report.judge(rules, args.min_coverage, &mine);
         if args.save_baseline.is_some() || args.baseline.is_some() {
             let path = &args.rules[reports.len()];
-            let drop = this_drop(rules, column, vocab, &eval, &report, path)?;
+            let drop = this_drop(rules, vocab, &eval, &report, path)?;
             if let Some(base) = &baselines[reports.len()] {
                 let (table, figures) = read_baseline(base)?;
                 let old = Drop { table, figures, states: Vec::new() };
@@ -247,14 +247,12 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
 /// of its values have text and are covered.
 fn this_drop(
     rules: &Ruleset,
-    column: &str,
     vocab: &descry::Vocabulary,
     eval: &descry::Evaluation,
     report: &CoverageReport,
     ruleset_path: &Path,
 ) -> anyhow::Result<Drop> {
-    let description = Description { rules: rules.clone(), column: column.to_owned() };
-    let table = lookup_table(column, vocab, vec![description])?;
+    let table = lookup_table_evaluated(vocab, &[(rules, eval)])?;
     let figures = BaselineFigures::of(report, ruleset_text(ruleset_path)?.as_bytes());
     let states = eval
         .normalized

@@ -71,7 +71,8 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
     let names: Vec<&str> = columns.iter().map(|(c, _)| c.as_str()).collect();
     let vocabs = read_vocabularies(&args.input, &names, args.quiet)?;
     for (((column, descriptions), vocab), output) in columns.into_iter().zip(&vocabs).zip(&outputs) {
-        let frame = lookup_table(&column, vocab, descriptions)?;
+        let rulesets: Vec<&descry::Ruleset> = descriptions.iter().map(|d| &d.rules).collect();
+        let frame = lookup_table(vocab, &rulesets)?;
         let format = descry::write::OutputFormat::of(output)?;
         let features = frame.width() - 2;
         write_table(frame, output, format)?;

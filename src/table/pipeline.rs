@@ -158,27 +158,32 @@ impl Describer {
 
 /// The lookup table of a column: one row per distinct non-null value of
 /// `vocab`, with the columns `value`, `rows` and the features of every
-/// description, typed as `apply` types them (a count with no `range` is
-/// typed by the values of the whole vocabulary, as `apply`'s first pass
-/// does). Joined to the rows on `value`, it gives what `apply` writes.
-pub fn lookup_table(
-    column: &str,
+/// ruleset, typed as `apply` types them (a count with no `range` is typed
+/// by the values of the whole vocabulary, as `apply`'s first pass does).
+/// Joined to the rows on `value`, it gives what `apply` writes.
+pub fn lookup_table(vocab: &crate::Vocabulary, rulesets: &[&Ruleset]) -> PolarsResult<DataFrame> {
+    let evaluations: Vec<crate::Evaluation> = rulesets.iter().map(|r| r.evaluate_all(&vocab.values)).collect();
+    let pairs: Vec<(&Ruleset, &crate::Evaluation)> = rulesets.iter().copied().zip(&evaluations).collect();
+    lookup_table_evaluated(vocab, &pairs)
+}
+
+/// [`lookup_table`] from evaluations already made: each ruleset with its
+/// evaluation of `vocab.values`, in order.
+pub fn lookup_table_evaluated(
     vocab: &crate::Vocabulary,
-    descriptions: Vec<Description>,
+    evaluated: &[(&Ruleset, &crate::Evaluation)],
 ) -> PolarsResult<DataFrame> {
-    let values: Vec<Option<&str>> = vocab.values.iter().map(|v| Some(v.as_str())).collect();
-    let mut whole = GrowingVocabulary::default();
-    whole.codes_for(&values);
-    let full = vec![Some(whole); descriptions.len()];
-    let describer = Describer::new(descriptions, full);
     let height = vocab.values.len();
-    let source = Column::new(column.into(), &vocab.values);
-    let features = describer.features(&DataFrame::new(height, vec![source])?)?;
+    let codes: Vec<u32> = (0..height as u32).collect();
     let mut out = vec![
         Column::new(LOOKUP_VALUE.into(), &vocab.values),
         Column::new(LOOKUP_ROWS.into(), &vocab.counts),
     ];
-    out.extend(features);
+    for (rules, eval) in evaluated {
+        let mut encoder = Encoder::new(rules, eval);
+        encoder.add_values(eval, 0);
+        out.extend(encoder.encode(rules, &codes)?);
+    }
     DataFrame::new(height, out)
 }
 
