@@ -241,13 +241,17 @@ fn report_text(
     let mut out = String::new();
     match unmatched_before {
         Some((distinct, rows)) => {
+            let outcome = if draft.proposals.is_empty() {
+                format!("{} is unchanged", output.display())
+            } else {
+                format!("appended to {}", output.display())
+            };
             let _ = writeln!(
                 out,
-                "{} rules proposed for the {} values ({} rows) the existing rules left unmatched; appended to {}",
+                "{} rules proposed for the {} values ({} rows) the existing rules left unmatched; {outcome}",
                 draft.proposals.len(),
                 thousands(distinct),
                 thousands(rows),
-                output.display()
             );
         }
         None => {

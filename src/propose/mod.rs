@@ -382,7 +382,10 @@ pub fn propose_more(
     let eval = existing.evaluate_all(&vocab.values);
     let mut rest = Vocabulary::default();
     for (i, outcomes) in eval.outcomes.iter().enumerate() {
-        if !eval.normalized[i].is_empty() && !outcomes.iter().any(|o| o.fired) {
+        // Blank values and placeholders are left out, as `check` leaves
+        // them out of the unmatched values.
+        let considered = existing.kind_of(&eval.normalized[i]) == crate::ruleset::ValueKind::Considered;
+        if considered && !outcomes.iter().any(|o| o.fired) {
             rest.values.push(vocab.values[i].clone());
             rest.counts.push(vocab.counts[i]);
         }
@@ -411,7 +414,7 @@ pub fn propose_more(
         .map(|v| existing.normalizer.apply(v))
         .collect();
     let values: Vec<(&str, u64, &str)> = (0..vocab.values.len())
-        .filter(|&i| !normalized[i].is_empty())
+        .filter(|&i| existing.kind_of(&normalized[i]) == crate::ruleset::ValueKind::Considered)
         .map(|i| {
             (
                 normalized[i].as_str(),
