@@ -525,6 +525,11 @@ fn csv_names(file: &Path, delimiter: u8, opts: &ReadOptions) -> PolarsResult<(Ve
     // polars parses only the header record: its whole-file reader, even
     // when asked for no rows, splits and parses chunks ahead.
     let header = header_record(file)?;
+    let line_one = header.strip_prefix(b"\xef\xbb\xbf").unwrap_or(&header);
+    if !line_one.is_empty() && line_one.iter().all(|b| matches!(b, b'\r' | b'\n')) {
+        polars_bail!(ComputeError:
+            "line 1 is blank; the first line must be the header, naming the columns");
+    }
     let options = CsvReadOptions::default()
         .with_has_header(true)
         .with_parse_options(

@@ -446,6 +446,8 @@ pub fn csv_reference(bytes: &[u8], column: &str) -> Option<VocabSummary> {
 /// CR) or quoted (doubled quotes inside, the closing quote followed by a
 /// comma or a line break); records end with LF or CRLF; no record is empty.
 pub fn keeps_to_rfc4180(bytes: &[u8]) -> bool {
+    // A byte-order mark is not part of the first record.
+    let bytes = bytes.strip_prefix(b"\xef\xbb\xbf").unwrap_or(bytes);
     let mut i = 0;
     let n = bytes.len();
     let mut record_start = true;
