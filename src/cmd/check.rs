@@ -193,8 +193,12 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
             let drop = this_drop(rules, vocab, &eval, &report, path)?;
             if let Some(base) = &baselines[reports.len()] {
                 let (table, figures) = read_baseline(base)?;
-                let old = Drop { table, figures, states: Vec::new() };
-                report.drift = Some(drift(&base.display().to_string(), &old, &drop, rules)?);
+                let old = Drop { table, figures };
+                let classify = |i: usize| {
+                    let considered = rules.kind_of(&eval.normalized[i]) == ValueKind::Considered;
+                    (considered, considered && eval.outcomes[i].iter().any(|o| o.fired))
+                };
+                report.drift = Some(drift(&base.display().to_string(), &old, &drop, rules, classify)?);
                 report.judge_drift(&limits);
             }
             if let Some(save) = &saves[reports.len()] {
@@ -243,8 +247,7 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
     })
 }
 
-/// A drop as the drift sees it: its lookup table, its figures, and which
-/// of its values have text and are covered.
+/// A drop as the drift sees it: its lookup table and its figures.
 fn this_drop(
     rules: &Ruleset,
     vocab: &descry::Vocabulary,
@@ -254,16 +257,7 @@ fn this_drop(
 ) -> anyhow::Result<Drop> {
     let table = lookup_table_evaluated(vocab, &[(rules, eval)])?;
     let figures = BaselineFigures::of(report, ruleset_text(ruleset_path)?.as_bytes());
-    let states = eval
-        .normalized
-        .iter()
-        .zip(&eval.outcomes)
-        .map(|(n, outcomes)| {
-            let considered = rules.kind_of(n) == ValueKind::Considered;
-            (considered, considered && outcomes.iter().any(|o| o.fired))
-        })
-        .collect();
-    Ok(Drop { table, figures, states })
+    Ok(Drop { table, figures })
 }
 
 /// The baseline file of each ruleset: `path` itself for one ruleset; for

@@ -85,14 +85,10 @@ impl BaselineFigures {
     }
 }
 
-/// A drop as drift sees it: its lookup table, its figures, and which of
-/// its values are covered and which are considered (have text).
+/// A drop as drift sees it: its lookup table and its figures.
 pub struct Drop {
     pub table: DataFrame,
     pub figures: BaselineFigures,
-    /// Per row of `table`: (considered, covered). Not stored in a
-    /// baseline; only the new drop needs it.
-    pub states: Vec<(bool, bool)>,
 }
 
 /// Write a baseline: the lookup table with the figures in its metadata,
@@ -233,21 +229,38 @@ pub struct DistributionShift {
 }
 
 /// Compare a new drop with a baseline described by the same ruleset's
-/// features (matched by output column).
-pub fn drift(baseline_path: &str, old: &Drop, new: &Drop, rules: &Ruleset) -> PolarsResult<Drift> {
-    let old_rows = value_rows(&old.table)?;
-    let new_rows = value_rows(&new.table)?;
-    let old_index: HashMap<&str, usize> = old_rows.iter().enumerate().map(|(i, (v, _))| (v.as_str(), i)).collect();
-    let new_index: HashMap<&str, usize> = new_rows.iter().enumerate().map(|(i, (v, _))| (v.as_str(), i)).collect();
-
+/// features (matched by output column). `classify(i)` tells of the new
+/// drop's value `i` (its row in the lookup table) whether it has text (not
+/// blank or a placeholder) and whether a rule covers it; it is asked only
+/// for values the baseline never saw.
+pub fn drift(
+    baseline_path: &str,
+    old: &Drop,
+    new: &Drop,
+    rules: &Ruleset,
+    classify: impl Fn(usize) -> (bool, bool),
+) -> PolarsResult<Drift> {
+    let old_weights = weights(&old.table)?;
+    let new_weights = weights(&new.table)?;
+    let old_values = old.table.column(LOOKUP_VALUE)?.str()?;
+    let new_values_column = new.table.column(LOOKUP_VALUE)?.str()?;
+    // One index of the baseline's values; each new value is looked up once,
+    // and the baseline values never found are the gone ones.
+    let mut old_index: hashbrown::HashMap<&str, usize> = hashbrown::HashMap::with_capacity(old_values.len());
+    for (i, v) in old_values.iter().enumerate() {
+        old_index.insert(v.unwrap_or_default(), i);
+    }
+    let mut seen = vec![false; old_values.len()];
     let considered = new.figures.rows_considered;
     let mut new_values = Vec::new();
     let (mut new_considered, mut new_covered) = (0u64, 0u64);
-    for (i, (value, rows)) in new_rows.iter().enumerate() {
-        if old_index.contains_key(value.as_str()) {
+    for (i, (value, &rows)) in new_values_column.iter().zip(&new_weights).enumerate() {
+        let value = value.unwrap_or_default();
+        if let Some(&j) = old_index.get(value) {
+            seen[j] = true;
             continue;
         }
-        let (is_considered, covered) = new.states.get(i).copied().unwrap_or((true, false));
+        let (is_considered, covered) = classify(i);
         if is_considered {
             new_considered += rows;
             if covered {
@@ -255,21 +268,25 @@ pub fn drift(baseline_path: &str, old: &Drop, new: &Drop, rules: &Ruleset) -> Po
             }
         }
         new_values.push(NewValue {
-            value: value.clone(),
-            rows: *rows,
+            value: value.to_owned(),
+            rows,
             covered,
         });
     }
-    new_values.sort_by(|a, b| b.rows.cmp(&a.rows).then_with(|| a.value.cmp(&b.value)));
-    let mut gone_values: Vec<GoneValue> = old_rows
+    // Most rows first; a stable sort keeps ties in the order the values
+    // were first seen (comparing the strings would cost more than the rest).
+    new_values.sort_by_key(|v| std::cmp::Reverse(v.rows));
+    let mut gone_values: Vec<GoneValue> = old_values
         .iter()
-        .filter(|(v, _)| !new_index.contains_key(v.as_str()))
-        .map(|(v, rows)| GoneValue {
-            value: v.clone(),
-            rows: *rows,
+        .zip(&old_weights)
+        .zip(&seen)
+        .filter(|(_, &seen)| !seen)
+        .map(|((v, &rows), _)| GoneValue {
+            value: v.unwrap_or_default().to_owned(),
+            rows,
         })
         .collect();
-    gone_values.sort_by(|a, b| b.rows.cmp(&a.rows).then_with(|| a.value.cmp(&b.value)));
+    gone_values.sort_by_key(|v| std::cmp::Reverse(v.rows));
     let share = |part: u64, whole: u64| if whole == 0 { 0.0 } else { part as f64 / whole as f64 };
 
     let mut out = Drift {
@@ -302,19 +319,23 @@ pub fn drift(baseline_path: &str, old: &Drop, new: &Drop, rules: &Ruleset) -> Po
         let (Ok(before), Ok(after)) = (old.table.column(&f.output), new.table.column(&f.output)) else {
             continue;
         };
-        let old_weights = weights(&old.table)?;
-        let new_weights = weights(&new.table)?;
         match &f.rule {
             Rule::Label(l) => {
+                // Rows per category, counted on the category ids.
                 let count = |column: &Column, w: &[u64]| -> PolarsResult<HashMap<String, u64>> {
-                    let text = column.cast(&DataType::String)?;
-                    let mut counts = HashMap::new();
-                    for (v, n) in text.str()?.iter().zip(w) {
-                        if let Some(v) = v {
-                            *counts.entry(v.to_owned()).or_default() += n;
+                    let ids = column.to_physical_repr().cast(&DataType::UInt32)?;
+                    let names = column.cast(&DataType::String)?;
+                    let (ids, names) = (ids.u32()?, names.str()?);
+                    let mut by_id: HashMap<u32, (u64, usize)> = HashMap::new();
+                    for (i, (id, n)) in ids.iter().zip(w).enumerate() {
+                        if let Some(id) = id {
+                            by_id.entry(id).or_insert((0, i)).0 += n;
                         }
                     }
-                    Ok(counts)
+                    Ok(by_id
+                        .into_values()
+                        .map(|(n, first)| (names.get(first).unwrap_or_default().to_owned(), n))
+                        .collect())
                 };
                 let (b, a) = (count(before, &old_weights)?, count(after, &new_weights)?);
                 let mut categories: Vec<String> = l.categories.clone();
@@ -371,17 +392,6 @@ pub fn drift(baseline_path: &str, old: &Drop, new: &Drop, rules: &Ruleset) -> Po
         }
     }
     Ok(out)
-}
-
-/// Each row's value and rows of a lookup table.
-fn value_rows(table: &DataFrame) -> PolarsResult<Vec<(String, u64)>> {
-    let values = table.column(LOOKUP_VALUE)?.str()?;
-    let rows = weights(table)?;
-    Ok(values
-        .iter()
-        .zip(rows)
-        .map(|(v, n)| (v.unwrap_or_default().to_owned(), n))
-        .collect())
 }
 
 fn weights(table: &DataFrame) -> PolarsResult<Vec<u64>> {
