@@ -184,3 +184,37 @@ fn snapshots_of_the_drift_sections() {
     }
     insta::assert_json_snapshot!("drift_json_engine", report["drift"]);
 }
+
+/// What a red-team pass found: a baseline never replaces an input, a
+/// baseline of another column is refused, and drift gates with nothing to
+/// measure fail, as --min-coverage does.
+#[test]
+fn baselines_never_overwrite_inputs_and_must_describe_the_same_column() {
+    let dir = TempDir::new().unwrap();
+    let d = dir.path();
+    let table = write(d, "in.csv", &std::fs::read_to_string(sample_csv()).unwrap());
+    let before = std::fs::read(&table).unwrap();
+    let (engine, transmission) = (ruleset("engine.toml"), ruleset("transmission.toml"));
+    let (code, _, err) = check(&["check", s(&table), "-r", s(&engine), "--save-baseline", s(&table)], d);
+    assert_eq!(code, Some(2), "{err}");
+    assert!(err.contains("never overwrites its input"), "{err}");
+    assert_eq!(std::fs::read(&table).unwrap(), before, "the input was changed");
+
+    check(&["check", s(&table), "-r", s(&engine), "--save-baseline", "engine.parquet"], d);
+    let (code, _, err) = check(
+        &["check", s(&table), "-r", s(&engine), "--baseline", "engine.parquet", "--save-baseline", "engine.parquet"],
+        d,
+    );
+    assert_eq!(code, Some(2), "{err}");
+    let (code, _, err) =
+        check(&["check", s(&table), "-r", s(&transmission), "--baseline", "engine.parquet", "--max-psi", "0.2"], d);
+    assert_eq!(code, Some(2), "{err}");
+    assert!(err.contains("the baseline describes column engine"), "{err}");
+
+    let empty = write(d, "empty.csv", "engine\n");
+    check(&["check", s(&empty), "-r", s(&engine), "--save-baseline", "empty.parquet"], d);
+    let (code, _, err) =
+        check(&["check", s(&empty), "-r", s(&engine), "--baseline", "empty.parquet", "--max-new-share", "0.1"], d);
+    assert_eq!(code, Some(1), "{err}");
+    assert!(err.contains("--max-new-share 0.1: column \"engine\" has no rows with text"), "{err}");
+}

@@ -119,6 +119,15 @@ fn counts_that_are_not_numbers_of_rows_are_refused_with_the_row() {
             "{message}"
         );
     }
+    // Counts that add up past 64 bits are refused, not wrapped around.
+    let path = write(
+        dir.path(),
+        "vocab.csv",
+        "engine,rows\nV6 diesel,9223372036854775807\n4 cyl,9223372036854775807\nV8,9223372036854775807\n",
+    );
+    let out = run(&["check", s(&path), "--counts", "rows", "-r", s(&rules)], None);
+    assert_eq!(out.status.code(), Some(2), "{}", stderr(&out));
+    assert!(stderr(&out).contains("adds up to more than"), "{}", stderr(&out));
     let path = write(dir.path(), "vocab.csv", "engine,rows\nV6 diesel,3\n");
     let out = run(&["check", s(&path), "--counts", "n", "-r", s(&rules)], None);
     assert_eq!(out.status.code(), Some(2));

@@ -12,7 +12,7 @@ use descry::pipeline::lookup_table_evaluated;
 use descry::report::drift::{drift, read_baseline, write_baseline, BaselineFigures, Drop};
 use descry::report::{DriftLimits, Gate};
 use descry::ruleset::ValueKind;
-use descry::write::check_output_file;
+use descry::write::{check_not_an_input, check_output_file};
 use descry::{CoverageReport, Ruleset};
 
 use super::common::{
@@ -175,6 +175,15 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
     };
     let baselines = baseline_paths(args.baseline.as_deref(), &args.rules, false)?;
     let saves = baseline_paths(args.save_baseline.as_deref(), &args.rules, true)?;
+    // No command writes over one of its inputs: the table, a ruleset, or
+    // the baseline it compares with.
+    let inputs: Vec<&Path> = std::iter::once(args.input.input.as_path())
+        .chain(args.rules.iter().map(PathBuf::as_path))
+        .chain(baselines.iter().flatten().map(PathBuf::as_path))
+        .collect();
+    for save in saves.iter().flatten() {
+        check_not_an_input(save, &inputs)?;
+    }
     let names: Vec<&str> = columns.iter().map(String::as_str).collect();
     let vocabs = read_vocabularies(&args.input, &names, args.quiet)?;
     let mut reports = Vec::new();
@@ -193,6 +202,15 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
             let drop = this_drop(rules, vocab, &eval, &report, path)?;
             if let Some(base) = &baselines[reports.len()] {
                 let (table, figures) = read_baseline(base)?;
+                if figures.column != *column {
+                    bail!(
+                        "{}: the baseline describes column {}, and this check describes column {}; give the \
+                         baseline saved with this ruleset",
+                        base.display(),
+                        escaped(&figures.column),
+                        escaped(column)
+                    );
+                }
                 let old = Drop { table, figures };
                 let classify = |i: usize| {
                     let considered = rules.kind_of(&eval.normalized[i]) == ValueKind::Considered;

@@ -228,7 +228,16 @@ fn read_counted(
         let values = batch_text(&batch, column, path)?;
         let rows = row_counts(&batch, counts, path, row)?;
         for (value, n) in values.into_iter().zip(rows) {
-            builder.add(value, n);
+            if !builder.add(value, n) {
+                return Err(descry::Error::Input {
+                    path: path.to_owned(),
+                    message: format!(
+                        "the --counts column {} adds up to more than {} rows; the counts cannot be right",
+                        shown(counts),
+                        u64::MAX
+                    ),
+                });
+            }
         }
         row += batch.height() as u64;
         Ok(())
@@ -279,13 +288,20 @@ fn row_counts(
 struct CountedVocabulary {
     index: std::collections::HashMap<String, usize>,
     vocab: Vocabulary,
+    total: u64,
 }
 
 impl CountedVocabulary {
-    fn add(&mut self, value: Option<&str>, rows: u64) {
+    /// Add a value's rows; false when the rows of the table would no
+    /// longer fit in 64 bits.
+    fn add(&mut self, value: Option<&str>, rows: u64) -> bool {
+        let Some(total) = self.total.checked_add(rows) else {
+            return false;
+        };
+        self.total = total;
         let Some(value) = value else {
             self.vocab.null_rows += rows;
-            return;
+            return true;
         };
         match self.index.get(value) {
             Some(&i) => self.vocab.counts[i] += rows,
@@ -295,6 +311,7 @@ impl CountedVocabulary {
                 self.vocab.counts.push(rows);
             }
         }
+        true
     }
 
     fn finish(self) -> Vocabulary {

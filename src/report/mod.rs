@@ -396,11 +396,33 @@ impl CoverageReport {
             return;
         };
         let mut gates = Vec::new();
+        let nothing = (self.coverage.rows_considered == 0).then(|| {
+            format!(
+                "column {} has no rows with text to compare ({} rows: {} null, {} blank, {} placeholder)",
+                crate::render::shown(&self.column),
+                self.rows,
+                self.null_rows,
+                self.blank_rows,
+                self.placeholder_rows
+            )
+        });
         let mut above = |gate: &'static str, limit: Option<f64>, value: f64, what: String| {
             let Some(limit) = limit else {
                 return;
             };
             let option = format!("--{}", gate.replace('_', "-"));
+            if let Some(nothing) = &nothing {
+                // As for --min-coverage: a gate with nothing to measure fails.
+                gates.push(Gate {
+                    gate,
+                    feature: None,
+                    threshold: Some(limit),
+                    value: None,
+                    passed: false,
+                    reason: Some(format!("{option} {limit}: {nothing}")),
+                });
+                return;
+            }
             gates.push(Gate {
                 gate,
                 feature: None,

@@ -525,6 +525,10 @@ fn csv_names(file: &Path, delimiter: u8, opts: &ReadOptions) -> PolarsResult<(Ve
     // polars parses only the header record: its whole-file reader, even
     // when asked for no rows, splits and parses chunks ahead.
     let header = header_record(file)?;
+    if !header.ends_with(b"\n") && header.contains(&b'\r') {
+        polars_bail!(ComputeError:
+            "the lines end with a carriage return alone (\\r); descry reads line breaks as \\n or \\r\\n: convert them first");
+    }
     let line_one = header.strip_prefix(b"\xef\xbb\xbf").unwrap_or(&header);
     if !line_one.is_empty() && line_one.iter().all(|b| matches!(b, b'\r' | b'\n')) {
         polars_bail!(ComputeError:
