@@ -525,7 +525,7 @@ fn csv_names(file: &Path, delimiter: u8, opts: &ReadOptions) -> PolarsResult<(Ve
     // polars parses only the header record: its whole-file reader, even
     // when asked for no rows, splits and parses chunks ahead.
     let header = header_record(file)?;
-    if !header.ends_with(b"\n") && header.contains(&b'\r') {
+    if !header.ends_with(b"\n") && has_bare_cr(&header) {
         polars_bail!(ComputeError:
             "the lines end with a carriage return alone (\\r); descry reads line breaks as \\n or \\r\\n: convert them first");
     }
@@ -564,6 +564,20 @@ fn csv_names(file: &Path, delimiter: u8, opts: &ReadOptions) -> PolarsResult<(Ve
             shown(name), positions(&at));
     }
     Ok((names, theirs))
+}
+
+/// Whether a carriage return ends a line outside double quotes (a CR
+/// inside a quoted field is part of the field).
+fn has_bare_cr(bytes: &[u8]) -> bool {
+    let mut quoted = false;
+    bytes.iter().enumerate().any(|(i, &b)| match b {
+        b'"' => {
+            quoted = !quoted;
+            false
+        }
+        b'\r' => !quoted && bytes.get(i + 1) != Some(&b'\n'),
+        _ => false,
+    })
 }
 
 /// The names of a CSV header record, read by the `csv` crate.
