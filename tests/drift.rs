@@ -197,8 +197,16 @@ fn baselines_never_overwrite_inputs_and_must_describe_the_same_column() {
     let (engine, transmission) = (ruleset("engine.toml"), ruleset("transmission.toml"));
     let (code, _, err) = check(&["check", s(&table), "-r", s(&engine), "--save-baseline", s(&table)], d);
     assert_eq!(code, Some(2), "{err}");
-    assert!(err.contains("never overwrites its input"), "{err}");
+    assert!(err.contains("in.csv"), "{err}");
     assert_eq!(std::fs::read(&table).unwrap(), before, "the input was changed");
+    // The same with an input named like a baseline.
+    let named = write(d, "in.parquet", &std::fs::read_to_string(sample_csv()).unwrap());
+    let (code, _, err) = check(
+        &["check", s(&named), "--delimiter", ",", "-r", s(&engine), "--save-baseline", s(&named)],
+        d,
+    );
+    assert_eq!(code, Some(2), "{err}");
+    assert!(err.contains("never overwrites its input"), "{err}");
 
     check(&["check", s(&table), "-r", s(&engine), "--save-baseline", "engine.parquet"], d);
     let (code, _, err) = check(
@@ -210,6 +218,18 @@ fn baselines_never_overwrite_inputs_and_must_describe_the_same_column() {
         check(&["check", s(&table), "-r", s(&transmission), "--baseline", "engine.parquet", "--max-psi", "0.2"], d);
     assert_eq!(code, Some(2), "{err}");
     assert!(err.contains("the baseline describes column engine"), "{err}");
+
+    // A baseline is named as the Parquet file it is; several rulesets need a folder.
+    let (code, _, err) = check(&["check", s(&table), "-r", s(&engine), "--save-baseline", "base.csv"], d);
+    assert_eq!(code, Some(2), "{err}");
+    assert!(err.contains("name it *.parquet"), "{err}");
+    write(d, "a-file", "x");
+    let (code, _, err) = check(
+        &["check", s(&table), "-r", s(&engine), "-r", s(&transmission), "--save-baseline", "a-file"],
+        d,
+    );
+    assert_eq!(code, Some(2), "{err}");
+    assert!(err.contains("is a file; with several rulesets"), "{err}");
 
     let empty = write(d, "empty.csv", "engine\n");
     check(&["check", s(&empty), "-r", s(&engine), "--save-baseline", "empty.parquet"], d);

@@ -119,6 +119,11 @@ fn counts_that_are_not_numbers_of_rows_are_refused_with_the_row() {
             "{message}"
         );
     }
+    // A count that is a Boolean is no number of rows.
+    let path = write(dir.path(), "vocab.ndjson", "{\"engine\":\"V8\",\"rows\":true}\n");
+    let out = run(&["check", s(&path), "--counts", "rows", "-r", s(&rules)], None);
+    assert_eq!(out.status.code(), Some(2), "{}", stderr(&out));
+    assert!(stderr(&out).contains("holds bool values"), "{}", stderr(&out));
     // Counts that add up past 64 bits are refused, not wrapped around.
     let path = write(
         dir.path(),

@@ -288,8 +288,17 @@ fn baseline_paths(path: Option<&Path>, rules: &[PathBuf], create: bool) -> anyho
     if rules.len() == 1 {
         if create {
             check_output_file(path)?;
+            if !path.extension().is_some_and(|e| e.eq_ignore_ascii_case("parquet")) {
+                bail!("{}: a baseline is a Parquet file; name it *.parquet", path.display());
+            }
         }
         return Ok(vec![Some(path.to_owned())]);
+    }
+    if create && path.exists() && !path.is_dir() {
+        bail!(
+            "{}: is a file; with several rulesets the baseline is a folder of RULESET-STEM.parquet files",
+            path.display()
+        );
     }
     if create {
         std::fs::create_dir_all(path)

@@ -261,6 +261,13 @@ fn row_counts(
         message,
     };
     let column = batch.column(counts).map_err(|e| input_error(e.to_string()))?;
+    if !(column.dtype().is_integer() || column.dtype().is_float() || column.dtype() == &DataType::String) {
+        return Err(input_error(format!(
+            "the --counts column {} holds {} values, not numbers of rows",
+            shown(counts),
+            column.dtype()
+        )));
+    }
     // Cast value by value: a value that is no whole number of rows
     // (negative, fractional, text) becomes null and is reported.
     let whole = column.cast(&DataType::UInt64).ok();

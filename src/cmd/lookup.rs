@@ -125,6 +125,13 @@ fn output_paths(args: &Args, columns: &[(String, Vec<Description>)]) -> anyhow::
             listed.join(", ")
         );
     }
+    if args.output.exists() && !args.output.is_dir() {
+        bail!(
+            "{}: is a file; with rulesets on several columns, -o names a folder (each table is written \
+             there as COLUMN.parquet)",
+            args.output.display()
+        );
+    }
     std::fs::create_dir_all(&args.output).map_err(|e| descry::Error::Output {
         path: args.output.clone(),
         message: format!("cannot create the folder: {e}"),
