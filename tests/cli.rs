@@ -564,28 +564,71 @@ fn require_gates_one_feature_with_a_reason_per_breach() {
     let (_d, rules, table) = setup();
     // 5 rows with text: shuttle fires on 1 (20%), gears on 4 (80%).
     let ok = run(
-        &["check", s(&table), "-r", s(&rules), "--require", "shuttle=0.2", "--require", "tx_gears=0.8"],
+        &[
+            "check",
+            s(&table),
+            "-r",
+            s(&rules),
+            "--require",
+            "shuttle=0.2",
+            "--require",
+            "tx_gears=0.8",
+        ],
         None,
     );
     assert_eq!(ok.status.code(), Some(0), "{}", stderr(&ok));
     let out = run(
-        &["check", s(&table), "-r", s(&rules), "--require", "shuttle=0.5", "--require", "tx_gears=0.9", "--format", "json"],
+        &[
+            "check",
+            s(&table),
+            "-r",
+            s(&rules),
+            "--require",
+            "shuttle=0.5",
+            "--require",
+            "tx_gears=0.9",
+            "--format",
+            "json",
+        ],
         None,
     );
     assert_eq!(out.status.code(), Some(1));
     let err = stderr(&out);
     assert_eq!(err.matches("gate failed").count(), 2, "{err}");
-    assert!(err.contains("tx_shuttle fires on 20.00% of rows (1 of 5), below --require tx_shuttle=50.00%"), "{err}");
+    assert!(
+        err.contains(
+            "tx_shuttle fires on 20.00% of rows (1 of 5), below --require tx_shuttle=50.00%"
+        ),
+        "{err}"
+    );
     let report: serde_json::Value = serde_json::from_str(&stdout(&out)).unwrap();
     assert_eq!(report["schema"], "descry.check/1");
     assert_eq!(report["passed"], false);
     let gates = report["gates"].as_array().unwrap();
-    assert_eq!(gates.len(), 3, "two requirements and the examples: {gates:?}");
+    assert_eq!(
+        gates.len(),
+        3,
+        "two requirements and the examples: {gates:?}"
+    );
     assert_eq!(gates[0]["feature"], "tx_shuttle");
     assert_eq!(gates[0]["value"], 0.2);
-    let unknown = run(&["check", s(&table), "-r", s(&rules), "--require", "turbo=0.1"], None);
+    let unknown = run(
+        &[
+            "check",
+            s(&table),
+            "-r",
+            s(&rules),
+            "--require",
+            "turbo=0.1",
+        ],
+        None,
+    );
     assert_eq!(unknown.status.code(), Some(2));
-    assert!(stderr(&unknown).contains("tx_gears"), "{}", stderr(&unknown));
+    assert!(
+        stderr(&unknown).contains("tx_gears"),
+        "{}",
+        stderr(&unknown)
+    );
 }
 
 #[test]
@@ -597,7 +640,18 @@ fn several_rulesets_are_checked_in_one_report_with_one_exit_code() {
         "column = \"id\"\nprefix = \"id_\"\n[[flag]]\nname = \"odd\"\npattern = '^[1357]$'\n",
     );
     let out = run(
-        &["check", s(&table), "-r", s(&rules), "-r", s(&price), "--format", "json", "--require", "odd=0.9"],
+        &[
+            "check",
+            s(&table),
+            "-r",
+            s(&rules),
+            "-r",
+            s(&price),
+            "--format",
+            "json",
+            "--require",
+            "odd=0.9",
+        ],
         None,
     );
     assert_eq!(out.status.code(), Some(1), "{}", stderr(&out));
@@ -614,8 +668,15 @@ fn several_rulesets_are_checked_in_one_report_with_one_exit_code() {
         .filter(|g| g["passed"] == false)
         .collect();
     assert_eq!(failed.len(), 1, "{failed:?}");
-    assert!(failed[0]["ruleset"].as_str().unwrap().ends_with("price.toml"));
-    assert!(stderr(&out).contains("price.toml: id_odd fires on 57.14% of rows"), "{}", stderr(&out));
+    assert!(failed[0]["ruleset"]
+        .as_str()
+        .unwrap()
+        .ends_with("price.toml"));
+    assert!(
+        stderr(&out).contains("price.toml: id_odd fires on 57.14% of rows"),
+        "{}",
+        stderr(&out)
+    );
 }
 
 #[test]
@@ -627,9 +688,16 @@ fn a_coverage_gate_on_a_column_with_nothing_to_cover_fails() {
         ("empty.csv", "id,transmission\n"),
     ] {
         let t = write(dir.path(), name, text);
-        let out = run(&["check", s(&t), "-r", s(&rules), "--min-coverage", "0.5"], None);
+        let out = run(
+            &["check", s(&t), "-r", s(&rules), "--min-coverage", "0.5"],
+            None,
+        );
         assert_eq!(out.status.code(), Some(1), "{name}: {}", stderr(&out));
-        assert!(stderr(&out).contains("has no rows to cover"), "{name}: {}", stderr(&out));
+        assert!(
+            stderr(&out).contains("has no rows to cover"),
+            "{name}: {}",
+            stderr(&out)
+        );
     }
 }
 
@@ -643,9 +711,16 @@ fn a_gate_message_shows_enough_digits_to_see_the_difference() {
     }
     text.push_str("9999,hydrostatic\n");
     let t = write(dir.path(), "many.csv", &text);
-    let out = run(&["check", s(&t), "-r", s(&rules), "--min-coverage", "0.99995"], None);
+    let out = run(
+        &["check", s(&t), "-r", s(&rules), "--min-coverage", "0.99995"],
+        None,
+    );
     assert_eq!(out.status.code(), Some(1));
-    assert!(stderr(&out).contains("coverage 99.990% of rows is below --min-coverage 99.995%"), "{}", stderr(&out));
+    assert!(
+        stderr(&out).contains("coverage 99.990% of rows is below --min-coverage 99.995%"),
+        "{}",
+        stderr(&out)
+    );
 }
 
 #[test]
@@ -664,9 +739,15 @@ fn placeholders_are_null_and_apart_from_coverage() {
     let rules = write(
         dir.path(),
         "p.toml",
-        &RULES.replace("prefix = \"tx_\"", "prefix = \"tx_\"\nplaceholders = [\"hydrostatic\"]"),
+        &RULES.replace(
+            "prefix = \"tx_\"",
+            "prefix = \"tx_\"\nplaceholders = [\"hydrostatic\"]",
+        ),
     );
-    let out = run(&["check", s(&table), "-r", s(&rules), "--format", "json"], None);
+    let out = run(
+        &["check", s(&table), "-r", s(&rules), "--format", "json"],
+        None,
+    );
     let report: serde_json::Value = serde_json::from_str(&stdout(&out)).unwrap();
     assert_eq!(report["placeholder_rows"], 1);
     assert_eq!(report["coverage"]["rows_considered"], 4);
@@ -674,7 +755,20 @@ fn placeholders_are_null_and_apart_from_coverage() {
     assert_eq!(report["placeholders"][0]["value"], "hydrostatic");
     let parquet = dir.path().join("f.parquet");
     let csv = dir.path().join("f.csv");
-    run(&["apply", s(&table), "-r", s(&rules), "-o", s(&csv), "--only-features", "--keep", "id"], None);
+    run(
+        &[
+            "apply",
+            s(&table),
+            "-r",
+            s(&rules),
+            "-o",
+            s(&csv),
+            "--only-features",
+            "--keep",
+            "id",
+        ],
+        None,
+    );
     let written = std::fs::read_to_string(&csv).unwrap();
     // Row 6 (hydrostatic): every feature empty, the label's default included.
     assert!(written.lines().any(|l| l == "6,,,"), "{written}");
@@ -685,15 +779,36 @@ fn placeholders_are_null_and_apart_from_coverage() {
 fn explain_reads_values_from_a_file_or_stdin_and_shows_only_what_fired() {
     let (dir, rules, _table) = setup();
     let values = write(dir.path(), "v.txt", "6 spd auto\r\nhydrostatic\n");
-    let out = run(&["explain", "-r", s(&rules), "--values", s(&values), "--fired"], None);
+    let out = run(
+        &[
+            "explain",
+            "-r",
+            s(&rules),
+            "--values",
+            s(&values),
+            "--fired",
+        ],
+        None,
+    );
     assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
     let text = stdout(&out);
     assert!(text.contains("tx_gears [count] fired -> 6"), "{text}");
     assert!(!text.contains("tx_shuttle"), "{text}");
-    assert!(text.contains("value      \"hydrostatic\"\nnormalized \"hydrostatic\"\n  no rule fired"), "{text}");
+    assert!(
+        text.contains("value      \"hydrostatic\"\nnormalized \"hydrostatic\"\n  no rule fired"),
+        "{text}"
+    );
     let mut cmd = descry();
     let piped = cmd
-        .args(["explain", "-r", s(&rules), "--values", "-", "--format", "json"])
+        .args([
+            "explain",
+            "-r",
+            s(&rules),
+            "--values",
+            "-",
+            "--format",
+            "json",
+        ])
         .write_stdin("12-speed manual shuttle\n")
         .output()
         .unwrap();
@@ -706,16 +821,36 @@ fn explain_reads_values_from_a_file_or_stdin_and_shows_only_what_fired() {
 
 #[test]
 fn propose_refuses_zero_rules_with_the_reason() {
-    let out = run(&["propose", s(&sample_csv()), "-c", "engine", "-o", "/tmp/never.toml", "--max-rules", "0"], None);
+    let out = run(
+        &[
+            "propose",
+            s(&sample_csv()),
+            "-c",
+            "engine",
+            "-o",
+            "/tmp/never.toml",
+            "--max-rules",
+            "0",
+        ],
+        None,
+    );
     assert_eq!(out.status.code(), Some(2));
-    assert!(stderr(&out).contains("would leave the draft without rules"), "{}", stderr(&out));
+    assert!(
+        stderr(&out).contains("would leave the draft without rules"),
+        "{}",
+        stderr(&out)
+    );
     assert!(!stderr(&out).contains("min-share"), "{}", stderr(&out));
 }
 
 #[test]
 fn survey_help_shows_the_shape_notation_literally() {
     let out = run(&["survey", "--help"], None);
-    assert!(stdout(&out).contains("n times (9{n} above 6)"), "{}", stdout(&out));
+    assert!(
+        stdout(&out).contains("n times (9{n} above 6)"),
+        "{}",
+        stdout(&out)
+    );
 }
 
 #[test]
@@ -723,7 +858,17 @@ fn apply_only_features_reports_what_it_wrote() {
     let (dir, rules, table) = setup();
     let out_path = dir.path().join("f.parquet");
     let out = run(
-        &["apply", s(&table), "-r", s(&rules), "-o", s(&out_path), "--only-features", "--keep", "id"],
+        &[
+            "apply",
+            s(&table),
+            "-r",
+            s(&rules),
+            "-o",
+            s(&out_path),
+            "--only-features",
+            "--keep",
+            "id",
+        ],
         None,
     );
     assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));

@@ -23,7 +23,11 @@ fn shifted_drop(dir: &Path) -> PathBuf {
         out.push('\n');
     }
     for i in 0..300 {
-        let engine = ["quad-cam electric 48V 20kW", "hydrogen cell 90kW", "8 cyl gasoline 6.2L"][i % 3];
+        let engine = [
+            "quad-cam electric 48V 20kW",
+            "hydrogen cell 90kW",
+            "8 cyl gasoline 6.2L",
+        ][i % 3];
         out.push_str(&format!("N{i:07},,{engine},,1000\n"));
     }
     write(dir, "drop.csv", &out)
@@ -39,16 +43,53 @@ fn a_drop_against_its_own_baseline_shows_no_drift_and_passes_every_gate() {
     let dir = TempDir::new().unwrap();
     let d = dir.path();
     let (engine, listings) = (ruleset("engine.toml"), sample_csv());
-    let (code, _, err) = check(&["check", s(&listings), "-r", s(&engine), "--save-baseline", "a.parquet"], d);
+    let (code, _, err) = check(
+        &[
+            "check",
+            s(&listings),
+            "-r",
+            s(&engine),
+            "--save-baseline",
+            "a.parquet",
+        ],
+        d,
+    );
     assert_eq!(code, Some(0), "{err}");
     // The same input gives the same bytes (no timestamp).
-    check(&["check", s(&listings), "-r", s(&engine), "--save-baseline", "b.parquet"], d);
-    assert_eq!(std::fs::read(d.join("a.parquet")).unwrap(), std::fs::read(d.join("b.parquet")).unwrap());
+    check(
+        &[
+            "check",
+            s(&listings),
+            "-r",
+            s(&engine),
+            "--save-baseline",
+            "b.parquet",
+        ],
+        d,
+    );
+    assert_eq!(
+        std::fs::read(d.join("a.parquet")).unwrap(),
+        std::fs::read(d.join("b.parquet")).unwrap()
+    );
 
     let (code, json, err) = check(
         &[
-            "check", s(&listings), "-r", s(&engine), "--baseline", "a.parquet", "--format", "json",
-            "--max-new-share", "0", "--max-new-uncovered-share", "0", "--max-psi", "0", "--max-shift", "0",
+            "check",
+            s(&listings),
+            "-r",
+            s(&engine),
+            "--baseline",
+            "a.parquet",
+            "--format",
+            "json",
+            "--max-new-share",
+            "0",
+            "--max-new-uncovered-share",
+            "0",
+            "--max-psi",
+            "0",
+            "--max-shift",
+            "0",
         ],
         d,
     );
@@ -66,8 +107,18 @@ fn a_drop_against_its_own_baseline_shows_no_drift_and_passes_every_gate() {
         assert_eq!(rule["share_before"], rule["share_after"], "{rule}");
         assert_eq!(rule["p_value"], 1.0, "{rule}");
     }
-    let gates: Vec<&str> = report["gates"].as_array().unwrap().iter().map(|g| g["gate"].as_str().unwrap()).collect();
-    for gate in ["max_new_share", "max_new_uncovered_share", "max_psi", "max_shift"] {
+    let gates: Vec<&str> = report["gates"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|g| g["gate"].as_str().unwrap())
+        .collect();
+    for gate in [
+        "max_new_share",
+        "max_new_uncovered_share",
+        "max_psi",
+        "max_shift",
+    ] {
         assert!(gates.contains(&gate), "{gates:?}");
     }
 }
@@ -77,36 +128,80 @@ fn a_shifted_drop_fails_its_gates_with_one_reason_each_and_scipy_agrees() {
     let dir = TempDir::new().unwrap();
     let d = dir.path();
     let engine = ruleset("engine.toml");
-    let (code, _, err) =
-        check(&["check", s(&sample_csv()), "-r", s(&engine), "--save-baseline", "base.parquet"], d);
+    let (code, _, err) = check(
+        &[
+            "check",
+            s(&sample_csv()),
+            "-r",
+            s(&engine),
+            "--save-baseline",
+            "base.parquet",
+        ],
+        d,
+    );
     assert_eq!(code, Some(0), "{err}");
     let drop = shifted_drop(d);
     let (code, json, err) = check(
         &[
-            "check", s(&drop), "-r", s(&engine), "--baseline", "base.parquet", "--format", "json",
-            "--max-new-share", "0.01", "--max-new-uncovered-share", "0.5", "--max-psi", "0.0001",
-            "--max-shift", "0.5",
+            "check",
+            s(&drop),
+            "-r",
+            s(&engine),
+            "--baseline",
+            "base.parquet",
+            "--format",
+            "json",
+            "--max-new-share",
+            "0.01",
+            "--max-new-uncovered-share",
+            "0.5",
+            "--max-psi",
+            "0.0001",
+            "--max-shift",
+            "0.5",
         ],
         d,
     );
     assert_eq!(code, Some(1), "{err}");
     // One reason line per failed gate, naming the figure and the threshold.
-    let reasons: Vec<&str> = err.lines().filter(|l| l.starts_with("descry: gate failed:")).collect();
+    let reasons: Vec<&str> = err
+        .lines()
+        .filter(|l| l.starts_with("descry: gate failed:"))
+        .collect();
     assert_eq!(reasons.len(), 2, "{err}");
-    assert!(reasons.iter().any(|r| r.contains("--max-new-share 0.01")), "{err}");
-    assert!(reasons.iter().any(|r| r.contains("--max-psi 0.0001") && r.contains("eng_fuel")), "{err}");
+    assert!(
+        reasons.iter().any(|r| r.contains("--max-new-share 0.01")),
+        "{err}"
+    );
+    assert!(
+        reasons
+            .iter()
+            .any(|r| r.contains("--max-psi 0.0001") && r.contains("eng_fuel")),
+        "{err}"
+    );
     let report: serde_json::Value = serde_json::from_str(&json).unwrap();
     let drift = &report["drift"];
     let new_values = drift["new_values"].as_array().unwrap();
-    assert!(new_values.iter().any(|v| v["value"] == "hydrogen cell 90kW" && v["rows"] == 100), "{drift}");
+    assert!(
+        new_values
+            .iter()
+            .any(|v| v["value"] == "hydrogen cell 90kW" && v["rows"] == 100),
+        "{drift}"
+    );
     // Most rows first.
-    let rows: Vec<u64> = new_values.iter().map(|v| v["rows"].as_u64().unwrap()).collect();
+    let rows: Vec<u64> = new_values
+        .iter()
+        .map(|v| v["rows"].as_u64().unwrap())
+        .collect();
     assert!(rows.windows(2).all(|w| w[0] >= w[1]));
     assert!(drift["new_row_share"].as_f64().unwrap() > 0.01);
 
     // Every figure, recomputed with scipy from the two lookup tables.
     let new_lookup = d.join("new.lookup.parquet");
-    let out = run(&["lookup", s(&drop), "-r", s(&engine), "-o", s(&new_lookup)], None);
+    let out = run(
+        &["lookup", s(&drop), "-r", s(&engine), "-o", s(&new_lookup)],
+        None,
+    );
     assert!(out.status.success(), "{}", stderr(&out));
     let report_path = write(d, "report.json", &json);
     let checked = run_python(
@@ -116,8 +211,23 @@ fn a_shifted_drop_fails_its_gates_with_one_reason_each_and_scipy_agrees() {
     assert!(checked.contains("drift agrees"), "{checked}");
 
     // The text report shows the same section.
-    let (_, text, _) = check(&["check", s(&drop), "-r", s(&engine), "--baseline", "base.parquet", "--top", "3"], d);
-    assert!(text.contains("drift since the baseline base.parquet"), "{text}");
+    let (_, text, _) = check(
+        &[
+            "check",
+            s(&drop),
+            "-r",
+            s(&engine),
+            "--baseline",
+            "base.parquet",
+            "--top",
+            "3",
+        ],
+        d,
+    );
+    assert!(
+        text.contains("drift since the baseline base.parquet"),
+        "{text}"
+    );
     assert!(text.contains("PSI"), "{text}");
 }
 
@@ -127,10 +237,31 @@ fn a_changed_ruleset_is_reported_and_compared() {
     let d = dir.path();
     let original = std::fs::read_to_string(ruleset("engine.toml")).unwrap();
     let rules = write(d, "engine.toml", &original);
-    check(&["check", s(&sample_csv()), "-r", s(&rules), "--save-baseline", "base.parquet"], d);
+    check(
+        &[
+            "check",
+            s(&sample_csv()),
+            "-r",
+            s(&rules),
+            "--save-baseline",
+            "base.parquet",
+        ],
+        d,
+    );
     write(d, "engine.toml", &format!("{original}\n# an edit\n"));
-    let (code, json, err) =
-        check(&["check", s(&sample_csv()), "-r", s(&rules), "--baseline", "base.parquet", "--format", "json"], d);
+    let (code, json, err) = check(
+        &[
+            "check",
+            s(&sample_csv()),
+            "-r",
+            s(&rules),
+            "--baseline",
+            "base.parquet",
+            "--format",
+            "json",
+        ],
+        d,
+    );
     assert_eq!(code, Some(0), "{err}");
     let report: serde_json::Value = serde_json::from_str(&json).unwrap();
     assert_eq!(report["drift"]["ruleset_changed"], true);
@@ -141,24 +272,59 @@ fn a_changed_ruleset_is_reported_and_compared() {
 fn several_rulesets_keep_one_baseline_each_in_a_folder() {
     let dir = TempDir::new().unwrap();
     let d = dir.path();
-    let (engine, transmission, listings) =
-        (ruleset("engine.toml"), ruleset("transmission.toml"), sample_csv());
-    let args = ["check", s(&listings), "-r", s(&engine), "-r", s(&transmission)];
+    let (engine, transmission, listings) = (
+        ruleset("engine.toml"),
+        ruleset("transmission.toml"),
+        sample_csv(),
+    );
+    let args = [
+        "check",
+        s(&listings),
+        "-r",
+        s(&engine),
+        "-r",
+        s(&transmission),
+    ];
     let (code, _, err) = check(&[&args[..], &["--save-baseline", "base"]].concat(), d);
     assert_eq!(code, Some(0), "{err}");
-    assert!(d.join("base/engine.parquet").is_file() && d.join("base/transmission.parquet").is_file());
-    let (code, json, err) = check(&[&args[..], &["--baseline", "base", "--format", "json"]].concat(), d);
+    assert!(
+        d.join("base/engine.parquet").is_file() && d.join("base/transmission.parquet").is_file()
+    );
+    let (code, json, err) = check(
+        &[&args[..], &["--baseline", "base", "--format", "json"]].concat(),
+        d,
+    );
     assert_eq!(code, Some(0), "{err}");
     let all: serde_json::Value = serde_json::from_str(&json).unwrap();
     for report in all["reports"].as_array().unwrap() {
         assert_eq!(report["drift"]["new_row_share"], 0.0);
     }
     // A drift gate without a baseline is refused by the argument parser.
-    let (code, _, err) = check(&["check", s(&sample_csv()), "-r", s(&engine), "--max-psi", "0.2"], d);
+    let (code, _, err) = check(
+        &[
+            "check",
+            s(&sample_csv()),
+            "-r",
+            s(&engine),
+            "--max-psi",
+            "0.2",
+        ],
+        d,
+    );
     assert_eq!(code, Some(2), "{err}");
     assert!(err.contains("--baseline"), "{err}");
     // A file that is not a baseline is named.
-    let (code, _, err) = check(&["check", s(&sample_csv()), "-r", s(&engine), "--baseline", s(&engine)], d);
+    let (code, _, err) = check(
+        &[
+            "check",
+            s(&sample_csv()),
+            "-r",
+            s(&engine),
+            "--baseline",
+            s(&engine),
+        ],
+        d,
+    );
     assert_eq!(code, Some(2), "{err}");
     assert!(err.contains("engine.toml"), "{err}");
 }
@@ -171,13 +337,46 @@ fn snapshots_of_the_drift_sections() {
     let dir = TempDir::new().unwrap();
     let d = dir.path();
     let engine = ruleset("engine.toml");
-    check(&["check", s(&sample_csv()), "-r", s(&engine), "--save-baseline", "base.parquet"], d);
+    check(
+        &[
+            "check",
+            s(&sample_csv()),
+            "-r",
+            s(&engine),
+            "--save-baseline",
+            "base.parquet",
+        ],
+        d,
+    );
     let drop = shifted_drop(d);
-    let (_, text, _) = check(&["check", s(&drop), "-r", s(&engine), "--baseline", "base.parquet", "--top", "5"], d);
+    let (_, text, _) = check(
+        &[
+            "check",
+            s(&drop),
+            "-r",
+            s(&engine),
+            "--baseline",
+            "base.parquet",
+            "--top",
+            "5",
+        ],
+        d,
+    );
     let section = &text[text.find("drift since").expect("a drift section")..];
     insta::assert_snapshot!("drift_text_engine", section);
-    let (_, json, _) =
-        check(&["check", s(&drop), "-r", s(&engine), "--baseline", "base.parquet", "--format", "json"], d);
+    let (_, json, _) = check(
+        &[
+            "check",
+            s(&drop),
+            "-r",
+            s(&engine),
+            "--baseline",
+            "base.parquet",
+            "--format",
+            "json",
+        ],
+        d,
+    );
     let mut report: serde_json::Value = serde_json::from_str(&json).unwrap();
     for list in ["new_values", "gone_values"] {
         report["drift"][list].as_array_mut().unwrap().truncate(5);
@@ -195,46 +394,149 @@ fn baselines_never_overwrite_inputs_and_must_describe_the_same_column() {
     let table = write(d, "in.csv", &std::fs::read_to_string(sample_csv()).unwrap());
     let before = std::fs::read(&table).unwrap();
     let (engine, transmission) = (ruleset("engine.toml"), ruleset("transmission.toml"));
-    let (code, _, err) = check(&["check", s(&table), "-r", s(&engine), "--save-baseline", s(&table)], d);
+    let (code, _, err) = check(
+        &[
+            "check",
+            s(&table),
+            "-r",
+            s(&engine),
+            "--save-baseline",
+            s(&table),
+        ],
+        d,
+    );
     assert_eq!(code, Some(2), "{err}");
     assert!(err.contains("in.csv"), "{err}");
-    assert_eq!(std::fs::read(&table).unwrap(), before, "the input was changed");
+    assert_eq!(
+        std::fs::read(&table).unwrap(),
+        before,
+        "the input was changed"
+    );
     // The same with an input named like a baseline.
-    let named = write(d, "in.parquet", &std::fs::read_to_string(sample_csv()).unwrap());
+    let named = write(
+        d,
+        "in.parquet",
+        &std::fs::read_to_string(sample_csv()).unwrap(),
+    );
     let (code, _, err) = check(
-        &["check", s(&named), "--delimiter", ",", "-r", s(&engine), "--save-baseline", s(&named)],
+        &[
+            "check",
+            s(&named),
+            "--delimiter",
+            ",",
+            "-r",
+            s(&engine),
+            "--save-baseline",
+            s(&named),
+        ],
         d,
     );
     assert_eq!(code, Some(2), "{err}");
     assert!(err.contains("never overwrites its input"), "{err}");
 
-    check(&["check", s(&table), "-r", s(&engine), "--save-baseline", "engine.parquet"], d);
+    check(
+        &[
+            "check",
+            s(&table),
+            "-r",
+            s(&engine),
+            "--save-baseline",
+            "engine.parquet",
+        ],
+        d,
+    );
     let (code, _, err) = check(
-        &["check", s(&table), "-r", s(&engine), "--baseline", "engine.parquet", "--save-baseline", "engine.parquet"],
+        &[
+            "check",
+            s(&table),
+            "-r",
+            s(&engine),
+            "--baseline",
+            "engine.parquet",
+            "--save-baseline",
+            "engine.parquet",
+        ],
         d,
     );
     assert_eq!(code, Some(2), "{err}");
-    let (code, _, err) =
-        check(&["check", s(&table), "-r", s(&transmission), "--baseline", "engine.parquet", "--max-psi", "0.2"], d);
+    let (code, _, err) = check(
+        &[
+            "check",
+            s(&table),
+            "-r",
+            s(&transmission),
+            "--baseline",
+            "engine.parquet",
+            "--max-psi",
+            "0.2",
+        ],
+        d,
+    );
     assert_eq!(code, Some(2), "{err}");
-    assert!(err.contains("the baseline describes column engine"), "{err}");
+    assert!(
+        err.contains("the baseline describes column engine"),
+        "{err}"
+    );
 
     // A baseline is named as the Parquet file it is; several rulesets need a folder.
-    let (code, _, err) = check(&["check", s(&table), "-r", s(&engine), "--save-baseline", "base.csv"], d);
+    let (code, _, err) = check(
+        &[
+            "check",
+            s(&table),
+            "-r",
+            s(&engine),
+            "--save-baseline",
+            "base.csv",
+        ],
+        d,
+    );
     assert_eq!(code, Some(2), "{err}");
     assert!(err.contains("name it *.parquet"), "{err}");
     write(d, "a-file", "x");
     let (code, _, err) = check(
-        &["check", s(&table), "-r", s(&engine), "-r", s(&transmission), "--save-baseline", "a-file"],
+        &[
+            "check",
+            s(&table),
+            "-r",
+            s(&engine),
+            "-r",
+            s(&transmission),
+            "--save-baseline",
+            "a-file",
+        ],
         d,
     );
     assert_eq!(code, Some(2), "{err}");
     assert!(err.contains("is a file; with several rulesets"), "{err}");
 
     let empty = write(d, "empty.csv", "engine\n");
-    check(&["check", s(&empty), "-r", s(&engine), "--save-baseline", "empty.parquet"], d);
-    let (code, _, err) =
-        check(&["check", s(&empty), "-r", s(&engine), "--baseline", "empty.parquet", "--max-new-share", "0.1"], d);
+    check(
+        &[
+            "check",
+            s(&empty),
+            "-r",
+            s(&engine),
+            "--save-baseline",
+            "empty.parquet",
+        ],
+        d,
+    );
+    let (code, _, err) = check(
+        &[
+            "check",
+            s(&empty),
+            "-r",
+            s(&engine),
+            "--baseline",
+            "empty.parquet",
+            "--max-new-share",
+            "0.1",
+        ],
+        d,
+    );
     assert_eq!(code, Some(1), "{err}");
-    assert!(err.contains("--max-new-share 0.1: column \"engine\" has no rows with text"), "{err}");
+    assert!(
+        err.contains("--max-new-share 0.1: column \"engine\" has no rows with text"),
+        "{err}"
+    );
 }

@@ -53,7 +53,9 @@ fn rulesets_found_by_fuzzing_load_or_fail_cleanly() {
 #[test]
 fn csv_tables_found_by_fuzzing_read_as_the_csv_crate_reads_them() {
     let dir = tempfile::tempdir().unwrap();
-    replay("csv", |input| checks::check_table(input, TableKind::Csv, dir.path()));
+    replay("csv", |input| {
+        checks::check_table(input, TableKind::Csv, dir.path())
+    });
 }
 
 #[test]

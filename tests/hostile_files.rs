@@ -12,7 +12,8 @@ use std::process::Output;
 use common::*;
 use tempfile::TempDir;
 
-const RULES: &str = "column = \"transmission\"\n[[count]]\nname = \"gears\"\npattern = '({int})\\s*spd'\n\
+const RULES: &str =
+    "column = \"transmission\"\n[[count]]\nname = \"gears\"\npattern = '({int})\\s*spd'\n\
                      [[flag]]\nname = \"auto\"\nany = [\"auto\"]\n";
 
 const CSV: &str = "id,transmission\n1,6 spd auto\n2,manual\n3,\n4,6 spd auto\n";
@@ -37,7 +38,10 @@ fn expect_ok(out: &Output) {
 
 /// The rows `check` covers, from its JSON report.
 fn rows_covered(input: &Path, rules: &Path) -> u64 {
-    let out = run(&["check", s(input), "-r", s(rules), "--format", "json"], None);
+    let out = run(
+        &["check", s(input), "-r", s(rules), "--format", "json"],
+        None,
+    );
     expect_ok(&out);
     let report: serde_json::Value = serde_json::from_str(&stdout(&out)).unwrap();
     report["coverage"]["rows_covered"].as_u64().unwrap()
@@ -68,7 +72,10 @@ fn exotic_columns_elsewhere_do_not_stop_the_commands_that_read_one_column() {
             expect_ok(&run(&[&[command, s(&f)][..], &c[..]].concat(), None));
         }
         let draft = dir.path().join(format!("{name}.toml"));
-        expect_ok(&run(&["propose", s(&f), "-c", "transmission", "-o", s(&draft)], None));
+        expect_ok(&run(
+            &["propose", s(&f), "-c", "transmission", "-o", s(&draft)],
+            None,
+        ));
     }
 }
 
@@ -76,16 +83,33 @@ fn exotic_columns_elsewhere_do_not_stop_the_commands_that_read_one_column() {
 fn apply_refuses_a_column_it_cannot_carry_and_names_it_with_its_type() {
     let (dir, rules) = setup();
     hostile_tables(dir.path());
-    for (name, place) in [("exotic.parquet", "\"price\""), ("exotic.arrow", "\"price\"")] {
+    for (name, place) in [
+        ("exotic.parquet", "\"price\""),
+        ("exotic.arrow", "\"price\""),
+    ] {
         let f = dir.path().join(name);
         let out_path = dir.path().join(format!("{name}.out.parquet"));
         for extra in [&[][..], &["--in-memory"][..]] {
-            let args = [&["apply", s(&f), "-r", s(&rules), "-o", s(&out_path)][..], extra].concat();
+            let args = [
+                &["apply", s(&f), "-r", s(&rules), "-o", s(&out_path)][..],
+                extra,
+            ]
+            .concat();
             expect_error(&run(&args, None), &[name, place, "Decimal", "cannot read"]);
             assert!(!out_path.exists());
         }
         // The columns it can carry, it carries.
-        let args = ["apply", s(&f), "-r", s(&rules), "-o", s(&out_path), "--only-features", "--keep", "id"];
+        let args = [
+            "apply",
+            s(&f),
+            "-r",
+            s(&rules),
+            "-o",
+            s(&out_path),
+            "--only-features",
+            "--keep",
+            "id",
+        ];
         expect_ok(&run(&args, None));
         assert_eq!(
             arrow_schema(&out_path),
@@ -101,7 +125,10 @@ fn a_run_end_encoded_ipc_column_is_refused_in_words() {
     hostile_tables(dir.path());
     let f = dir.path().join("run_end.arrow");
     let out = run(&["check", s(&f), "-r", s(&rules)], None);
-    expect_error(&out, &["run_end.arrow", "column \"code\" is run-end encoded"]);
+    expect_error(
+        &out,
+        &["run_end.arrow", "column \"code\" is run-end encoded"],
+    );
 }
 
 /// polars' IPC reader cannot read such a file at all (it keeps one column
@@ -112,8 +139,16 @@ fn two_ipc_columns_of_one_name() {
     hostile_tables(dir.path());
     let f = dir.path().join("twice.arrow");
     let out_path = dir.path().join("out.parquet");
-    let message = ["twice.arrow", "the column name \"note\"", "(columns 2 and 4)", "rename one"];
-    expect_error(&run(&["apply", s(&f), "-r", s(&rules), "-o", s(&out_path)], None), &message);
+    let message = [
+        "twice.arrow",
+        "the column name \"note\"",
+        "(columns 2 and 4)",
+        "rename one",
+    ];
+    expect_error(
+        &run(&["apply", s(&f), "-r", s(&rules), "-o", s(&out_path)], None),
+        &message,
+    );
     expect_error(&run(&["check", s(&f), "-r", s(&rules)], None), &message);
 }
 
@@ -129,7 +164,10 @@ fn deeply_nested_json_is_refused_with_its_line() {
     );
     let f = write(dir.path(), "deep.ndjson", &text);
     let out = run(&["check", s(&f), "-r", s(&rules)], None);
-    expect_error(&out, &["deep.ndjson", "line 3", "nested deeper than 64 levels"]);
+    expect_error(
+        &out,
+        &["deep.ndjson", "line 3", "nested deeper than 64 levels"],
+    );
 }
 
 // 3. Closed pipes and full disks ---------------------------------------------
@@ -191,10 +229,30 @@ fn no_command_writes_over_its_inputs() {
     let (dir, rules) = setup();
     let table = write(dir.path(), "t.csv", CSV);
     let before = std::fs::read(&table).unwrap();
-    let out = run(&["propose", s(&table), "-c", "transmission", "-o", s(&table), "--force"], None);
+    let out = run(
+        &[
+            "propose",
+            s(&table),
+            "-c",
+            "transmission",
+            "-o",
+            s(&table),
+            "--force",
+        ],
+        None,
+    );
     expect_error(&out, &["t.csv", "is also the input"]);
     let out = run(
-        &["cluster", s(&table), "-c", "transmission", "--write-map", s(&table), "--label", "k"],
+        &[
+            "cluster",
+            s(&table),
+            "-c",
+            "transmission",
+            "--write-map",
+            s(&table),
+            "--label",
+            "k",
+        ],
         None,
     );
     expect_error(&out, &["t.csv", "is also the input"]);
@@ -208,12 +266,30 @@ fn no_command_writes_over_its_inputs() {
 
     // propose --update rewrites its ruleset in place only without -o.
     let out = run(
-        &["propose", s(&table), "--update", s(&rules), "-o", s(&rules), "--force"],
+        &[
+            "propose",
+            s(&table),
+            "--update",
+            s(&rules),
+            "-o",
+            s(&rules),
+            "--force",
+        ],
         None,
     );
     expect_error(&out, &["r.toml", "is also the input"]);
     assert_eq!(std::fs::read_to_string(&rules).unwrap(), RULES);
-    let out = run(&["propose", s(&table), "--update", s(&rules), "--min-share", "0.01"], None);
+    let out = run(
+        &[
+            "propose",
+            s(&table),
+            "--update",
+            s(&rules),
+            "--min-share",
+            "0.01",
+        ],
+        None,
+    );
     expect_ok(&out);
     assert!(std::fs::read_to_string(&rules).unwrap().starts_with(RULES));
 }
@@ -224,9 +300,16 @@ fn no_command_writes_over_its_inputs() {
 fn a_huge_thread_count_is_capped_with_a_note() {
     let (dir, rules) = setup();
     let table = write(dir.path(), "t.csv", CSV);
-    let out = run(&["--threads", "100000", "check", s(&table), "-r", s(&rules)], None);
+    let out = run(
+        &["--threads", "100000", "check", s(&table), "-r", s(&rules)],
+        None,
+    );
     expect_ok(&out);
-    assert!(stderr(&out).contains("--threads 100000 is more than 4 per core"), "{}", stderr(&out));
+    assert!(
+        stderr(&out).contains("--threads 100000 is more than 4 per core"),
+        "{}",
+        stderr(&out)
+    );
 }
 
 // 6. Paths are not patterns ----------------------------------------------------
@@ -235,15 +318,25 @@ fn a_huge_thread_count_is_capped_with_a_note() {
 fn brackets_and_stars_in_a_path_are_plain_characters() {
     let (dir, rules) = setup();
     let bracket = write(dir.path(), "data[1].csv", "id,transmission\n1,6 spd\n");
-    write(dir.path(), "data1.csv", "id,transmission\n1,manual\n2,manual\n");
+    write(
+        dir.path(),
+        "data1.csv",
+        "id,transmission\n1,manual\n2,manual\n",
+    );
     let star = write(dir.path(), "star*.csv", "id,transmission\n1,6 spd\n");
     write(dir.path(), "star1.csv", "id,transmission\n1,7 spd\n");
     write(dir.path(), "star2.csv", "id,transmission\n1,8 spd\n");
     for f in [&bracket, &star] {
         assert_eq!(rows_covered(f, &rules), 1, "{}", f.display());
         let out_path = dir.path().join("out[1].csv");
-        expect_ok(&run(&["apply", s(f), "-r", s(&rules), "-o", s(&out_path)], None));
-        assert_eq!(std::fs::read_to_string(&out_path).unwrap().lines().count(), 2);
+        expect_ok(&run(
+            &["apply", s(f), "-r", s(&rules), "-o", s(&out_path)],
+            None,
+        ));
+        assert_eq!(
+            std::fs::read_to_string(&out_path).unwrap().lines().count(),
+            2
+        );
         // The same through Parquet: the file written is read back alone.
         let pq = dir.path().join("p[1].parquet");
         write(dir.path(), "p1.parquet", "not parquet");
@@ -280,23 +373,46 @@ fn a_float_source_column_keeps_its_type_and_is_described_by_its_text() {
     // A Parquet file with a Float64 column (the described column of a CSV
     // is text, so another column carries the floats).
     let typed = dir.path().join("typed.parquet");
-    let by_id = write(dir.path(), "id.toml", "column = \"id\"\n[[flag]]\nname = \"one\"\nany = [\"1\"]\n");
-    expect_ok(&run(&["apply", s(&csv), "-r", s(&by_id), "-o", s(&typed)], None));
+    let by_id = write(
+        dir.path(),
+        "id.toml",
+        "column = \"id\"\n[[flag]]\nname = \"one\"\nany = [\"1\"]\n",
+    );
+    expect_ok(&run(
+        &["apply", s(&csv), "-r", s(&by_id), "-o", s(&typed)],
+        None,
+    ));
     assert!(arrow_schema(&typed).contains("size: double"));
     for extra in [&[][..], &["--in-memory"][..]] {
         let out_path = dir.path().join("out.csv");
-        let args = [&["apply", s(&typed), "-r", s(&rules), "-o", s(&out_path)][..], extra].concat();
+        let args = [
+            &["apply", s(&typed), "-r", s(&rules), "-o", s(&out_path)][..],
+            extra,
+        ]
+        .concat();
         let out = run(&args, None);
         expect_ok(&out);
-        assert!(stderr(&out).contains("written unchanged"), "{}", stderr(&out));
+        assert!(
+            stderr(&out).contains("written unchanged"),
+            "{}",
+            stderr(&out)
+        );
         assert_eq!(
             std::fs::read_to_string(&out_path).unwrap(),
             "id,size,one,whole\n1,1.5,true,1\n2,2.0,false,2\n3,,false,\n4,12.5,false,12\n"
         );
         let pq = dir.path().join("out.parquet");
-        let args = [&["apply", s(&typed), "-r", s(&rules), "-o", s(&pq)][..], extra].concat();
+        let args = [
+            &["apply", s(&typed), "-r", s(&rules), "-o", s(&pq)][..],
+            extra,
+        ]
+        .concat();
         expect_ok(&run(&args, None));
-        assert!(arrow_schema(&pq).contains("size: double"), "{}", arrow_schema(&pq));
+        assert!(
+            arrow_schema(&pq).contains("size: double"),
+            "{}",
+            arrow_schema(&pq)
+        );
     }
 }
 
@@ -329,14 +445,25 @@ fn a_signal_during_apply_removes_the_partial_file_and_keeps_the_old_output() {
     for (signal, number) in [("INT", 2), ("TERM", 15), ("HUP", 1)] {
         std::fs::write(&output, "previous output\n").unwrap();
         let mut child = std::process::Command::new(assert_cmd::cargo::cargo_bin("descry"))
-            .args(["apply", s(&input), "-r", s(&rules), "-o", s(&output), "--quiet"])
+            .args([
+                "apply",
+                s(&input),
+                "-r",
+                s(&rules),
+                "-o",
+                s(&output),
+                "--quiet",
+            ])
             .spawn()
             .unwrap();
         let started = std::time::Instant::now();
         while partials(dir.path()).is_empty() && started.elapsed().as_secs() < 60 {
             std::thread::sleep(std::time::Duration::from_millis(5));
         }
-        assert!(!partials(dir.path()).is_empty(), "apply never started writing");
+        assert!(
+            !partials(dir.path()).is_empty(),
+            "apply never started writing"
+        );
         std::process::Command::new("kill")
             .args(["-s", signal, &child.id().to_string()])
             .status()
@@ -344,7 +471,10 @@ fn a_signal_during_apply_removes_the_partial_file_and_keeps_the_old_output() {
         let status = child.wait().unwrap();
         assert_eq!(status.code(), Some(128 + number), "SIG{signal}");
         assert_eq!(partials(dir.path()), Vec::<String>::new(), "SIG{signal}");
-        assert_eq!(std::fs::read_to_string(&output).unwrap(), "previous output\n");
+        assert_eq!(
+            std::fs::read_to_string(&output).unwrap(),
+            "previous output\n"
+        );
     }
 }
 
@@ -366,11 +496,17 @@ fn a_new_output_follows_the_umask_and_a_replaced_one_keeps_its_mode() {
         s(&rules),
         s(&output)
     );
-    let status = std::process::Command::new("bash").args(["-c", &script]).status().unwrap();
+    let status = std::process::Command::new("bash")
+        .args(["-c", &script])
+        .status()
+        .unwrap();
     assert!(status.success());
     assert_eq!(mode(&output), 0o640);
     std::fs::set_permissions(&output, std::fs::Permissions::from_mode(0o604)).unwrap();
-    expect_ok(&run(&["apply", s(&table), "-r", s(&rules), "-o", s(&output)], None));
+    expect_ok(&run(
+        &["apply", s(&table), "-r", s(&rules), "-o", s(&output)],
+        None,
+    ));
     assert_eq!(mode(&output), 0o604);
 }
 
@@ -378,24 +514,51 @@ fn a_new_output_follows_the_umask_and_a_replaced_one_keeps_its_mode() {
 fn a_read_only_output_or_ruleset_is_never_replaced() {
     let (dir, rules) = setup();
     let table = write(dir.path(), "t.csv", CSV);
-    let read_only = |p: &Path| std::fs::set_permissions(p, std::fs::Permissions::from_mode(0o444)).unwrap();
+    let read_only =
+        |p: &Path| std::fs::set_permissions(p, std::fs::Permissions::from_mode(0o444)).unwrap();
     let output = write(dir.path(), "out.csv", "kept\n");
     read_only(&output);
     expect_error(
-        &run(&["apply", s(&table), "-r", s(&rules), "-o", s(&output)], None),
+        &run(
+            &["apply", s(&table), "-r", s(&rules), "-o", s(&output)],
+            None,
+        ),
         &["out.csv", "is read-only (mode 444)"],
     );
     let draft = write(dir.path(), "draft.toml", "kept\n");
     read_only(&draft);
     expect_error(
-        &run(&["propose", s(&table), "-c", "transmission", "-o", s(&draft), "--force"], None),
+        &run(
+            &[
+                "propose",
+                s(&table),
+                "-c",
+                "transmission",
+                "-o",
+                s(&draft),
+                "--force",
+            ],
+            None,
+        ),
         &["draft.toml", "read-only"],
     );
     read_only(&rules);
-    expect_error(&run(&["propose", s(&table), "--update", s(&rules)], None), &["r.toml", "read-only"]);
+    expect_error(
+        &run(&["propose", s(&table), "--update", s(&rules)], None),
+        &["r.toml", "read-only"],
+    );
     expect_error(
         &run(
-            &["cluster", s(&table), "-c", "transmission", "--write-map", s(&rules), "--label", "k"],
+            &[
+                "cluster",
+                s(&table),
+                "-c",
+                "transmission",
+                "--write-map",
+                s(&rules),
+                "--label",
+                "k",
+            ],
             None,
         ),
         &["r.toml", "read-only"],
@@ -421,17 +584,31 @@ fn control_characters_in_column_names_are_shown_escaped() {
     let (dir, rules) = setup();
     let f = write(dir.path(), "esc.csv", "id,trans\x1b[31mmission\n1,6 spd\n");
     let out = run(&["check", s(&f), "-r", s(&rules)], None);
-    expect_error(&out, &["esc.csv", "no column named \"transmission\"", "trans\\u{1b}[31mmission"]);
+    expect_error(
+        &out,
+        &[
+            "esc.csv",
+            "no column named \"transmission\"",
+            "trans\\u{1b}[31mmission",
+        ],
+    );
     assert!(!stderr(&out).contains('\x1b'));
 }
 
 #[test]
 fn a_csv_header_naming_two_columns_alike_is_refused() {
     let (dir, rules) = setup();
-    let f = write(dir.path(), "twice.csv", "id,transmission,note,id\n1,6 spd,a,2\n");
+    let f = write(
+        dir.path(),
+        "twice.csv",
+        "id,transmission,note,id\n1,6 spd,a,2\n",
+    );
     expect_error(
         &run(&["check", s(&f), "-r", s(&rules)], None),
-        &["twice.csv", "the header gives the name \"id\" to more than one column (columns 1 and 4)"],
+        &[
+            "twice.csv",
+            "the header gives the name \"id\" to more than one column (columns 1 and 4)",
+        ],
     );
 }
 
@@ -447,12 +624,18 @@ fn files_in_another_encoding_or_layout_are_named() {
     std::fs::write(&utf16_file, utf16).unwrap();
     let cases = [
         (utf16_file, "UTF-16 (little-endian, FF FE byte-order mark)"),
-        (dir.path().join("stream.arrow"), "an Arrow IPC stream, not an Arrow IPC file"),
+        (
+            dir.path().join("stream.arrow"),
+            "an Arrow IPC stream, not an Arrow IPC file",
+        ),
         (dir.path().join("v1.feather"), "a Feather version 1 file"),
     ];
     for (f, message) in cases {
         let name = f.file_name().unwrap().to_str().unwrap().to_owned();
-        expect_error(&run(&["check", s(&f), "-r", s(&rules)], None), &[&name, message]);
+        expect_error(
+            &run(&["check", s(&f), "-r", s(&rules)], None),
+            &[&name, message],
+        );
     }
 }
 
@@ -460,7 +643,10 @@ fn files_in_another_encoding_or_layout_are_named() {
 fn a_pipe_given_as_a_path_is_refused_with_a_pointer_to_standard_input() {
     let (dir, rules) = setup();
     let fifo = dir.path().join("fifo.csv");
-    let made = std::process::Command::new("mkfifo").arg(&fifo).status().unwrap();
+    let made = std::process::Command::new("mkfifo")
+        .arg(&fifo)
+        .status()
+        .unwrap();
     assert!(made.success());
     expect_error(
         &run(&["check", s(&fifo), "-r", s(&rules)], None),
@@ -516,7 +702,16 @@ fn zero_rows_per_batch_and_an_endless_ruleset_are_refused() {
     let table = write(dir.path(), "t.csv", CSV);
     let out_path = dir.path().join("o.csv");
     let out = run(
-        &["apply", s(&table), "-r", s(&rules), "-o", s(&out_path), "--batch-rows", "0"],
+        &[
+            "apply",
+            s(&table),
+            "-r",
+            s(&rules),
+            "-o",
+            s(&out_path),
+            "--batch-rows",
+            "0",
+        ],
         None,
     );
     expect_error(&out, &["--batch-rows", "at least 1 row"]);
@@ -532,13 +727,27 @@ fn streamed_and_in_memory_outputs_have_the_same_arrow_schema() {
     let table = write(dir.path(), "t.csv", CSV);
     let streamed = dir.path().join("streamed.parquet");
     let whole = dir.path().join("whole.parquet");
-    expect_ok(&run(&["apply", s(&table), "-r", s(&rules), "-o", s(&streamed)], None));
     expect_ok(&run(
-        &["apply", s(&table), "-r", s(&rules), "-o", s(&whole), "--in-memory"],
+        &["apply", s(&table), "-r", s(&rules), "-o", s(&streamed)],
+        None,
+    ));
+    expect_ok(&run(
+        &[
+            "apply",
+            s(&table),
+            "-r",
+            s(&rules),
+            "-o",
+            s(&whole),
+            "--in-memory",
+        ],
         None,
     ));
     let schema = arrow_schema(&streamed);
-    assert_eq!(schema, "id: int64\ntransmission: large_string\ngears: uint8\nauto: bool");
+    assert_eq!(
+        schema,
+        "id: int64\ntransmission: large_string\ngears: uint8\nauto: bool"
+    );
     assert_eq!(arrow_schema(&whole), schema);
 }
 

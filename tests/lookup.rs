@@ -37,12 +37,18 @@ fn vocabulary_table(dir: &Path, column: &str) -> PathBuf {
     }
     let mut counted: Vec<(Option<String>, u64)> = counts.into_iter().collect();
     counted.sort_by(|a, b| b.1.cmp(&a.1).then_with(|| a.0.cmp(&b.0)));
-    assert!(counted.iter().any(|(v, _)| v.is_none()), "the demo column has nulls");
+    assert!(
+        counted.iter().any(|(v, _)| v.is_none()),
+        "the demo column has nulls"
+    );
     let values: Vec<Option<&str>> = counted.iter().map(|(v, _)| v.as_deref()).collect();
     let n: Vec<u64> = counted.iter().map(|(_, n)| *n).collect();
     let mut frame = DataFrame::new(
         counted.len(),
-        vec![Column::new(column.into(), values), Column::new("rows".into(), n)],
+        vec![
+            Column::new(column.into(), values),
+            Column::new("rows".into(), n),
+        ],
     )
     .unwrap();
     let path = dir.join(format!("{column}.vocabulary.parquet"));
@@ -68,25 +74,52 @@ fn a_vocabulary_table_gives_the_reports_of_the_raw_rows() {
     let reports: [&[&str]; 3] = [
         &["check", "-r", s(&engine), "--format", "json"],
         &["survey", "-c", "engine", "--format", "json"],
-        &["cluster", "-c", "engine", "-m", "levenshtein", "--format", "json"],
+        &[
+            "cluster",
+            "-c",
+            "engine",
+            "-m",
+            "levenshtein",
+            "--format",
+            "json",
+        ],
     ];
     for args in reports {
         let on_rows = json_of(&[&args[..1], &[s(&raw)], &args[1..]].concat(), d);
-        let on_vocab =
-            json_of(&[&args[..1], &[s(&vocab), "--counts", "rows"], &args[1..]].concat(), d);
+        let on_vocab = json_of(
+            &[&args[..1], &[s(&vocab), "--counts", "rows"], &args[1..]].concat(),
+            d,
+        );
         assert_eq!(on_rows, on_vocab, "{}", args[0]);
     }
     // propose: the same draft, byte for byte, and the same report.
     let draft_rows = d.join("rows.toml");
     let draft_vocab = d.join("vocab.toml");
     let mut on_rows = json_of(
-        &["propose", s(&raw), "-c", "engine", "-o", s(&draft_rows), "--format", "json"],
+        &[
+            "propose",
+            s(&raw),
+            "-c",
+            "engine",
+            "-o",
+            s(&draft_rows),
+            "--format",
+            "json",
+        ],
         d,
     );
     let mut on_vocab = json_of(
         &[
-            "propose", s(&vocab), "--counts", "rows", "-c", "engine", "-o", s(&draft_vocab),
-            "--format", "json",
+            "propose",
+            s(&vocab),
+            "--counts",
+            "rows",
+            "-c",
+            "engine",
+            "-o",
+            s(&draft_vocab),
+            "--format",
+            "json",
         ],
         d,
     );
@@ -111,7 +144,10 @@ fn counts_that_are_not_numbers_of_rows_are_refused_with_the_row() {
         ("engine,rows\nV6 diesel,3\n4 cyl,\n", "null"),
     ] {
         let path = write(dir.path(), "vocab.csv", table);
-        let out = run(&["check", s(&path), "--counts", "rows", "-r", s(&rules)], None);
+        let out = run(
+            &["check", s(&path), "--counts", "rows", "-r", s(&rules)],
+            None,
+        );
         assert_eq!(out.status.code(), Some(2), "{}", stderr(&out));
         let message = stderr(&out);
         assert!(
@@ -120,25 +156,52 @@ fn counts_that_are_not_numbers_of_rows_are_refused_with_the_row() {
         );
     }
     // A count that is a Boolean is no number of rows.
-    let path = write(dir.path(), "vocab.ndjson", "{\"engine\":\"V8\",\"rows\":true}\n");
-    let out = run(&["check", s(&path), "--counts", "rows", "-r", s(&rules)], None);
+    let path = write(
+        dir.path(),
+        "vocab.ndjson",
+        "{\"engine\":\"V8\",\"rows\":true}\n",
+    );
+    let out = run(
+        &["check", s(&path), "--counts", "rows", "-r", s(&rules)],
+        None,
+    );
     assert_eq!(out.status.code(), Some(2), "{}", stderr(&out));
-    assert!(stderr(&out).contains("holds bool values"), "{}", stderr(&out));
+    assert!(
+        stderr(&out).contains("holds bool values"),
+        "{}",
+        stderr(&out)
+    );
     // Counts that add up past 64 bits are refused, not wrapped around.
     let path = write(
         dir.path(),
         "vocab.csv",
         "engine,rows\nV6 diesel,9223372036854775807\n4 cyl,9223372036854775807\nV8,9223372036854775807\n",
     );
-    let out = run(&["check", s(&path), "--counts", "rows", "-r", s(&rules)], None);
+    let out = run(
+        &["check", s(&path), "--counts", "rows", "-r", s(&rules)],
+        None,
+    );
     assert_eq!(out.status.code(), Some(2), "{}", stderr(&out));
-    assert!(stderr(&out).contains("adds up to more than"), "{}", stderr(&out));
+    assert!(
+        stderr(&out).contains("adds up to more than"),
+        "{}",
+        stderr(&out)
+    );
     let path = write(dir.path(), "vocab.csv", "engine,rows\nV6 diesel,3\n");
     let out = run(&["check", s(&path), "--counts", "n", "-r", s(&rules)], None);
     assert_eq!(out.status.code(), Some(2));
     assert!(stderr(&out).contains("\"n\""), "{}", stderr(&out));
     let out = run(
-        &["apply", s(&path), "--counts", "rows", "-r", s(&rules), "-o", "x.parquet"],
+        &[
+            "apply",
+            s(&path),
+            "--counts",
+            "rows",
+            "-r",
+            s(&rules),
+            "-o",
+            "x.parquet",
+        ],
         Some(dir.path()),
     );
     assert_eq!(out.status.code(), Some(2));
@@ -146,11 +209,18 @@ fn counts_that_are_not_numbers_of_rows_are_refused_with_the_row() {
 }
 
 fn as_text(column: &Column) -> StringChunked {
-    column.cast(&DataType::String).unwrap().str().unwrap().clone()
+    column
+        .cast(&DataType::String)
+        .unwrap()
+        .str()
+        .unwrap()
+        .clone()
 }
 
 fn read_parquet(path: &Path) -> DataFrame {
-    ParquetReader::new(std::fs::File::open(path).unwrap()).finish().unwrap()
+    ParquetReader::new(std::fs::File::open(path).unwrap())
+        .finish()
+        .unwrap()
 }
 
 /// Join each column's lookup table to the raw rows on `value` and compare
@@ -160,7 +230,11 @@ fn assert_lookup_joins_to_apply(lookups: &[(&str, PathBuf)], applied: &Path) {
     let applied = read_parquet(applied);
     for (column, path) in lookups {
         let lookup = read_parquet(path);
-        let names: Vec<&str> = lookup.get_column_names().iter().map(|n| n.as_str()).collect();
+        let names: Vec<&str> = lookup
+            .get_column_names()
+            .iter()
+            .map(|n| n.as_str())
+            .collect();
         assert_eq!(names[..2], ["value", "rows"]);
         let index: HashMap<&str, usize> = lookup
             .column("value")
@@ -197,7 +271,16 @@ fn the_lookup_table_joined_to_the_rows_is_what_apply_writes() {
     let (engine, transmission) = (ruleset("engine.toml"), ruleset("transmission.toml"));
     let applied = d.join("applied.parquet");
     let out = run(
-        &["apply", s(&sample_csv()), "-r", s(&engine), "-r", s(&transmission), "-o", s(&applied)],
+        &[
+            "apply",
+            s(&sample_csv()),
+            "-r",
+            s(&engine),
+            "-r",
+            s(&transmission),
+            "-o",
+            s(&applied),
+        ],
         None,
     );
     assert!(out.status.success(), "{}", stderr(&out));
@@ -205,12 +288,24 @@ fn the_lookup_table_joined_to_the_rows_is_what_apply_writes() {
     // Several columns: one table per column in the folder -o.
     let folder = d.join("lookups");
     let out = run(
-        &["lookup", s(&sample_csv()), "-r", s(&engine), "-r", s(&transmission), "-o", s(&folder)],
+        &[
+            "lookup",
+            s(&sample_csv()),
+            "-r",
+            s(&engine),
+            "-r",
+            s(&transmission),
+            "-o",
+            s(&folder),
+        ],
         None,
     );
     assert!(out.status.success(), "{}", stderr(&out));
     assert_lookup_joins_to_apply(
-        &[("engine", folder.join("engine.parquet")), ("transmission", folder.join("transmission.parquet"))],
+        &[
+            ("engine", folder.join("engine.parquet")),
+            ("transmission", folder.join("transmission.parquet")),
+        ],
         &applied,
     );
 
@@ -218,7 +313,16 @@ fn the_lookup_table_joined_to_the_rows_is_what_apply_writes() {
     let vocab = vocabulary_table(d, "engine");
     let from_vocab = d.join("engine.lookup.parquet");
     let out = run(
-        &["lookup", s(&vocab), "--counts", "rows", "-r", s(&engine), "-o", s(&from_vocab)],
+        &[
+            "lookup",
+            s(&vocab),
+            "--counts",
+            "rows",
+            "-r",
+            s(&engine),
+            "-o",
+            s(&from_vocab),
+        ],
         None,
     );
     assert!(out.status.success(), "{}", stderr(&out));
@@ -245,15 +349,23 @@ fn several_columns_into_one_file_is_refused_before_reading() {
     let dir = TempDir::new().unwrap();
     let out = run(
         &[
-            "lookup", "missing.csv", "-r", s(&ruleset("engine.toml")), "-r", s(&ruleset("transmission.toml")),
-            "-o", "one.parquet",
+            "lookup",
+            "missing.csv",
+            "-r",
+            s(&ruleset("engine.toml")),
+            "-r",
+            s(&ruleset("transmission.toml")),
+            "-o",
+            "one.parquet",
         ],
         Some(dir.path()),
     );
     assert_eq!(out.status.code(), Some(2));
     let message = stderr(&out);
     assert!(
-        message.contains("one.parquet") && message.contains("give a folder") && message.contains("\"engine\""),
+        message.contains("one.parquet")
+            && message.contains("give a folder")
+            && message.contains("\"engine\""),
         "{message}"
     );
 }
@@ -268,7 +380,12 @@ fn duckdb_recipe_gives_what_apply_writes() {
     let descry = assert_cmd::cargo::cargo_bin("descry");
     let out = run_python(
         "duckdb_lookup.py",
-        &[s(&descry), s(dir.path()), s(&sample_csv()), s(&root().join("rulesets"))],
+        &[
+            s(&descry),
+            s(dir.path()),
+            s(&sample_csv()),
+            s(&root().join("rulesets")),
+        ],
     );
     assert!(out.contains("rows agree"), "{out}");
 }

@@ -217,7 +217,8 @@ fn update_appends_and_keeps_the_file_byte_for_byte() {
 #[test]
 fn update_reads_numbers_with_the_rulesets_decimal_comma() {
     let dir = tempfile::tempdir().unwrap();
-    let original = "column = \"engine\"\ndecimal = \",\"\n\n[[flag]]\nname = \"diesel\"\nany = [\"diesel\"]\n";
+    let original =
+        "column = \"engine\"\ndecimal = \",\"\n\n[[flag]]\nname = \"diesel\"\nany = [\"diesel\"]\n";
     let rules = write(dir.path(), "engine.toml", original);
     let mut table = String::from("id,engine\n");
     let spellings = [
@@ -245,7 +246,8 @@ fn update_reads_numbers_with_the_rulesets_decimal_comma() {
         .map(|(f, o)| (f.rule.kind(), &o.cell))
         .collect();
     assert!(
-        read.iter().any(|(kind, cell)| *kind == "measure" && **cell == descry::evaluate::Cell::Float(4.5)),
+        read.iter()
+            .any(|(kind, cell)| *kind == "measure" && **cell == descry::evaluate::Cell::Float(4.5)),
         "no measure reads 4.5 from \"motor 4,5 l benzin\": {read:?}\n{text}"
     );
     assert!(

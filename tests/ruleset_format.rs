@@ -212,7 +212,13 @@ fn the_documented_compound_measures_read_what_the_reference_says() {
         .expect("the combine example");
     let rules = Ruleset::from_toml(&block, "docs/rulesets.md").unwrap();
     // 1 ft = 12 in exactly (NIST SP 811, Appendix B.8): 5 ft 6 in = 66 in.
-    for value in ["5 ft 6 in", "5'6\"", "5\u{2032}6\u{2033}", "5\u{2032} 6\u{2033}", "5 feet 6 inches"] {
+    for value in [
+        "5 ft 6 in",
+        "5'6\"",
+        "5\u{2032}6\u{2033}",
+        "5\u{2032} 6\u{2033}",
+        "5 feet 6 inches",
+    ] {
         assert_eq!(reading(&rules, "height_in", value), Float(66.0), "{value}");
     }
     assert_eq!(reading(&rules, "height_in", "6 ft"), Float(72.0));
@@ -256,14 +262,27 @@ fn placeholders_and_blanks_make_every_feature_null() {
     // A placeholder must be the whole value.
     assert_eq!(reading(&rules, "turbo", "n/a turbo"), Bool(true));
     assert_eq!(reading(&rules, "cyl", "- 4 cyl"), Int(4));
-    assert_eq!(reading(&rules, "cyl", "electric"), Int(0), "missing still fills real values");
+    assert_eq!(
+        reading(&rules, "cyl", "electric"),
+        Int(0),
+        "missing still fills real values"
+    );
     // The report counts them apart and leaves them out of coverage.
     let vocab = descry::Vocabulary::build([
-        Some("n/a"), Some("n/a"), Some("TBD"), Some("4 cyl turbo"), Some("electric"), Some(" "), None,
+        Some("n/a"),
+        Some("n/a"),
+        Some("TBD"),
+        Some("4 cyl turbo"),
+        Some("electric"),
+        Some(" "),
+        None,
     ]);
     let eval = rules.evaluate_all(&vocab.values);
     let report = descry::CoverageReport::build(&rules, "engine", &vocab, &eval);
-    assert_eq!((report.placeholder_rows, report.placeholder_distinct), (3, 2));
+    assert_eq!(
+        (report.placeholder_rows, report.placeholder_distinct),
+        (3, 2)
+    );
     assert_eq!((report.blank_rows, report.null_rows), (1, 1));
     assert_eq!(report.coverage.rows_considered, 2);
     // `missing` fills "electric" but does not fire: only "4 cyl turbo" is covered.
@@ -344,7 +363,10 @@ fn an_any_literal_that_looks_like_a_pattern_gets_a_warning() {
     .unwrap();
     assert_eq!(rules.warnings.len(), 2, "{:?}", rules.warnings);
     let first = rules.warnings[0].to_string();
-    assert!(first.starts_with("w.toml:2: rule [[flag]] \"turbo\""), "{first}");
+    assert!(
+        first.starts_with("w.toml:2: rule [[flag]] \"turbo\""),
+        "{first}"
+    );
     assert!(first.contains("`pattern`"), "{first}");
     let vocab = descry::Vocabulary::build([Some("x")]);
     let eval = rules.evaluate_all(&vocab.values);
@@ -363,7 +385,11 @@ fn a_measure_too_large_for_its_type_is_null_and_reported() {
     let out = rules.evaluate(&big);
     assert_eq!(out[0].cell, descry::Cell::Null);
     assert!(!out[0].fired);
-    assert!(matches!(out[0].issue, Some(descry::Issue::NotFinite { .. })), "{:?}", out[0].issue);
+    assert!(
+        matches!(out[0].issue, Some(descry::Issue::NotFinite { .. })),
+        "{:?}",
+        out[0].issue
+    );
     let huge = format!("{} l", "9".repeat(320));
     assert_eq!(rules.evaluate(&huge)[0].cell, descry::Cell::Null);
 }

@@ -305,7 +305,11 @@ fn check_collisions(
                 "{}: --keep names no column {}; the columns are: {}",
                 args.input.input.display(),
                 shown(k),
-                names.iter().map(|n| shown(n)).collect::<Vec<_>>().join(", ")
+                names
+                    .iter()
+                    .map(|n| shown(n))
+                    .collect::<Vec<_>>()
+                    .join(", ")
             );
         }
     }

@@ -7,8 +7,8 @@ use std::process::ExitCode;
 use anyhow::{bail, Context};
 use serde::Serialize;
 
-use descry::render::{check_text, escaped};
 use descry::pipeline::lookup_table_evaluated;
+use descry::render::{check_text, escaped};
 use descry::report::drift::{drift, read_baseline, write_baseline, BaselineFigures, Drop};
 use descry::report::{DriftLimits, Gate};
 use descry::ruleset::ValueKind;
@@ -16,8 +16,8 @@ use descry::write::{check_not_an_input, check_output_file};
 use descry::{CoverageReport, Ruleset};
 
 use super::common::{
-    column_notes, emit, json_out, load_ruleset, parse_share, print_notes, read_vocabularies,
-    ruleset_text, source_column, Format, InputArgs,
+    column_notes, emit, json_out, load_descriptions, parse_share, print_notes, read_vocabularies,
+    ruleset_text, Format, InputArgs,
 };
 
 pub const ABOUT: &str = "\
@@ -118,7 +118,9 @@ pub struct Args {
 fn parse_psi(s: &str) -> Result<f64, String> {
     match s.parse::<f64>() {
         Ok(x) if x.is_finite() && x >= 0.0 => Ok(x),
-        _ => Err(format!("{s:?} is not a PSI limit (a number, 0 or more, e.g. 0.25)")),
+        _ => Err(format!(
+            "{s:?} is not a PSI limit (a number, 0 or more, e.g. 0.25)"
+        )),
     }
 }
 
@@ -154,18 +156,11 @@ struct RulesetGate<'a> {
 pub const CHECKS_SCHEMA: &str = "descry.checks/1";
 
 pub fn run(args: Args) -> anyhow::Result<ExitCode> {
-    if args.column.is_some() && args.rules.len() > 1 {
-        bail!("--column applies to a single ruleset; with several, name each column in its ruleset");
-    }
-    let rulesets = args
-        .rules
-        .iter()
-        .map(|p| load_ruleset(p))
-        .collect::<anyhow::Result<Vec<_>>>()?;
-    let columns = rulesets
-        .iter()
-        .map(|r| source_column(args.column.as_deref(), r))
-        .collect::<anyhow::Result<Vec<_>>>()?;
+    let (rulesets, columns): (Vec<Ruleset>, Vec<String>) =
+        load_descriptions(&args.rules, args.column.as_deref())?
+            .into_iter()
+            .map(|d| (d.rules, d.column))
+            .unzip();
     let required = resolve_requirements(&rulesets, &args.require)?;
     let limits = DriftLimits {
         max_new_share: args.max_new_share,
@@ -188,7 +183,10 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
     let vocabs = read_vocabularies(&args.input, &names, args.quiet)?;
     let mut reports = Vec::new();
     for ((rules, column), vocab) in rulesets.iter().zip(&columns).zip(&vocabs) {
-        print_notes(&column_notes(vocab.rows(), vocab.distinct(), column), args.quiet);
+        print_notes(
+            &column_notes(vocab.rows(), vocab.distinct(), column),
+            args.quiet,
+        );
         let eval = rules.evaluate_all(&vocab.values);
         let mut report = CoverageReport::build(rules, column, vocab, &eval);
         let mine: Vec<(usize, f64)> = required
@@ -214,9 +212,18 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
                 let old = Drop { table, figures };
                 let classify = |i: usize| {
                     let considered = rules.kind_of(&eval.normalized[i]) == ValueKind::Considered;
-                    (considered, considered && eval.outcomes[i].iter().any(|o| o.fired))
+                    (
+                        considered,
+                        considered && eval.outcomes[i].iter().any(|o| o.fired),
+                    )
                 };
-                report.drift = Some(drift(&base.display().to_string(), &old, &drop, rules, classify)?);
+                report.drift = Some(drift(
+                    &base.display().to_string(),
+                    &old,
+                    &drop,
+                    rules,
+                    classify,
+                )?);
                 report.judge_drift(&limits);
             }
             if let Some(save) = &saves[reports.len()] {
@@ -235,7 +242,12 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
         Format::Json => {
             let gates = reports
                 .iter()
-                .flat_map(|r| r.gates.iter().map(|g| RulesetGate { ruleset: &r.ruleset, gate: g }))
+                .flat_map(|r| {
+                    r.gates.iter().map(|g| RulesetGate {
+                        ruleset: &r.ruleset,
+                        gate: g,
+                    })
+                })
                 .collect();
             let all = Checks {
                 schema: CHECKS_SCHEMA,
@@ -281,15 +293,25 @@ fn this_drop(
 /// The baseline file of each ruleset: `path` itself for one ruleset; for
 /// several, `path` is a folder (created when `create`) holding one file per
 /// ruleset, named after the ruleset file's stem.
-fn baseline_paths(path: Option<&Path>, rules: &[PathBuf], create: bool) -> anyhow::Result<Vec<Option<PathBuf>>> {
+fn baseline_paths(
+    path: Option<&Path>,
+    rules: &[PathBuf],
+    create: bool,
+) -> anyhow::Result<Vec<Option<PathBuf>>> {
     let Some(path) = path else {
         return Ok(vec![None; rules.len()]);
     };
     if rules.len() == 1 {
         if create {
             check_output_file(path)?;
-            if !path.extension().is_some_and(|e| e.eq_ignore_ascii_case("parquet")) {
-                bail!("{}: a baseline is a Parquet file; name it *.parquet", path.display());
+            if !path
+                .extension()
+                .is_some_and(|e| e.eq_ignore_ascii_case("parquet"))
+            {
+                bail!(
+                    "{}: a baseline is a Parquet file; name it *.parquet",
+                    path.display()
+                );
             }
         }
         return Ok(vec![Some(path.to_owned())]);
@@ -312,10 +334,15 @@ fn baseline_paths(path: Option<&Path>, rules: &[PathBuf], create: bool) -> anyho
     }
     let mut out: Vec<Option<PathBuf>> = Vec::new();
     for r in rules {
-        let stem = r.file_stem().map_or("ruleset".into(), |s| s.to_string_lossy().into_owned());
+        let stem = r
+            .file_stem()
+            .map_or("ruleset".into(), |s| s.to_string_lossy().into_owned());
         let file = path.join(format!("{stem}.parquet"));
         if out.iter().any(|p| p.as_deref() == Some(file.as_path())) {
-            bail!("two rulesets are named {stem:?}; their baselines would share {}", file.display());
+            bail!(
+                "two rulesets are named {stem:?}; their baselines would share {}",
+                file.display()
+            );
         }
         if create {
             check_output_file(&file)?;
@@ -334,16 +361,21 @@ fn resolve_requirements<'a>(
 ) -> anyhow::Result<Vec<(&'a Ruleset, usize, f64)>> {
     let mut out = Vec::new();
     for (name, share) in require {
-        let matching = |same: &dyn Fn(&descry::ruleset::Feature) -> bool| -> Vec<(&Ruleset, usize)> {
-            rulesets
-                .iter()
-                .flat_map(|r| r.features.iter().enumerate().map(move |(i, f)| (r, i, f)))
-                .filter(|(_, _, f)| same(f))
-                .map(|(r, i, _)| (r, i))
-                .collect()
-        };
+        let matching =
+            |same: &dyn Fn(&descry::ruleset::Feature) -> bool| -> Vec<(&Ruleset, usize)> {
+                rulesets
+                    .iter()
+                    .flat_map(|r| r.features.iter().enumerate().map(move |(i, f)| (r, i, f)))
+                    .filter(|(_, _, f)| same(f))
+                    .map(|(r, i, _)| (r, i))
+                    .collect()
+            };
         let by_output = matching(&|f| f.output == *name);
-        let found = if by_output.is_empty() { matching(&|f| f.name == *name) } else { by_output };
+        let found = if by_output.is_empty() {
+            matching(&|f| f.name == *name)
+        } else {
+            by_output
+        };
         match found.as_slice() {
             [(r, i)] => out.push((*r, *i, *share)),
             [] => {

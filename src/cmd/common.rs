@@ -86,7 +86,10 @@ const MAX_RULESET_BYTES: u64 = 16 << 20;
 pub fn ruleset_text(path: &Path) -> anyhow::Result<String> {
     use std::io::Read;
     let file = std::fs::File::open(path).map_err(|e| {
-        anyhow::anyhow!("{}: cannot read the ruleset: {e}; check the path given to --rules", path.display())
+        anyhow::anyhow!(
+            "{}: cannot read the ruleset: {e}; check the path given to --rules",
+            path.display()
+        )
     })?;
     let mut bytes = Vec::new();
     file.take(MAX_RULESET_BYTES + 1)
@@ -99,8 +102,13 @@ pub fn ruleset_text(path: &Path) -> anyhow::Result<String> {
             MAX_RULESET_BYTES >> 20
         );
     }
-    String::from_utf8(bytes)
-        .map_err(|e| anyhow::anyhow!("{}: the ruleset is not UTF-8 text (byte {})", path.display(), e.utf8_error().valid_up_to()))
+    String::from_utf8(bytes).map_err(|e| {
+        anyhow::anyhow!(
+            "{}: the ruleset is not UTF-8 text (byte {})",
+            path.display(),
+            e.utf8_error().valid_up_to()
+        )
+    })
 }
 
 /// Check, before any work, that a ruleset descry is about to rewrite (or
@@ -132,7 +140,9 @@ pub fn load_descriptions(
     column: Option<&str>,
 ) -> anyhow::Result<Vec<descry::pipeline::Description>> {
     if column.is_some() && rules.len() > 1 {
-        bail!("--column applies to a single ruleset; with several, name each column in its ruleset");
+        bail!(
+            "--column applies to a single ruleset; with several, name each column in its ruleset"
+        );
     }
     rules
         .iter()
@@ -194,7 +204,10 @@ pub fn read_vocabularies(
         },
     )?;
     print_notes(&notes, quiet);
-    let vocabs: Vec<Vocabulary> = growing.iter().map(GrowingVocabulary::to_vocabulary).collect();
+    let vocabs: Vec<Vocabulary> = growing
+        .iter()
+        .map(GrowingVocabulary::to_vocabulary)
+        .collect();
     Ok(columns
         .iter()
         .map(|c| vocabs[distinct.iter().position(|d| d == c).expect("listed")].clone())
@@ -220,16 +233,26 @@ fn read_counted(
         );
     };
     if counts == *column {
-        bail!("{}: --counts names the described column {}; name the column of row counts", path.display(), shown(column));
+        bail!(
+            "{}: --counts names the described column {}; name the column of row counts",
+            path.display(),
+            shown(column)
+        );
     }
     let mut builder = CountedVocabulary::default();
     let mut row = 0u64;
-    let notes = for_each_batch(path, &[column], Some(&[column, counts]), &input.read_options(), 1 << 20, |batch| {
-        let values = batch_text(&batch, column, path)?;
-        let rows = row_counts(&batch, counts, path, row)?;
-        for (value, n) in values.into_iter().zip(rows) {
-            if !builder.add(value, n) {
-                return Err(descry::Error::Input {
+    let notes = for_each_batch(
+        path,
+        &[column],
+        Some(&[column, counts]),
+        &input.read_options(),
+        1 << 20,
+        |batch| {
+            let values = batch_text(&batch, column, path)?;
+            let rows = row_counts(&batch, counts, path, row)?;
+            for (value, n) in values.into_iter().zip(rows) {
+                if !builder.add(value, n) {
+                    return Err(descry::Error::Input {
                     path: path.to_owned(),
                     message: format!(
                         "the --counts column {} adds up to more than {} rows; the counts cannot be right",
@@ -237,11 +260,12 @@ fn read_counted(
                         u64::MAX
                     ),
                 });
+                }
             }
-        }
-        row += batch.height() as u64;
-        Ok(())
-    })?;
+            row += batch.height() as u64;
+            Ok(())
+        },
+    )?;
     print_notes(&notes, quiet);
     Ok(builder.finish())
 }
@@ -260,8 +284,13 @@ fn row_counts(
         path: path.to_owned(),
         message,
     };
-    let column = batch.column(counts).map_err(|e| input_error(e.to_string()))?;
-    if !(column.dtype().is_integer() || column.dtype().is_float() || column.dtype() == &DataType::String) {
+    let column = batch
+        .column(counts)
+        .map_err(|e| input_error(e.to_string()))?;
+    if !(column.dtype().is_integer()
+        || column.dtype().is_float()
+        || column.dtype() == &DataType::String)
+    {
         return Err(input_error(format!(
             "the --counts column {} holds {} values, not numbers of rows",
             shown(counts),

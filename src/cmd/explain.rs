@@ -86,17 +86,24 @@ fn values_from(path: &std::path::Path) -> anyhow::Result<Vec<String>> {
         if std::io::stdin().is_terminal() {
             bail!("--values -: standard input is a terminal; pipe the values in, one per line");
         }
-        std::io::stdin().take(MAX_VALUES_BYTES + 1).read_to_end(&mut bytes)
+        std::io::stdin()
+            .take(MAX_VALUES_BYTES + 1)
+            .read_to_end(&mut bytes)
     } else {
-        std::fs::File::open(path)
-            .and_then(|f| f.take(MAX_VALUES_BYTES + 1).read_to_end(&mut bytes))
+        std::fs::File::open(path).and_then(|f| f.take(MAX_VALUES_BYTES + 1).read_to_end(&mut bytes))
     };
     read.with_context(|| format!("cannot read the values from {what}"))?;
     if bytes.len() as u64 > MAX_VALUES_BYTES {
-        bail!("{what}: more than {} MiB of values; explain is for looking at values one by one", MAX_VALUES_BYTES >> 20);
+        bail!(
+            "{what}: more than {} MiB of values; explain is for looking at values one by one",
+            MAX_VALUES_BYTES >> 20
+        );
     }
     let text = String::from_utf8(bytes).map_err(|e| {
-        anyhow::anyhow!("{what}: invalid UTF-8 at byte {}; the values must be UTF-8 text", e.utf8_error().valid_up_to())
+        anyhow::anyhow!(
+            "{what}: invalid UTF-8 at byte {}; the values must be UTF-8 text",
+            e.utf8_error().valid_up_to()
+        )
     })?;
     Ok(text
         .lines()
@@ -122,7 +129,13 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
             if !text.is_empty() {
                 text.push('\n');
             }
-            text.push_str(&explain_text(&rules, value, &normalized, &traces, args.fired));
+            text.push_str(&explain_text(
+                &rules,
+                value,
+                &normalized,
+                &traces,
+                args.fired,
+            ));
             continue;
         }
         let features = rules

@@ -70,7 +70,8 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
     let outputs = output_paths(&args, &columns)?;
     let names: Vec<&str> = columns.iter().map(|(c, _)| c.as_str()).collect();
     let vocabs = read_vocabularies(&args.input, &names, args.quiet)?;
-    for (((column, descriptions), vocab), output) in columns.into_iter().zip(&vocabs).zip(&outputs) {
+    for (((column, descriptions), vocab), output) in columns.into_iter().zip(&vocabs).zip(&outputs)
+    {
         let rulesets: Vec<&descry::Ruleset> = descriptions.iter().map(|d| &d.rules).collect();
         let frame = lookup_table(vocab, &rulesets)?;
         let format = descry::write::OutputFormat::of(output)?;
@@ -91,7 +92,11 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
 
 /// A feature may not be named like the lookup table's own columns.
 fn check_names(rules: &descry::Ruleset) -> anyhow::Result<()> {
-    if let Some(f) = rules.features.iter().find(|f| f.output == VALUE || f.output == ROWS) {
+    if let Some(f) = rules
+        .features
+        .iter()
+        .find(|f| f.output == VALUE || f.output == ROWS)
+    {
         bail!(
             "{}:{}: rule [[{}]] \"{}\" would write column \"{}\", which the lookup table uses for itself; \
              rename the rule or set a `prefix` in the ruleset",
@@ -107,7 +112,10 @@ fn check_names(rules: &descry::Ruleset) -> anyhow::Result<()> {
 
 /// Where each column's table goes: -o itself for one column; for several,
 /// a file per column in the folder -o. Checked before anything is read.
-fn output_paths(args: &Args, columns: &[(String, Vec<Description>)]) -> anyhow::Result<Vec<PathBuf>> {
+fn output_paths(
+    args: &Args,
+    columns: &[(String, Vec<Description>)],
+) -> anyhow::Result<Vec<PathBuf>> {
     let inputs: Vec<&Path> = std::iter::once(args.input.input.as_path())
         .chain(args.rules.iter().map(PathBuf::as_path))
         .collect();
@@ -158,7 +166,13 @@ fn output_paths(args: &Args, columns: &[(String, Vec<Description>)]) -> anyhow::
 fn file_stem(column: &str) -> String {
     let stem: String = column
         .chars()
-        .map(|c| if c.is_alphanumeric() || matches!(c, '-' | '_' | '.') { c } else { '_' })
+        .map(|c| {
+            if c.is_alphanumeric() || matches!(c, '-' | '_' | '.') {
+                c
+            } else {
+                '_'
+            }
+        })
         .collect();
     match stem.trim_start_matches('.') {
         "" => "column".to_owned(),

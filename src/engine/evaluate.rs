@@ -161,7 +161,11 @@ impl Ruleset {
     pub fn explain(&self, normalized: &str) -> Vec<Trace> {
         let kind = self.kind_of(normalized);
         if kind != ValueKind::Considered {
-            let what = if kind == ValueKind::Blank { "blank" } else { "placeholder" };
+            let what = if kind == ValueKind::Blank {
+                "blank"
+            } else {
+                "placeholder"
+            };
             let step = Step {
                 what: what.to_owned(),
                 matched: true,
@@ -267,15 +271,18 @@ fn number_matches(
             break;
         };
         let number = number_group(&found, number_groups);
-        let inside_digits = number.is_some_and(|r| {
-            r.start > 0 && text.as_bytes()[r.start - 1].is_ascii_digit()
-        });
+        let inside_digits =
+            number.is_some_and(|r| r.start > 0 && text.as_bytes()[r.start - 1].is_ascii_digit());
         let next_char = |i: usize| i + text[i..].chars().next().map_or(1, char::len_utf8);
         if inside_digits {
             at = next_char(found.span.start);
             continue;
         }
-        at = if found.span.is_empty() { next_char(found.span.end) } else { found.span.end };
+        at = if found.span.is_empty() {
+            next_char(found.span.end)
+        } else {
+            found.span.end
+        };
         out.push(found);
         if !all {
             break;
@@ -302,7 +309,11 @@ fn record_matches(steps: &mut Steps, text: &str, found: &Result<Vec<Found>, Matc
     match found {
         Ok(list) if !list.is_empty() => {
             for (i, f) in list.iter().enumerate() {
-                let what = if i == 0 { "rule".to_owned() } else { format!("rule, match {}", i + 1) };
+                let what = if i == 0 {
+                    "rule".to_owned()
+                } else {
+                    format!("rule, match {}", i + 1)
+                };
                 s.push(Step::from_match(what, text, &Ok(Some(f.clone()))));
             }
         }

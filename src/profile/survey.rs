@@ -30,7 +30,8 @@ use unicode_normalization::UnicodeNormalization;
 use crate::normalize::Normalizer;
 use crate::render::{shown, thousands};
 use crate::shape::{
-    class, digit_signature, is_bidi_control, is_zero_width, letters_and_digits, shape, tokens, CharClass,
+    class, digit_signature, is_bidi_control, is_zero_width, letters_and_digits, shape, tokens,
+    CharClass,
 };
 use crate::vocabulary::Vocabulary;
 
@@ -928,10 +929,21 @@ mod tests {
     #[test]
     fn punctuation_variants_keep_numbers_apart() {
         // `67` and `6.7` differ only by a period, but name different numbers.
-        let r = run(&[Some("67 hp"), Some("6.7 hp"), Some("6,7 hp"), Some("2.5-ton"), Some("2.5 ton")]);
+        let r = run(&[
+            Some("67 hp"),
+            Some("6.7 hp"),
+            Some("6,7 hp"),
+            Some("2.5-ton"),
+            Some("2.5 ton"),
+        ]);
         let punct = anomaly(&r, AnomalyKind::PunctuationVariants);
         // {6.7 hp, 6,7 hp} (the same digits) and {2.5-ton, 2.5 ton}.
-        assert_eq!((punct.groups, punct.distinct), (Some(2), 4), "{:?}", punct.examples);
+        assert_eq!(
+            (punct.groups, punct.distinct),
+            (Some(2), 4),
+            "{:?}",
+            punct.examples
+        );
         let shown = format!("{:?}", punct.examples);
         assert!(!shown.contains("\"67 hp\""), "{shown}");
     }

@@ -384,7 +384,8 @@ pub fn propose_more(
     for (i, outcomes) in eval.outcomes.iter().enumerate() {
         // Blank values and placeholders are left out, as `check` leaves
         // them out of the unmatched values.
-        let considered = existing.kind_of(&eval.normalized[i]) == crate::ruleset::ValueKind::Considered;
+        let considered =
+            existing.kind_of(&eval.normalized[i]) == crate::ruleset::ValueKind::Considered;
         if considered && !outcomes.iter().any(|o| o.fired) {
             rest.values.push(vocab.values[i].clone());
             rest.counts.push(vocab.counts[i]);

@@ -93,7 +93,11 @@ pub struct Drop {
 
 /// Write a baseline: the lookup table with the figures in its metadata,
 /// atomically.
-pub fn write_baseline(path: &Path, table: DataFrame, figures: &BaselineFigures) -> Result<(), Error> {
+pub fn write_baseline(
+    path: &Path,
+    table: DataFrame,
+    figures: &BaselineFigures,
+) -> Result<(), Error> {
     let output_error = |message: String| Error::Output {
         path: path.to_owned(),
         message,
@@ -118,7 +122,8 @@ pub fn read_baseline(path: &Path) -> Result<(DataFrame, BaselineFigures), Error>
         path: path.to_owned(),
         message,
     };
-    let file = std::fs::File::open(path).map_err(|e| input_error(format!("cannot open the baseline: {e}")))?;
+    let file = std::fs::File::open(path)
+        .map_err(|e| input_error(format!("cannot open the baseline: {e}")))?;
     let mut reader = ParquetReader::new(file);
     let figures = reader
         .get_metadata()
@@ -140,7 +145,9 @@ pub fn read_baseline(path: &Path) -> Result<(DataFrame, BaselineFigures), Error>
             figures.schema
         )));
     }
-    let table = reader.finish().map_err(|e| input_error(format!("cannot read the baseline: {e}")))?;
+    let table = reader
+        .finish()
+        .map_err(|e| input_error(format!("cannot read the baseline: {e}")))?;
     Ok((table, figures))
 }
 
@@ -246,7 +253,8 @@ pub fn drift(
     let new_values_column = new.table.column(LOOKUP_VALUE)?.str()?;
     // One index of the baseline's values; each new value is looked up once,
     // and the baseline values never found are the gone ones.
-    let mut old_index: hashbrown::HashMap<&str, usize> = hashbrown::HashMap::with_capacity(old_values.len());
+    let mut old_index: hashbrown::HashMap<&str, usize> =
+        hashbrown::HashMap::with_capacity(old_values.len());
     for (i, v) in old_values.iter().enumerate() {
         old_index.insert(v.unwrap_or_default(), i);
     }
@@ -287,7 +295,13 @@ pub fn drift(
         })
         .collect();
     gone_values.sort_by_key(|v| std::cmp::Reverse(v.rows));
-    let share = |part: u64, whole: u64| if whole == 0 { 0.0 } else { part as f64 / whole as f64 };
+    let share = |part: u64, whole: u64| {
+        if whole == 0 {
+            0.0
+        } else {
+            part as f64 / whole as f64
+        }
+    };
 
     let mut out = Drift {
         baseline: baseline_path.to_owned(),
@@ -316,7 +330,8 @@ pub fn drift(
         });
     }
     for f in &rules.features {
-        let (Ok(before), Ok(after)) = (old.table.column(&f.output), new.table.column(&f.output)) else {
+        let (Ok(before), Ok(after)) = (old.table.column(&f.output), new.table.column(&f.output))
+        else {
             continue;
         };
         match &f.rule {
@@ -346,9 +361,17 @@ pub fn drift(
                 }
                 let pairs: Vec<(u64, u64)> = categories
                     .iter()
-                    .map(|c| (b.get(c).copied().unwrap_or(0), a.get(c).copied().unwrap_or(0)))
+                    .map(|c| {
+                        (
+                            b.get(c).copied().unwrap_or(0),
+                            a.get(c).copied().unwrap_or(0),
+                        )
+                    })
                     .collect();
-                let (tb, ta) = (pairs.iter().map(|p| p.0).sum::<u64>(), pairs.iter().map(|p| p.1).sum::<u64>());
+                let (tb, ta) = (
+                    pairs.iter().map(|p| p.0).sum::<u64>(),
+                    pairs.iter().map(|p| p.1).sum::<u64>(),
+                );
                 out.labels.push(LabelShift {
                     name: f.name.clone(),
                     output: f.output.clone(),
@@ -370,7 +393,11 @@ pub fn drift(
             Rule::Count(_) | Rule::Measure(_) => {
                 let sample = |column: &Column, w: &[u64]| -> PolarsResult<Vec<(f64, u64)>> {
                     let x = column.cast(&DataType::Float64)?;
-                    Ok(x.f64()?.iter().zip(w).filter_map(|(v, &n)| v.map(|v| (v, n))).collect())
+                    Ok(x.f64()?
+                        .iter()
+                        .zip(w)
+                        .filter_map(|(v, &n)| v.map(|v| (v, n)))
+                        .collect())
                 };
                 let (b, a) = (sample(before, &old_weights)?, sample(after, &new_weights)?);
                 let ks = ks_two_sample(&b, &a);
@@ -426,9 +453,17 @@ pub fn psi(pairs: &[(u64, u64)]) -> f64 {
         .iter()
         .filter(|&&(b, a)| b + a > 0)
         .map(|&(b, a)| (b as f64, a as f64))
-        .map(|(b, a)| (if b == 0.0 { 0.5 } else { b }, if a == 0.0 { 0.5 } else { a }))
+        .map(|(b, a)| {
+            (
+                if b == 0.0 { 0.5 } else { b },
+                if a == 0.0 { 0.5 } else { a },
+            )
+        })
         .collect();
-    let (tb, ta) = (kept.iter().map(|p| p.0).sum::<f64>(), kept.iter().map(|p| p.1).sum::<f64>());
+    let (tb, ta) = (
+        kept.iter().map(|p| p.0).sum::<f64>(),
+        kept.iter().map(|p| p.1).sum::<f64>(),
+    );
     if tb == 0.0 || ta == 0.0 {
         return 0.0;
     }
@@ -450,7 +485,10 @@ pub fn chi_square_p(pairs: &[(u64, u64)]) -> f64 {
         .filter(|&&(b, a)| b + a > 0)
         .map(|&(b, a)| (b as f64, a as f64))
         .collect();
-    let (tb, ta) = (kept.iter().map(|p| p.0).sum::<f64>(), kept.iter().map(|p| p.1).sum::<f64>());
+    let (tb, ta) = (
+        kept.iter().map(|p| p.0).sum::<f64>(),
+        kept.iter().map(|p| p.1).sum::<f64>(),
+    );
     if kept.len() < 2 || tb == 0.0 || ta == 0.0 {
         return 1.0;
     }

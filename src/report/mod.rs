@@ -200,7 +200,11 @@ impl CoverageReport {
             examples: check_examples(rules),
             examples_failed: 0,
             placeholders: Vec::new(),
-            warnings: rules.warnings.iter().map(RulesetWarning::to_string).collect(),
+            warnings: rules
+                .warnings
+                .iter()
+                .map(RulesetWarning::to_string)
+                .collect(),
             gates: Vec::new(),
             passed: true,
             drift: None,
@@ -355,7 +359,12 @@ impl CoverageReport {
             let hit = self.rules[index].rows_hit;
             let value = (considered > 0).then(|| hit as f64 / considered as f64);
             let reason = match value {
-                None => Some(format!("--require {}={}: {}", feature.output, min, nothing())),
+                None => Some(format!(
+                    "--require {}={}: {}",
+                    feature.output,
+                    min,
+                    nothing()
+                )),
                 Some(v) if v < min => {
                     let (v, m) = percents_apart(v, min);
                     Some(format!(
@@ -382,7 +391,8 @@ impl CoverageReport {
                 threshold: None,
                 value: Some((self.examples.len() - failed) as f64 / self.examples.len() as f64),
                 passed: failed == 0,
-                reason: (failed > 0).then(|| format!("{failed} of {} examples failed", self.examples.len())),
+                reason: (failed > 0)
+                    .then(|| format!("{failed} of {} examples failed", self.examples.len())),
             });
         }
         self.passed = gates.iter().all(|g| g.passed);
@@ -436,7 +446,10 @@ impl CoverageReport {
             "max_new_share",
             limits.max_new_share,
             d.new_row_share,
-            format!("the share of rows on values the baseline never saw, {},", percent_of(d.new_row_share)),
+            format!(
+                "the share of rows on values the baseline never saw, {},",
+                percent_of(d.new_row_share)
+            ),
         );
         above(
             "max_new_uncovered_share",
@@ -453,7 +466,11 @@ impl CoverageReport {
             limits.max_psi,
             worst_label.map_or(0.0, |l| l.psi),
             worst_label.map_or("no label".to_owned(), |l| {
-                format!("the PSI of label {}, {:.4},", crate::render::shown(&l.output), l.psi)
+                format!(
+                    "the PSI of label {}, {:.4},",
+                    crate::render::shown(&l.output),
+                    l.psi
+                )
             }),
         );
         let shift = |r: &drift::RuleShift| (r.share_after - r.share_before).abs();
@@ -478,9 +495,8 @@ impl CoverageReport {
 
     /// The gate on coverage and examples alone (see [`CoverageReport::judge`]).
     pub fn passes(&self, min_coverage: Option<f64>) -> bool {
-        let coverage_ok = min_coverage.is_none_or(|min| {
-            self.coverage.rows_considered > 0 && self.coverage.row_share >= min
-        });
+        let coverage_ok = min_coverage
+            .is_none_or(|min| self.coverage.rows_considered > 0 && self.coverage.row_share >= min);
         coverage_ok && self.examples_failed == 0
     }
 }
@@ -495,11 +511,16 @@ pub fn percents_apart(a: f64, b: f64) -> (String, String) {
     // Enough digits that the two differ and the threshold is shown as
     // given (99.995% must not show as 100.00%).
     let exact = |x: f64, digits: usize| {
-        let shown: f64 = format!("{:.*}", digits, x * 100.0).parse().unwrap_or(f64::NAN);
+        let shown: f64 = format!("{:.*}", digits, x * 100.0)
+            .parse()
+            .unwrap_or(f64::NAN);
         (shown - x * 100.0).abs() < 1e-9
     };
     for digits in 2..=12 {
-        let (x, y) = (format!("{:.*}%", digits, a * 100.0), format!("{:.*}%", digits, b * 100.0));
+        let (x, y) = (
+            format!("{:.*}%", digits, a * 100.0),
+            format!("{:.*}%", digits, b * 100.0),
+        );
         if a == b || (x != y && exact(b, digits)) {
             return (x, y);
         }

@@ -147,7 +147,10 @@ pub fn check_text(r: &CoverageReport, top: usize) -> String {
 fn drift_section(out: &mut String, d: &crate::report::drift::Drift, top: usize) {
     let _ = writeln!(out, "\ndrift since the baseline {}", d.baseline);
     if d.ruleset_changed {
-        let _ = writeln!(out, "  the ruleset changed since the baseline; compared all the same");
+        let _ = writeln!(
+            out,
+            "  the ruleset changed since the baseline; compared all the same"
+        );
     }
     let _ = writeln!(
         out,
@@ -159,10 +162,18 @@ fn drift_section(out: &mut String, d: &crate::report::drift::Drift, top: usize) 
     );
     for v in d.new_values.iter().take(top) {
         let mark = if v.covered { "covered" } else { "unmatched" };
-        let _ = writeln!(out, "  {:>9}  {mark:<9}  {}", thousands(v.rows), shown(&v.value));
+        let _ = writeln!(
+            out,
+            "  {:>9}  {mark:<9}  {}",
+            thousands(v.rows),
+            shown(&v.value)
+        );
     }
     if !d.rules.is_empty() {
-        let _ = writeln!(out, "  rule shares of rows with text (before -> after, p-value):");
+        let _ = writeln!(
+            out,
+            "  rule shares of rows with text (before -> after, p-value):"
+        );
         for r in &d.rules {
             let _ = writeln!(
                 out,
@@ -223,7 +234,11 @@ fn gates_section(out: &mut String, r: &CoverageReport) {
         return;
     }
     let failed = asked.iter().filter(|g| !g.passed).count();
-    let _ = writeln!(out, "\ngates: {} passed, {failed} failed", asked.len() - failed);
+    let _ = writeln!(
+        out,
+        "\ngates: {} passed, {failed} failed",
+        asked.len() - failed
+    );
     for g in asked {
         let threshold = g.threshold.unwrap_or(0.0);
         let what = match (&g.feature, g.gate) {
@@ -298,7 +313,11 @@ fn placeholders_section(out: &mut String, r: &CoverageReport, top: usize) {
         out,
         "\nplaceholders (every feature null, left out of coverage): {}{}",
         listed.join(", "),
-        if more > 0 { format!(" and {more} more") } else { String::new() }
+        if more > 0 {
+            format!(" and {more} more")
+        } else {
+            String::new()
+        }
     );
 }
 
@@ -363,7 +382,11 @@ fn conflicts_section(out: &mut String, r: &CoverageReport, top: usize) {
             escaped(&c.rule),
             shown(&c.value),
             escaped(&c.chosen),
-            c.also.iter().map(|a| escaped(a)).collect::<Vec<_>>().join(", "),
+            c.also
+                .iter()
+                .map(|a| escaped(a))
+                .collect::<Vec<_>>()
+                .join(", "),
         ]);
     }
     right_align(&mut t, 0..1);

@@ -162,8 +162,12 @@ impl Describer {
 /// by the values of the whole vocabulary, as `apply`'s first pass does).
 /// Joined to the rows on `value`, it gives what `apply` writes.
 pub fn lookup_table(vocab: &crate::Vocabulary, rulesets: &[&Ruleset]) -> PolarsResult<DataFrame> {
-    let evaluations: Vec<crate::Evaluation> = rulesets.iter().map(|r| r.evaluate_all(&vocab.values)).collect();
-    let pairs: Vec<(&Ruleset, &crate::Evaluation)> = rulesets.iter().copied().zip(&evaluations).collect();
+    let evaluations: Vec<crate::Evaluation> = rulesets
+        .iter()
+        .map(|r| r.evaluate_all(&vocab.values))
+        .collect();
+    let pairs: Vec<(&Ruleset, &crate::Evaluation)> =
+        rulesets.iter().copied().zip(&evaluations).collect();
     lookup_table_evaluated(vocab, &pairs)
 }
 

@@ -19,7 +19,9 @@ use crate::render::shown;
 /// A table format, chosen from a path's extension.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum TableFormat {
-    Csv { delimiter: u8 },
+    Csv {
+        delimiter: u8,
+    },
     Parquet,
     Ipc,
     NdJson,
@@ -202,7 +204,13 @@ impl Input {
     /// for Parquet and IPC what polars can read of each column.
     #[allow(clippy::type_complexity)]
     fn read_names(&self) -> PolarsResult<(Vec<String>, Option<Vec<String>>, Option<FileColumns>)> {
-        let names = |frame: DataFrame| frame.get_column_names().iter().map(|s| s.to_string()).collect();
+        let names = |frame: DataFrame| {
+            frame
+                .get_column_names()
+                .iter()
+                .map(|s| s.to_string())
+                .collect()
+        };
         Ok(match self.format {
             TableFormat::Parquet => {
                 let columns = schema::parquet_columns(&self.file)?;
@@ -216,7 +224,9 @@ impl Input {
                 let (header, polars_names) = csv_names(&self.file, delimiter, &self.opts)?;
                 (header, Some(polars_names), None)
             }
-            TableFormat::NdJson | TableFormat::Json => (names(read_json(&self.file, self.format)?), None, None),
+            TableFormat::NdJson | TableFormat::Json => {
+                (names(read_json(&self.file, self.format)?), None, None)
+            }
         })
     }
 
@@ -241,11 +251,18 @@ impl Input {
     /// A lazy scan of the `projection` columns (all when `None`), checking
     /// first that `text_columns` exist; they are cast to text unless types
     /// are kept.
-    pub fn scan(&self, text_columns: &[&str], projection: Option<&[&str]>) -> Result<StreamedTable, Error> {
+    pub fn scan(
+        &self,
+        text_columns: &[&str],
+        projection: Option<&[&str]>,
+    ) -> Result<StreamedTable, Error> {
         self.check_columns(text_columns, projection)?;
         let fail = |e| self.error(e);
-        let text_only = projection.is_some_and(|cols| cols.iter().all(|c| text_columns.contains(c)));
-        let mut lazy = self.lazy(text_only, text_columns, projection).map_err(fail)?;
+        let text_only =
+            projection.is_some_and(|cols| cols.iter().all(|c| text_columns.contains(c)));
+        let mut lazy = self
+            .lazy(text_only, text_columns, projection)
+            .map_err(fail)?;
         if let Some(cols) = projection {
             lazy = lazy.select(cols.iter().map(|c| col(*c)).collect::<Vec<_>>());
             if matches!(self.format, TableFormat::Csv { .. }) {
@@ -339,12 +356,19 @@ impl Input {
 
     /// Check that `text_columns` exist and that the columns to read (all
     /// when `projection` is `None`) can be told apart and read.
-    fn check_columns(&self, text_columns: &[&str], projection: Option<&[&str]>) -> Result<(), Error> {
+    fn check_columns(
+        &self,
+        text_columns: &[&str],
+        projection: Option<&[&str]>,
+    ) -> Result<(), Error> {
         let input = |message: String| Error::Input {
             path: self.path.clone(),
             message,
         };
-        if let Some(missing) = text_columns.iter().find(|c| !self.names.iter().any(|n| n == *c)) {
+        if let Some(missing) = text_columns
+            .iter()
+            .find(|c| !self.names.iter().any(|n| n == *c))
+        {
             return Err(Error::MissingColumn {
                 path: self.path.clone(),
                 column: escaped_name(missing),
@@ -366,7 +390,10 @@ impl Input {
         let Some(file) = &self.file_columns else {
             return Ok(());
         };
-        if let Some((name, dtype)) = read.iter().find_map(|c| file.unsupported_type(c).map(|t| (c, t))) {
+        if let Some((name, dtype)) = read
+            .iter()
+            .find_map(|c| file.unsupported_type(c).map(|t| (c, t)))
+        {
             return Err(input(format!(
                 "column {} has the type {dtype}, which descry cannot read (its polars is built without \
                  that type); convert the column to a plain type, or leave it out (apply --only-features \
@@ -386,8 +413,16 @@ impl Input {
     /// only the described columns: a column inferred as integers from its
     /// first rows must not fail the read at a value such as
     /// 9223372036854775808.
-    fn lazy(&self, text_only: bool, text_columns: &[&str], projection: Option<&[&str]>) -> PolarsResult<LazyFrame> {
-        let scannable = self.file_columns.as_ref().is_none_or(FileColumns::all_readable);
+    fn lazy(
+        &self,
+        text_only: bool,
+        text_columns: &[&str],
+        projection: Option<&[&str]>,
+    ) -> PolarsResult<LazyFrame> {
+        let scannable = self
+            .file_columns
+            .as_ref()
+            .is_none_or(FileColumns::all_readable);
         // By position: a name may also belong to a column that is not read.
         let indices = projection.map(|cols| self.indices(cols));
         match self.format {
@@ -401,15 +436,25 @@ impl Input {
                 .with_projection(indices)
                 .finish()?
                 .lazy()),
-            TableFormat::NdJson | TableFormat::Json => Ok(read_json(&self.file, self.format)?.lazy()),
+            TableFormat::NdJson | TableFormat::Json => {
+                Ok(read_json(&self.file, self.format)?.lazy())
+            }
         }
     }
 
     /// A lazy CSV scan whose `text_columns` are read as text, its columns
     /// named as the header names them.
-    fn scan_csv(&self, delimiter: u8, text_only: bool, text_columns: &[&str]) -> PolarsResult<LazyFrame> {
+    fn scan_csv(
+        &self,
+        delimiter: u8,
+        text_only: bool,
+        text_columns: &[&str],
+    ) -> PolarsResult<LazyFrame> {
         let polars_name = |name: &str| -> PlSmallStr {
-            match (&self.polars_names, self.names.iter().position(|n| n == name)) {
+            match (
+                &self.polars_names,
+                self.names.iter().position(|n| n == name),
+            ) {
                 (Some(theirs), Some(i)) => theirs[i].as_str().into(),
                 _ => name.into(),
             }
@@ -481,10 +526,17 @@ fn spool_stdin(format: TableFormat) -> Result<tempfile::TempPath, Error> {
                 .to_owned(),
         ));
     }
-    let mut spool = tempfile::NamedTempFile::new()
-        .map_err(|e| stdin_error(format!("cannot create a temporary file to hold standard input: {e}")))?;
-    let copied = std::io::copy(&mut std::io::stdin().lock(), spool.as_file_mut())
-        .map_err(|e| stdin_error(format!("cannot copy standard input to {}: {e}", spool.path().display())))?;
+    let mut spool = tempfile::NamedTempFile::new().map_err(|e| {
+        stdin_error(format!(
+            "cannot create a temporary file to hold standard input: {e}"
+        ))
+    })?;
+    let copied = std::io::copy(&mut std::io::stdin().lock(), spool.as_file_mut()).map_err(|e| {
+        stdin_error(format!(
+            "cannot copy standard input to {}: {e}",
+            spool.path().display()
+        ))
+    })?;
     if copied == 0 {
         return Err(stdin_error("standard input is empty".to_owned()));
     }
@@ -498,7 +550,10 @@ fn spool_stdin(format: TableFormat) -> Result<tempfile::TempPath, Error> {
 /// 1-based positions of those columns.
 fn repeated_name<'a>(names: &[String], read: &[&'a str]) -> Option<(&'a str, Vec<usize>)> {
     read.iter().find_map(|c| {
-        let at: Vec<usize> = (0..names.len()).filter(|&i| names[i] == *c).map(|i| i + 1).collect();
+        let at: Vec<usize> = (0..names.len())
+            .filter(|&i| names[i] == *c)
+            .map(|i| i + 1)
+            .collect();
         (at.len() > 1).then_some((*c, at))
     })
 }
@@ -521,7 +576,11 @@ fn escaped_name(name: &str) -> String {
 /// (RFC 4180: `"c""0"` names `c"0`), and as polars' reader names them. The
 /// header names are the polars ones when the two disagree in number, and
 /// for an empty name.
-fn csv_names(file: &Path, delimiter: u8, opts: &ReadOptions) -> PolarsResult<(Vec<String>, Vec<String>)> {
+fn csv_names(
+    file: &Path,
+    delimiter: u8,
+    opts: &ReadOptions,
+) -> PolarsResult<(Vec<String>, Vec<String>)> {
     // polars parses only the header record: its whole-file reader, even
     // when asked for no rows, splits and parses chunks ahead.
     let header = header_record(file)?;
@@ -553,7 +612,13 @@ fn csv_names(file: &Path, delimiter: u8, opts: &ReadOptions) -> PolarsResult<(Ve
         Some(ours) => ours
             .into_iter()
             .zip(&theirs)
-            .map(|(ours, theirs)| if ours.is_empty() { theirs.clone() } else { ours })
+            .map(|(ours, theirs)| {
+                if ours.is_empty() {
+                    theirs.clone()
+                } else {
+                    ours
+                }
+            })
             .collect(),
         None => theirs.clone(),
     };
@@ -590,7 +655,12 @@ fn header_names(header: &[u8], delimiter: u8) -> Option<Vec<String>> {
         .byte_records()
         .next()?
         .ok()?;
-    Some(record.iter().map(|f| String::from_utf8_lossy(f).into_owned()).collect())
+    Some(
+        record
+            .iter()
+            .map(|f| String::from_utf8_lossy(f).into_owned())
+            .collect(),
+    )
 }
 
 /// Read a JSON table whole: records one per line, or (`.json`) one array

@@ -78,7 +78,10 @@ pub fn parquet_columns(path: &Path) -> PolarsResult<FileColumns> {
 pub fn ipc_columns(path: &Path) -> PolarsResult<FileColumns> {
     let footer = ipc_footer(&mut File::open(path)?)?;
     let fields = footer_fields(&footer)?;
-    if let Some((name, what)) = fields.iter().find_map(|(n, f)| unopenable(f).map(|w| (n, w))) {
+    if let Some((name, what)) = fields
+        .iter()
+        .find_map(|(n, f)| unopenable(f).map(|w| (n, w)))
+    {
         polars_bail!(ComputeError:
             "column \"{}\" is {what}, which descry's Arrow IPC reader cannot open, whichever columns are read; \
              write the file without it (e.g. pyarrow: cast the column to its plain type)",
@@ -122,7 +125,8 @@ type FieldRef<'a> = arrow_format::ipc::FieldRef<'a>;
 /// The top-level fields of a footer, with their names, in order.
 fn footer_fields(footer: &[u8]) -> PolarsResult<Vec<(String, FieldRef<'_>)>> {
     use arrow_format::ipc::planus::ReadAsRoot;
-    let bad = || polars_err!(ComputeError: "not an Arrow IPC file: its footer holds no readable schema");
+    let bad =
+        || polars_err!(ComputeError: "not an Arrow IPC file: its footer holds no readable schema");
     let footer = arrow_format::ipc::FooterRef::read_as_root(footer).map_err(|_| bad())?;
     let fields = footer
         .schema()
@@ -202,11 +206,18 @@ mod tests {
     fn plain_types_are_readable_and_exotic_ones_are_not() {
         let item = |t| Box::new(ArrowField::new("item".into(), t, true));
         assert!(readable(&ArrowDataType::Float64));
-        assert!(readable(&ArrowDataType::LargeList(item(ArrowDataType::Utf8))));
+        assert!(readable(&ArrowDataType::LargeList(item(
+            ArrowDataType::Utf8
+        ))));
         assert!(!readable(&ArrowDataType::Float16));
         assert!(!readable(&ArrowDataType::Decimal(10, 2)));
-        assert!(!readable(&ArrowDataType::FixedSizeList(item(ArrowDataType::Int32), 3)));
-        assert!(!readable(&ArrowDataType::List(item(ArrowDataType::Decimal256(40, 2)))));
+        assert!(!readable(&ArrowDataType::FixedSizeList(
+            item(ArrowDataType::Int32),
+            3
+        )));
+        assert!(!readable(&ArrowDataType::List(item(
+            ArrowDataType::Decimal256(40, 2)
+        ))));
         assert!(!readable(&ArrowDataType::Union(Box::new(
             polars_arrow::datatypes::UnionType {
                 fields: vec![],

@@ -115,11 +115,15 @@ mod tests {
     #[test]
     fn utf16_and_ipc_streams_are_named() {
         let csv = TableFormat::Csv { delimiter: b',' };
-        assert!(check_head(b"\xff\xfei\x00d\x00", csv).unwrap_err().contains("UTF-16"));
+        assert!(check_head(b"\xff\xfei\x00d\x00", csv)
+            .unwrap_err()
+            .contains("UTF-16"));
         assert!(check_head(b"\xff\xff\xff\xff\x10", TableFormat::Ipc)
             .unwrap_err()
             .contains("IPC stream"));
-        assert!(check_head(b"FEA1....", TableFormat::Ipc).unwrap_err().contains("Feather version 1"));
+        assert!(check_head(b"FEA1....", TableFormat::Ipc)
+            .unwrap_err()
+            .contains("Feather version 1"));
         assert!(check_head(b"ARROW1\0\0", TableFormat::Ipc).is_ok());
     }
 }

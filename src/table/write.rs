@@ -150,9 +150,11 @@ fn parent_folder(path: &Path) -> PathBuf {
 /// writer as [`sink_table`], so that a table written whole and one
 /// streamed have the same schema (the same Arrow string type, for one).
 pub fn write_table(frame: DataFrame, output: &Path, format: OutputFormat) -> Result<(), Error> {
-    sink_table(frame.lazy(), output, format, ROW_GROUP_ROWS, |e| Error::Output {
-        path: output.to_owned(),
-        message: format!("cannot write: {e}"),
+    sink_table(frame.lazy(), output, format, ROW_GROUP_ROWS, |e| {
+        Error::Output {
+            path: output.to_owned(),
+            message: format!("cannot write: {e}"),
+        }
     })
 }
 
@@ -240,8 +242,11 @@ fn partial_file(output: &Path) -> Result<(tempfile::NamedTempFile, SyncingFile),
         })?;
     if let Ok(meta) = std::fs::metadata(output) {
         // The umask may have taken bits the file it replaces had.
-        std::fs::set_permissions(temp.path(), meta.permissions())
-            .map_err(|e| out_err(format!("cannot give the temporary file the output's mode: {e}")))?;
+        std::fs::set_permissions(temp.path(), meta.permissions()).map_err(|e| {
+            out_err(format!(
+                "cannot give the temporary file the output's mode: {e}"
+            ))
+        })?;
     }
     partials().push(temp.path().to_owned());
     let file = temp
@@ -271,7 +276,9 @@ fn move_into_place(temp: tempfile::NamedTempFile, output: &Path) -> Result<(), E
 static PARTIALS: std::sync::Mutex<Vec<PathBuf>> = std::sync::Mutex::new(Vec::new());
 
 fn partials() -> std::sync::MutexGuard<'static, Vec<PathBuf>> {
-    PARTIALS.lock().unwrap_or_else(|poisoned| poisoned.into_inner())
+    PARTIALS
+        .lock()
+        .unwrap_or_else(|poisoned| poisoned.into_inner())
 }
 
 /// On SIGINT, SIGTERM or SIGHUP, remove the temporary files being written

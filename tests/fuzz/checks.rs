@@ -147,7 +147,11 @@ fn check_evaluation(rules: &Ruleset, value: &str) -> Result<(), String> {
         check_cell(feature, &outcome.cell)
             .map_err(|e| format!("feature {:?}: {e}", feature.name))?;
         if let Rule::Label(label) = &feature.rule {
-            if let Some(c) = outcome.conflicts.iter().find(|&&c| c as usize >= label.categories.len()) {
+            if let Some(c) = outcome
+                .conflicts
+                .iter()
+                .find(|&&c| c as usize >= label.categories.len())
+            {
                 return Err(format!(
                     "feature {:?}: conflict {c} indexes none of {} categories",
                     feature.name,
@@ -268,7 +272,11 @@ impl VocabSummary {
     /// unquoted one as null; the reference cannot tell them apart, and both
     /// are blank to every rule, so the comparison takes `""` for null.
     fn blanks_as_null(&self) -> VocabSummary {
-        let mut out = VocabSummary { values: Vec::new(), counts: Vec::new(), null_rows: self.null_rows };
+        let mut out = VocabSummary {
+            values: Vec::new(),
+            counts: Vec::new(),
+            null_rows: self.null_rows,
+        };
         for (v, c) in self.values.iter().zip(&self.counts) {
             if v.is_empty() {
                 out.null_rows += c;
@@ -381,7 +389,10 @@ fn read_as_commands(
         vocab.codes_for(&batch_text(&batch, column, path)?);
         Ok(())
     });
-    located(path, result.map(|_| VocabSummary::of(&vocab.to_vocabulary())))
+    located(
+        path,
+        result.map(|_| VocabSummary::of(&vocab.to_vocabulary())),
+    )
 }
 
 /// `Table::read_columns` and the vocabulary of the column.
@@ -429,7 +440,11 @@ pub fn csv_reference(bytes: &[u8], column: &str) -> Option<VocabSummary> {
     // descry refuses a header that gives one name to two columns (an
     // empty name excepted: polars names those columns).
     let names: Vec<&str> = header.iter().filter(|h| !h.is_empty()).collect();
-    if names.iter().enumerate().any(|(i, h)| names[..i].contains(h)) {
+    if names
+        .iter()
+        .enumerate()
+        .any(|(i, h)| names[..i].contains(h))
+    {
         return None;
     }
     let index = header.iter().position(|h| h == column)?;
@@ -509,7 +524,11 @@ fn whole_match(m: Macro, mark: DecimalMark) -> &'static regex::Regex {
         }
         out
     });
-    &cache.iter().find(|(k, _)| *k == (m, mark)).expect("all cached").1
+    &cache
+        .iter()
+        .find(|(k, _)| *k == (m, mark))
+        .expect("all cached")
+        .1
 }
 
 /// Whether `text` is a fraction form (`a/b`, `w-a/b`, `w a/b`) that is not
@@ -556,10 +575,14 @@ pub fn check_number(text: &str) -> Result<String, String> {
             matched.push('N');
             match number {
                 Some(x) if !x.is_finite() => {
-                    return Err(format!("{name}: {{num}} matches it whole, the parser gives {x}"))
+                    return Err(format!(
+                        "{name}: {{num}} matches it whole, the parser gives {x}"
+                    ))
                 }
                 None if !improper_fraction(text) && integer_magnitude(text).is_finite() => {
-                    return Err(format!("{name}: {{num}} matches it whole, the parser reads nothing"))
+                    return Err(format!(
+                        "{name}: {{num}} matches it whole, the parser reads nothing"
+                    ))
                 }
                 _ => {}
             }
@@ -579,7 +602,11 @@ pub fn check_number(text: &str) -> Result<String, String> {
             "{name}:{}{}{}",
             if number.is_some() { "n" } else { "-" },
             if integer.is_some() { "i" } else { "-" },
-            if matched.is_empty() { String::new() } else { format!("[{matched}]") }
+            if matched.is_empty() {
+                String::new()
+            } else {
+                format!("[{matched}]")
+            }
         ));
     }
     Ok(kinds.join(" "))

@@ -19,23 +19,95 @@ fn pick<T: Clone>(rng: &mut Rng8, items: &[T]) -> T {
 /// compatibility characters NFKC rewrites, a fraction NFKC expands, a
 /// character that lower-cases to two, primes, the replacement character.
 const ODD: &[&str] = &[
-    "\u{200f}", "\u{202e}", "\u{200d}", "\u{feff}", "\u{301}", "e\u{301}", "\u{fb01}", "\u{bd}",
-    "\u{2044}", "\u{2033}", "\u{2032}", "\u{130}", "\u{df}", "\u{1e9e}", "\u{ff13}", "\u{ff44}",
-    "\u{3000}", "\u{a0}", "\u{2028}", "\u{85}", "\u{fffd}", "\u{10ffff}", "\u{1f600}", "\u{663}",
-    "\u{2460}", "\u{2167}", "\u{33a5}", "\u{2126}", "\u{212b}", "\u{fdfa}", "\u{1d7d8}",
+    "\u{200f}",
+    "\u{202e}",
+    "\u{200d}",
+    "\u{feff}",
+    "\u{301}",
+    "e\u{301}",
+    "\u{fb01}",
+    "\u{bd}",
+    "\u{2044}",
+    "\u{2033}",
+    "\u{2032}",
+    "\u{130}",
+    "\u{df}",
+    "\u{1e9e}",
+    "\u{ff13}",
+    "\u{ff44}",
+    "\u{3000}",
+    "\u{a0}",
+    "\u{2028}",
+    "\u{85}",
+    "\u{fffd}",
+    "\u{10ffff}",
+    "\u{1f600}",
+    "\u{663}",
+    "\u{2460}",
+    "\u{2167}",
+    "\u{33a5}",
+    "\u{2126}",
+    "\u{212b}",
+    "\u{fdfa}",
+    "\u{1d7d8}",
 ];
-const CONTROL: &[&str] = &["\0", "\u{1}", "\u{7}", "\u{8}", "\t", "\n", "\r", "\u{b}", "\u{c}", "\u{1b}", "\u{7f}", "\u{9f}"];
+const CONTROL: &[&str] = &[
+    "\0", "\u{1}", "\u{7}", "\u{8}", "\t", "\n", "\r", "\u{b}", "\u{c}", "\u{1b}", "\u{7f}",
+    "\u{9f}",
+];
 const WORDS: &[&str] = &[
-    "turbo", "auto", "manual", "cvt", "spd", "speed", "cyl", "v8", "diesel", "gas", "l", "cc", "hp", "kw", "in",
-    "ft", "n/a", "unknown", "-", "?", "tbd", "x", "non-turbo", "no", "w/o", "t/c", "4wd", "awd",
+    "turbo",
+    "auto",
+    "manual",
+    "cvt",
+    "spd",
+    "speed",
+    "cyl",
+    "v8",
+    "diesel",
+    "gas",
+    "l",
+    "cc",
+    "hp",
+    "kw",
+    "in",
+    "ft",
+    "n/a",
+    "unknown",
+    "-",
+    "?",
+    "tbd",
+    "x",
+    "non-turbo",
+    "no",
+    "w/o",
+    "t/c",
+    "4wd",
+    "awd",
 ];
 const NUMBER_WORDS: &[&str] = &[
-    "zero", "one", "six", "Twelve", "seventeen", "thirty-two", "thirty two", "ninety-nine", "twentyone",
-    "twenty-zero", "seventy", "eighteen", "TEN", "hundred", "fortyfour", "Sixty-Six",
+    "zero",
+    "one",
+    "six",
+    "Twelve",
+    "seventeen",
+    "thirty-two",
+    "thirty two",
+    "ninety-nine",
+    "twentyone",
+    "twenty-zero",
+    "seventy",
+    "eighteen",
+    "TEN",
+    "hundred",
+    "fortyfour",
+    "Sixty-Six",
 ];
 
 fn digits(rng: &mut Rng8, len: usize) -> String {
-    (0..len).map(|_| char::from(b'0' + rng.gen_range(0..10))).collect()
+    (0..len)
+        .map(|_| char::from(b'0' + rng.gen_range(0..10)))
+        .collect()
 }
 
 fn some_digits(rng: &mut Rng8, len: std::ops::Range<usize>) -> String {
@@ -64,14 +136,27 @@ pub fn number_text(rng: &mut Rng8) -> String {
             let mut s = some_digits(rng, 1..4);
             for _ in 0..groups {
                 s.push_str(sep);
-                let len = if rng.gen_bool(0.85) { 3 } else { rng.gen_range(0..5) };
+                let len = if rng.gen_bool(0.85) {
+                    3
+                } else {
+                    rng.gen_range(0..5)
+                };
                 s.push_str(&digits(rng, len));
             }
             s
         }
-        2 => format!("{}{}{}", digit_run(rng), pick(rng, &[".", ","]), digit_run(rng)),
+        2 => format!(
+            "{}{}{}",
+            digit_run(rng),
+            pick(rng, &[".", ","]),
+            digit_run(rng)
+        ),
         3 => format!("{}{}", pick(rng, &[".", ","]), digit_run(rng)),
-        4 => format!("{}{slash}{}", some_digits(rng, 1..4), some_digits(rng, 1..4)),
+        4 => format!(
+            "{}{slash}{}",
+            some_digits(rng, 1..4),
+            some_digits(rng, 1..4)
+        ),
         5 => format!(
             "{}{}{}{slash}{}",
             digit_run(rng),
@@ -80,29 +165,53 @@ pub fn number_text(rng: &mut Rng8) -> String {
             some_digits(rng, 1..3)
         ),
         6 => pick(rng, NUMBER_WORDS).to_string(),
-        7 => pick(rng, &["inf", "NaN", "1e5", "1e400", "-3", "+4", "0x1f", "1_000", "−5", "١٢", "４.５"]).to_string(),
+        7 => pick(
+            rng,
+            &[
+                "inf", "NaN", "1e5", "1e400", "-3", "+4", "0x1f", "1_000", "−5", "١٢", "４.５",
+            ],
+        )
+        .to_string(),
         8 => format!("{}{slash}0", some_digits(rng, 1..3)),
         9 => format!("{} {}", some_digits(rng, 1..4), number_text(rng)),
-        10 => format!("{}{}{}", number_text(rng), pick(rng, &["", ".", ",", "/", "-", " "]), number_text(rng)),
+        10 => format!(
+            "{}{}{}",
+            number_text(rng),
+            pick(rng, &["", ".", ",", "/", "-", " "]),
+            number_text(rng)
+        ),
         11 => {
             let d = rng.gen_range(1..70u32);
             let n = rng.gen_range(0..d + 3);
             format!("{n}{slash}{d}")
         }
-        12 => format!("{}{}", pick(rng, &[" ", "\t", "\u{3000}", ""]), number_text(rng)),
+        12 => format!(
+            "{}{}",
+            pick(rng, &[" ", "\t", "\u{3000}", ""]),
+            number_text(rng)
+        ),
         _ => some_digits(rng, 1..5),
     }
 }
 
 /// Characters from every alphabet a number's text mixes.
 pub fn number_noise(rng: &mut Rng8) -> String {
-    let alphabet: &[&str] = &["0", "1", "7", "9", ",", ".", " ", "-", "/", "\u{2044}", "e", "+", "\u{a0}", "x", "\u{ff15}"];
-    (0..rng.gen_range(0..12)).map(|_| pick(rng, alphabet)).collect()
+    let alphabet: &[&str] = &[
+        "0", "1", "7", "9", ",", ".", " ", "-", "/", "\u{2044}", "e", "+", "\u{a0}", "x",
+        "\u{ff15}",
+    ];
+    (0..rng.gen_range(0..12))
+        .map(|_| pick(rng, alphabet))
+        .collect()
 }
 
 /// One input for the `numbers` target.
 pub fn number_input(rng: &mut Rng8) -> String {
-    let mut s = if rng.gen_bool(0.8) { number_text(rng) } else { number_noise(rng) };
+    let mut s = if rng.gen_bool(0.8) {
+        number_text(rng)
+    } else {
+        number_noise(rng)
+    };
     if rng.gen_bool(0.2) {
         mutate_text(rng, &mut s, 1);
     }
@@ -120,7 +229,14 @@ pub fn value_text(rng: &mut Rng8, words: &[String]) -> String {
             3..=5 => pick(rng, WORDS).to_string(),
             6 => pick(rng, ODD).to_string(),
             7 => pick(rng, CONTROL).to_string(),
-            8 => format!("{}{}", number_text(rng), pick(rng, &["l", "cc", "hp", "kw", "\"", "'", "ft", "in", "v", "-speed", "cyl"])),
+            8 => format!(
+                "{}{}",
+                number_text(rng),
+                pick(
+                    rng,
+                    &["l", "cc", "hp", "kw", "\"", "'", "ft", "in", "v", "-speed", "cyl"]
+                )
+            ),
             9 => pick(rng, NUMBER_WORDS).to_string(),
             10 if rng.gen_bool(0.1) => "a".repeat(rng.gen_range(1000..20000)),
             _ => pick(rng, &[" ", "  ", "-", "/", ",", "(", ")", "\u{2033}"]).to_string(),
@@ -141,7 +257,14 @@ fn hostile_text(rng: &mut Rng8) -> String {
         1 => " ".repeat(rng.gen_range(1..4)),
         2 => pick(rng, ODD).to_string(),
         3 => pick(rng, CONTROL).to_string(),
-        4 => pick(rng, &["{int}", "{num}", "{count}", "(", ")", "[", "|", "\\", ".*", "\\d", "{1000}", "(?=x)"]).to_string(),
+        4 => pick(
+            rng,
+            &[
+                "{int}", "{num}", "{count}", "(", ")", "[", "|", "\\", ".*", "\\d", "{1000}",
+                "(?=x)",
+            ],
+        )
+        .to_string(),
         5 => format!("{}{}", pick(rng, WORDS), pick(rng, ODD)),
         6 => "w".repeat(rng.gen_range(100..5000)),
         _ => pick(rng, WORDS).to_string(),
@@ -171,7 +294,10 @@ fn toml_str(rng: &mut Rng8, s: &str) -> String {
     match rng.gen_range(0..20) {
         0 => format!("\"{s}\""),
         1 => format!("'''{s}'''"),
-        2 => format!("\"\"\"{}\"\"\"", s.replace('\\', "\\\\").replace('"', "\\\"")),
+        2 => format!(
+            "\"\"\"{}\"\"\"",
+            s.replace('\\', "\\\\").replace('"', "\\\"")
+        ),
         _ if !s.contains(['\'', '\n', '\r']) && !s.chars().any(|c| c.is_control() && c != '\t') => {
             format!("'{s}'")
         }
@@ -206,8 +332,26 @@ fn float_text(rng: &mut Rng8) -> String {
     pick(
         rng,
         &[
-            "1", "0", "-1", "0.001", "12", "1e308", "1e-308", "5e-324", "nan", "inf", "-inf", "+nan", "1.7976931348623157e308",
-            "2.5", "1_000", "0x10", "1e400", "-0.0", "3.4e38", "3.5e38",
+            "1",
+            "0",
+            "-1",
+            "0.001",
+            "12",
+            "1e308",
+            "1e-308",
+            "5e-324",
+            "nan",
+            "inf",
+            "-inf",
+            "+nan",
+            "1.7976931348623157e308",
+            "2.5",
+            "1_000",
+            "0x10",
+            "1e400",
+            "-0.0",
+            "3.4e38",
+            "3.5e38",
         ],
     )
     .to_string()
@@ -217,8 +361,23 @@ fn int_text(rng: &mut Rng8) -> String {
     pick(
         rng,
         &[
-            "0", "1", "4", "-1", "16", "255", "256", "-129", "65535", "2147483647", "9223372036854775807",
-            "-9223372036854775808", "9223372036854775808", "1_000", "0x7f", "1.5", "\"3\"",
+            "0",
+            "1",
+            "4",
+            "-1",
+            "16",
+            "255",
+            "256",
+            "-129",
+            "65535",
+            "2147483647",
+            "9223372036854775807",
+            "-9223372036854775808",
+            "9223372036854775808",
+            "1_000",
+            "0x7f",
+            "1.5",
+            "\"3\"",
         ],
     )
     .to_string()
@@ -238,19 +397,105 @@ pub fn pattern_text(rng: &mut Rng8, depth: u32) -> String {
     let mut s = String::new();
     for _ in 0..atoms {
         let atom = match rng.gen_range(0..22) {
-            0..=2 => pick(rng, &["({int})", "({num})", "({count})", "{int}", "{num}", "{count}"]).to_string(),
+            0..=2 => pick(
+                rng,
+                &[
+                    "({int})",
+                    "({num})",
+                    "({count})",
+                    "{int}",
+                    "{num}",
+                    "{count}",
+                ],
+            )
+            .to_string(),
             3 | 4 => pick(rng, WORDS).to_string(),
-            5 => pick(rng, &["\\s*", "\\s?", "-?", "\\b", "^", "$", ".", "\\d+", "\\w+", "[a-z]", "[^ ]", "\\p{L}", "\\pN"]).to_string(),
+            5 => pick(
+                rng,
+                &[
+                    "\\s*", "\\s?", "-?", "\\b", "^", "$", ".", "\\d+", "\\w+", "[a-z]", "[^ ]",
+                    "\\p{L}", "\\pN",
+                ],
+            )
+            .to_string(),
             6 if depth < 4 => format!("({})", pattern_text(rng, depth + 1)),
             7 if depth < 4 => format!("(?:{})", pattern_text(rng, depth + 1)),
-            8 if depth < 4 => format!("({}|{})", pattern_text(rng, depth + 1), pattern_text(rng, depth + 1)),
-            9 => pick(rng, &["{1000}", "{5,2}", "{0}", "{99999}", "{1,65536}", "{,3}", "{3,}", "*", "+?", "??", "**", "{"]).to_string(),
-            10 => pick(rng, &["[z-a]", "[]", "[^]", "[\\d-x]", "(", ")", "|", "\\", "\\1", "(?=x)", "(?<!y)", "(?>a)", "(?i)", "(?-u:\\xff)"]).to_string(),
-            11 => pick(rng, &["\\{int}", "\\\\{int}", "{in", "t}", "{INT}", "{ int }", "{num}{num}", "{count}+"]).to_string(),
+            8 if depth < 4 => format!(
+                "({}|{})",
+                pattern_text(rng, depth + 1),
+                pattern_text(rng, depth + 1)
+            ),
+            9 => pick(
+                rng,
+                &[
+                    "{1000}",
+                    "{5,2}",
+                    "{0}",
+                    "{99999}",
+                    "{1,65536}",
+                    "{,3}",
+                    "{3,}",
+                    "*",
+                    "+?",
+                    "??",
+                    "**",
+                    "{",
+                ],
+            )
+            .to_string(),
+            10 => pick(
+                rng,
+                &[
+                    "[z-a]",
+                    "[]",
+                    "[^]",
+                    "[\\d-x]",
+                    "(",
+                    ")",
+                    "|",
+                    "\\",
+                    "\\1",
+                    "(?=x)",
+                    "(?<!y)",
+                    "(?>a)",
+                    "(?i)",
+                    "(?-u:\\xff)",
+                ],
+            )
+            .to_string(),
+            11 => pick(
+                rng,
+                &[
+                    "\\{int}",
+                    "\\\\{int}",
+                    "{in",
+                    "t}",
+                    "{INT}",
+                    "{ int }",
+                    "{num}{num}",
+                    "{count}+",
+                ],
+            )
+            .to_string(),
             12 => pick(rng, ODD).to_string(),
-            13 => format!("(?P<{}>{})", pick(rng, &["n", "x1", "unit", "n"]), pick(rng, &["{num}", "l|cc", ""])),
+            13 => format!(
+                "(?P<{}>{})",
+                pick(rng, &["n", "x1", "unit", "n"]),
+                pick(rng, &["{num}", "l|cc", ""])
+            ),
             14 => pick(rng, &["(l|cc|hp)", "(in|ft|\"|')", "(kw)?", "(?:v\\b|/|-)"]).to_string(),
-            15 => pick(rng, &["\\x{110000}", "\\u{d800}", "\\p{Greek}", "\\p{Nope}", "[[:alpha:]]", "\\Q"]).to_string(),
+            15 => pick(
+                rng,
+                &[
+                    "\\x{110000}",
+                    "\\u{d800}",
+                    "\\p{Greek}",
+                    "\\p{Nope}",
+                    "[[:alpha:]]",
+                    "\\Q",
+                ],
+            )
+            .to_string(),
             _ => pick(rng, &["\\s*", " ", "x", "-", "/"]).to_string(),
         };
         s.push_str(&atom);
@@ -289,7 +534,12 @@ pub fn ruleset_text(rng: &mut Rng8) -> String {
     }
     if rng.gen_bool(0.3) {
         let mut list = word_list(rng);
-        list.extend(["n/a", "-", "?", ""].iter().filter(|_| rng.gen_bool(0.3)).map(|s| s.to_string()));
+        list.extend(
+            ["n/a", "-", "?", ""]
+                .iter()
+                .filter(|_| rng.gen_bool(0.3))
+                .map(|s| s.to_string()),
+        );
         line(&mut out, "placeholders", toml_list(rng, &list));
     }
     if rng.gen_bool(0.25) {
@@ -302,7 +552,10 @@ pub fn ruleset_text(rng: &mut Rng8) -> String {
     if rng.gen_bool(0.3) {
         out.push_str("\n[normalize]\n");
         let options: &[(&str, &[&str])] = &[
-            ("unicode", &["\"nfkc\"", "\"nfc\"", "\"none\"", "\"nfd\"", "true"]),
+            (
+                "unicode",
+                &["\"nfkc\"", "\"nfc\"", "\"none\"", "\"nfd\"", "true"],
+            ),
             ("case", &["\"lower\"", "\"none\"", "\"upper\""]),
             ("trim", &["true", "false", "\"yes\""]),
             ("collapse_space", &["true", "false"]),
@@ -320,13 +573,20 @@ pub fn ruleset_text(rng: &mut Rng8) -> String {
     let mut labels: Vec<String> = Vec::new();
     for _ in 0..rng.gen_range(0..7) {
         let name = if rng.gen_bool(0.85) {
-            format!("{}{}", pick(rng, &["f", "gears", "turbo", "size", "kind", ""]), rng.gen_range(0..4))
+            format!(
+                "{}{}",
+                pick(rng, &["f", "gears", "turbo", "size", "kind", ""]),
+                rng.gen_range(0..4)
+            )
         } else {
             hostile_text(rng)
         };
         names.push(name.clone());
         let kind = rng.gen_range(0..4);
-        out.push_str(&format!("\n[[{}]]\n", ["flag", "count", "measure", "label"][kind]));
+        out.push_str(&format!(
+            "\n[[{}]]\n",
+            ["flag", "count", "measure", "label"][kind]
+        ));
         if rng.gen_bool(0.97) {
             line(&mut out, "name", toml_str(rng, &name));
         }
@@ -376,7 +636,11 @@ pub fn ruleset_text(rng: &mut Rng8) -> String {
         line(&mut out, "value", toml_str(rng, &value));
         let mut expect = Vec::new();
         for _ in 0..rng.gen_range(0..4) {
-            let key = if names.is_empty() || rng.gen_bool(0.1) { "nope".to_owned() } else { pick(rng, &names).clone() };
+            let key = if names.is_empty() || rng.gen_bool(0.1) {
+                "nope".to_owned()
+            } else {
+                pick(rng, &names).clone()
+            };
             let value = match rng.gen_range(0..5) {
                 0 => pick(rng, &["true", "false"]).to_string(),
                 1 => int_text(rng),
@@ -393,7 +657,11 @@ pub fn ruleset_text(rng: &mut Rng8) -> String {
     }
     if rng.gen_bool(0.02) {
         let depth = pick(rng, &[100usize, 1000, 100_000]);
-        out.push_str(&format!("\ndeep = {}{}\n", "[".repeat(depth), "]".repeat(depth)));
+        out.push_str(&format!(
+            "\ndeep = {}{}\n",
+            "[".repeat(depth),
+            "]".repeat(depth)
+        ));
     }
     out
 }
@@ -436,14 +704,42 @@ fn measure_keys(rng: &mut Rng8, out: &mut String, line: &impl Fn(&mut String, &s
     }
     if rng.gen_bool(0.7) {
         let mut entries = Vec::new();
-        let count = if rng.gen_bool(0.05) { 2000 } else { rng.gen_range(0..5) };
+        let count = if rng.gen_bool(0.05) {
+            2000
+        } else {
+            rng.gen_range(0..5)
+        };
         for i in 0..count {
             let spelling = if count > 100 {
                 format!("u{i}")
             } else {
-                pick(rng, &["l", "L", "cc", "cc.", "hp", "kw", "mW", "MW", "\"", "'", "\u{2033}", "\u{2032}\u{2032}", "", " l", "in"]).to_string()
+                pick(
+                    rng,
+                    &[
+                        "l",
+                        "L",
+                        "cc",
+                        "cc.",
+                        "hp",
+                        "kw",
+                        "mW",
+                        "MW",
+                        "\"",
+                        "'",
+                        "\u{2033}",
+                        "\u{2032}\u{2032}",
+                        "",
+                        " l",
+                        "in",
+                    ],
+                )
+                .to_string()
             };
-            entries.push(format!("{} = {}", toml_str(rng, &spelling), float_text(rng)));
+            entries.push(format!(
+                "{} = {}",
+                toml_str(rng, &spelling),
+                float_text(rng)
+            ));
         }
         line(out, "units", format!("{{ {} }}", entries.join(", ")));
     }
@@ -452,7 +748,11 @@ fn measure_keys(rng: &mut Rng8, out: &mut String, line: &impl Fn(&mut String, &s
         line(out, "precision", p);
     }
     if rng.gen_bool(0.3) {
-        let c = pick(rng, &["\"first\"", "\"sum\"", "\"min\"", "\"max\"", "\"mean\""]).to_string();
+        let c = pick(
+            rng,
+            &["\"first\"", "\"sum\"", "\"min\"", "\"max\"", "\"mean\""],
+        )
+        .to_string();
         line(out, "combine", c);
     }
     if rng.gen_bool(0.3) {
@@ -467,7 +767,13 @@ fn measure_keys(rng: &mut Rng8, out: &mut String, line: &impl Fn(&mut String, &s
 
 fn label_keys(rng: &mut Rng8, out: &mut String, labels: &mut Vec<String>) {
     let mut mine: Vec<String> = (0..rng.gen_range(0..4))
-        .map(|_| if rng.gen_bool(0.8) { pick(rng, &["diesel", "gas", "lpg", "x", "Diesel"]).to_string() } else { hostile_text(rng) })
+        .map(|_| {
+            if rng.gen_bool(0.8) {
+                pick(rng, &["diesel", "gas", "lpg", "x", "Diesel"]).to_string()
+            } else {
+                hostile_text(rng)
+            }
+        })
         .collect();
     if rng.gen_bool(0.3) {
         let d = mine.first().cloned().unwrap_or_else(|| hostile_text(rng));
@@ -487,7 +793,11 @@ fn label_keys(rng: &mut Rng8, out: &mut String, labels: &mut Vec<String>) {
         let entries: Vec<String> = (0..rng.gen_range(0..4))
             .map(|_| {
                 let key = pick(rng, &["dsl", "DSL", "d s l", "", "\u{fb01}", "fi"]).to_string();
-                let value = if mine.is_empty() { "x".to_owned() } else { pick(rng, &mine).clone() };
+                let value = if mine.is_empty() {
+                    "x".to_owned()
+                } else {
+                    pick(rng, &mine).clone()
+                };
                 format!("{} = {}", toml_str(rng, &key), toml_str(rng, &value))
             })
             .collect();
@@ -496,7 +806,11 @@ fn label_keys(rng: &mut Rng8, out: &mut String, labels: &mut Vec<String>) {
     for _ in 0..rng.gen_range(0..4) {
         out.push_str("[[label.case]]\n");
         if rng.gen_bool(0.95) {
-            let label = if mine.is_empty() || rng.gen_bool(0.2) { hostile_text(rng) } else { pick(rng, &mine).clone() };
+            let label = if mine.is_empty() || rng.gen_bool(0.2) {
+                hostile_text(rng)
+            } else {
+                pick(rng, &mine).clone()
+            };
             out.push_str(&format!("label = {}\n", toml_str(rng, &label)));
             mine.push(label);
         }
@@ -510,10 +824,44 @@ fn label_keys(rng: &mut Rng8, out: &mut String, labels: &mut Vec<String>) {
 
 /// Hostile tokens spliced into seeds.
 const TOKENS: &[&str] = &[
-    "{num}", "{int}", "{count}", "nan", "inf", "-inf", "1e999", "[", "]", "]]", "[[", "\"", "'", "'''", "(", ")", "(?=",
-    "{99999}", "\\", "\u{202e}", "\\u0000", "=", ",", "#", "\n", "[[label.case]]", "[[flag]]", "[normalize]",
-    "unless_any = [\"x\"]", "unless_pattern = 'x'", "combine = \"sum\"", "placeholders = [\"n/a\"]",
-    "placeholder_pattern = '-+'", "fancy = true", "range = [5, 1]", "missing = 3", "-9223372036854775808", "0",
+    "{num}",
+    "{int}",
+    "{count}",
+    "nan",
+    "inf",
+    "-inf",
+    "1e999",
+    "[",
+    "]",
+    "]]",
+    "[[",
+    "\"",
+    "'",
+    "'''",
+    "(",
+    ")",
+    "(?=",
+    "{99999}",
+    "\\",
+    "\u{202e}",
+    "\\u0000",
+    "=",
+    ",",
+    "#",
+    "\n",
+    "[[label.case]]",
+    "[[flag]]",
+    "[normalize]",
+    "unless_any = [\"x\"]",
+    "unless_pattern = 'x'",
+    "combine = \"sum\"",
+    "placeholders = [\"n/a\"]",
+    "placeholder_pattern = '-+'",
+    "fancy = true",
+    "range = [5, 1]",
+    "missing = 3",
+    "-9223372036854775808",
+    "0",
 ];
 
 /// Change `text` in `rounds` small ways: replace, insert or delete a
@@ -576,7 +924,15 @@ pub fn mutate_bytes(rng: &mut Rng8, bytes: &mut Vec<u8>, rounds: usize) {
         let at = rng.gen_range(0..=bytes.len());
         match rng.gen_range(0..6) {
             0 if at < bytes.len() => bytes[at] ^= 1 << rng.gen_range(0..8),
-            1 => bytes.insert(at, pick(rng, &[b'"', b',', b'\n', b'\r', 0xff, 0xc3, 0, b'{', b'}', b'[', b'\\'])),
+            1 => bytes.insert(
+                at,
+                pick(
+                    rng,
+                    &[
+                        b'"', b',', b'\n', b'\r', 0xff, 0xc3, 0, b'{', b'}', b'[', b'\\',
+                    ],
+                ),
+            ),
             2 if at < bytes.len() => {
                 let end = (at + rng.gen_range(1..8)).min(bytes.len());
                 bytes.drain(at..end);
@@ -615,7 +971,9 @@ pub fn values_for(rng: &mut Rng8, ruleset: &str) -> Vec<String> {
         .take(200)
         .map(str::to_owned)
         .collect();
-    (0..rng.gen_range(3..9)).map(|_| value_text(rng, &words)).collect()
+    (0..rng.gen_range(3..9))
+        .map(|_| value_text(rng, &words))
+        .collect()
 }
 
 // ---------------------------------------------------------------- tables
@@ -625,18 +983,53 @@ pub fn values_for(rng: &mut Rng8, ruleset: &str) -> Vec<String> {
 fn field_bytes(rng: &mut Rng8, kind: u32) -> Vec<u8> {
     let text = match kind {
         0 => rng.gen_range(-1000i64..1000).to_string(),
-        1 => pick(rng, &["1.5", "-0.0", "1e308", "1e400", "NaN", "inf", "-inf", "3.14", ".5", "5.", "1_000"]).to_string(),
+        1 => pick(
+            rng,
+            &[
+                "1.5", "-0.0", "1e308", "1e400", "NaN", "inf", "-inf", "3.14", ".5", "5.", "1_000",
+            ],
+        )
+        .to_string(),
         2 => pick(rng, &["true", "false", "True", "FALSE"]).to_string(),
-        3 => pick(rng, &["2024-01-31", "2024-02-30", "12:00:00", "2024-01-01T00:00:00Z", "2024-13-01"]).to_string(),
-        4 => pick(rng, &["9223372036854775807", "9223372036854775808", "-9223372036854775809", "18446744073709551616", "00042"]).to_string(),
+        3 => pick(
+            rng,
+            &[
+                "2024-01-31",
+                "2024-02-30",
+                "12:00:00",
+                "2024-01-01T00:00:00Z",
+                "2024-13-01",
+            ],
+        )
+        .to_string(),
+        4 => pick(
+            rng,
+            &[
+                "9223372036854775807",
+                "9223372036854775808",
+                "-9223372036854775809",
+                "18446744073709551616",
+                "00042",
+            ],
+        )
+        .to_string(),
         5 => String::new(),
         6 => value_text(rng, &[]),
-        7 => format!("a,b{}c\"d\"{}", pick(rng, &["\n", "\r\n", "\r", ""]), pick(rng, ODD)),
-        8 => return {
-            let mut b = value_text(rng, &[]).into_bytes();
-            b.insert(rng.gen_range(0..=b.len()), pick(rng, &[0xff, 0xc3, 0x80, 0xed]));
-            b
-        },
+        7 => format!(
+            "a,b{}c\"d\"{}",
+            pick(rng, &["\n", "\r\n", "\r", ""]),
+            pick(rng, ODD)
+        ),
+        8 => {
+            return {
+                let mut b = value_text(rng, &[]).into_bytes();
+                b.insert(
+                    rng.gen_range(0..=b.len()),
+                    pick(rng, &[0xff, 0xc3, 0x80, 0xed]),
+                );
+                b
+            }
+        }
         9 if rng.gen_bool(0.05) => "x".repeat(rng.gen_range(100_000..2_000_000)),
         _ => pick(rng, WORDS).to_string(),
     };
@@ -655,13 +1048,29 @@ fn header_name(rng: &mut Rng8, i: usize) -> String {
         5 => format!("c\n{i}"),
         6 => "h".repeat(rng.gen_range(200..5000)),
         7 => "dup".to_owned(),
-        8 => pick(rng, &["null", "NaN", "0", "1.5", "true", "column_1", "_duplicated_0", "#", "\u{feff}id"]).to_string(),
+        8 => pick(
+            rng,
+            &[
+                "null",
+                "NaN",
+                "0",
+                "1.5",
+                "true",
+                "column_1",
+                "_duplicated_0",
+                "#",
+                "\u{feff}id",
+            ],
+        )
+        .to_string(),
         _ => format!("c{i}"),
     }
 }
 
 fn csv_field(rng: &mut Rng8, bytes: &[u8], delimiter: u8) -> Vec<u8> {
-    let needs = bytes.iter().any(|&b| b == delimiter || b == b'"' || b == b'\n' || b == b'\r');
+    let needs = bytes
+        .iter()
+        .any(|&b| b == delimiter || b == b'"' || b == b'\n' || b == b'\r');
     let quote = match rng.gen_range(0..20) {
         0 => false,
         1 | 2 => true,
@@ -695,13 +1104,25 @@ pub fn csv_table(rng: &mut Rng8) -> Vec<u8> {
     let kinds: Vec<(u32, u32, usize)> = (0..columns)
         .map(|_| {
             let first = rng.gen_range(0..11);
-            let later = if rng.gen_bool(0.3) { rng.gen_range(0..11) } else { first };
-            let switch = if rng.gen_bool(0.5) { rng.gen_range(0..rows.max(1)) } else { rng.gen_range(90..2000) };
+            let later = if rng.gen_bool(0.3) {
+                rng.gen_range(0..11)
+            } else {
+                first
+            };
+            let switch = if rng.gen_bool(0.5) {
+                rng.gen_range(0..rows.max(1))
+            } else {
+                rng.gen_range(90..2000)
+            };
             (first, later, switch)
         })
         .collect();
     let ends: &[&[u8]] = &[b"\n", b"\r\n", b"\r"];
-    let uniform = if rng.gen_bool(0.7) { Some(pick(rng, &ends[..2])) } else { None };
+    let uniform = if rng.gen_bool(0.7) {
+        Some(pick(rng, &ends[..2]))
+    } else {
+        None
+    };
     let end = |rng: &mut Rng8| uniform.unwrap_or_else(|| pick(rng, ends)).to_vec();
     let mut out = Vec::new();
     if rng.gen_bool(0.1) {
@@ -709,7 +1130,11 @@ pub fn csv_table(rng: &mut Rng8) -> Vec<u8> {
     }
     let header: Vec<Vec<u8>> = (0..columns)
         .map(|i| {
-            let name = if rng.gen_bool(0.7) { format!("c{i}") } else { header_name(rng, i) };
+            let name = if rng.gen_bool(0.7) {
+                format!("c{i}")
+            } else {
+                header_name(rng, i)
+            };
             csv_field(rng, name.as_bytes(), b',')
         })
         .collect();
@@ -750,10 +1175,28 @@ fn json_value(rng: &mut Rng8, depth: u32) -> String {
         0 => "null".to_owned(),
         1 => pick(rng, &["true", "false"]).to_string(),
         2 => rng.gen_range(-1000i64..1000).to_string(),
-        3 => pick(rng, &["1.5", "-0.0", "1e308", "1e400", "-1e-400", "3.0", "1E5", "0.1"]).to_string(),
-        4 => pick(rng, &["9223372036854775807", "9223372036854775808", "-9223372036854775809", "18446744073709551616", "123456789012345678901234567890"]).to_string(),
+        3 => pick(
+            rng,
+            &[
+                "1.5", "-0.0", "1e308", "1e400", "-1e-400", "3.0", "1E5", "0.1",
+            ],
+        )
+        .to_string(),
+        4 => pick(
+            rng,
+            &[
+                "9223372036854775807",
+                "9223372036854775808",
+                "-9223372036854775809",
+                "18446744073709551616",
+                "123456789012345678901234567890",
+            ],
+        )
+        .to_string(),
         5 if depth < 3 => {
-            let items: Vec<String> = (0..rng.gen_range(0..4)).map(|_| json_value(rng, depth + 1)).collect();
+            let items: Vec<String> = (0..rng.gen_range(0..4))
+                .map(|_| json_value(rng, depth + 1))
+                .collect();
             format!("[{}]", items.join(","))
         }
         6 if depth < 3 => {
@@ -764,12 +1207,31 @@ fn json_value(rng: &mut Rng8, depth: u32) -> String {
         }
         7 if rng.gen_bool(0.1) => {
             let n = pick(rng, &[100usize, 1000, 10_000, 100_000]);
-            let (open, close) = if rng.gen_bool(0.5) { ("[", "]") } else { ("{\"a\":", "}") };
+            let (open, close) = if rng.gen_bool(0.5) {
+                ("[", "]")
+            } else {
+                ("{\"a\":", "}")
+            };
             format!("{}1{}", open.repeat(n), close.repeat(n))
         }
-        8 => serde_json::to_string(&format!("{}{}", pick(rng, ODD), value_text(rng, &[]))).expect("a string"),
-        9 => pick(rng, &["\"\\u0000\"", "\"\\ud800\"", "\"\\ud83d\\ude00\"", "\"a\\nb\"", "\"\\\"\"", "\"\"", "\"\\/\""]).to_string(),
-        10 if rng.gen_bool(0.05) => format!("\"{}\"", "x".repeat(rng.gen_range(100_000..1_000_000))),
+        8 => serde_json::to_string(&format!("{}{}", pick(rng, ODD), value_text(rng, &[])))
+            .expect("a string"),
+        9 => pick(
+            rng,
+            &[
+                "\"\\u0000\"",
+                "\"\\ud800\"",
+                "\"\\ud83d\\ude00\"",
+                "\"a\\nb\"",
+                "\"\\\"\"",
+                "\"\"",
+                "\"\\/\"",
+            ],
+        )
+        .to_string(),
+        10 if rng.gen_bool(0.05) => {
+            format!("\"{}\"", "x".repeat(rng.gen_range(100_000..1_000_000)))
+        }
         _ => serde_json::to_string(&value_text(rng, &[])).expect("a string"),
     }
 }
@@ -795,7 +1257,15 @@ pub fn ndjson_table(rng: &mut Rng8) -> Vec<u8> {
         1 => rng.gen_range(100..1500),
         _ => rng.gen_range(1..30),
     };
-    let keys: Vec<String> = (0..rng.gen_range(1..5)).map(|i| if rng.gen_bool(0.7) { format!("\"k{i}\"") } else { json_key(rng, i) }).collect();
+    let keys: Vec<String> = (0..rng.gen_range(1..5))
+        .map(|i| {
+            if rng.gen_bool(0.7) {
+                format!("\"k{i}\"")
+            } else {
+                json_key(rng, i)
+            }
+        })
+        .collect();
     let string_column = rng.gen_bool(0.5);
     let switch = rng.gen_range(0..rows.max(1) + 200);
     let mut out = Vec::new();
@@ -804,7 +1274,21 @@ pub fn ndjson_table(rng: &mut Rng8) -> Vec<u8> {
     }
     for row in 0..rows {
         let line = match rng.gen_range(0..40) {
-            0 => pick(rng, &["[1,2]", "3", "\"s\"", "null", "{", "{\"k0\":}", "", "   ", "{}"]).to_string(),
+            0 => pick(
+                rng,
+                &[
+                    "[1,2]",
+                    "3",
+                    "\"s\"",
+                    "null",
+                    "{",
+                    "{\"k0\":}",
+                    "",
+                    "   ",
+                    "{}",
+                ],
+            )
+            .to_string(),
             _ => {
                 let mut fields = Vec::new();
                 for (i, key) in keys.iter().enumerate() {
@@ -812,7 +1296,11 @@ pub fn ndjson_table(rng: &mut Rng8) -> Vec<u8> {
                         continue;
                     }
                     let value = if i == 0 && string_column && row < switch {
-                        if rng.gen_bool(0.1) { "null".to_owned() } else { serde_json::to_string(&value_text(rng, &[])).expect("a string") }
+                        if rng.gen_bool(0.1) {
+                            "null".to_owned()
+                        } else {
+                            serde_json::to_string(&value_text(rng, &[])).expect("a string")
+                        }
                     } else {
                         json_value(rng, 0)
                     };
@@ -821,12 +1309,19 @@ pub fn ndjson_table(rng: &mut Rng8) -> Vec<u8> {
                 if rng.gen_range(0..30) == 0 {
                     fields.push(format!("{}:1", keys[0]));
                 }
-                format!("{{{}}}", fields.join(if rng.gen_bool(0.1) { " , " } else { "," }))
+                format!(
+                    "{{{}}}",
+                    fields.join(if rng.gen_bool(0.1) { " , " } else { "," })
+                )
             }
         };
         out.extend_from_slice(line.as_bytes());
         if row + 1 < rows || rng.gen_bool(0.8) {
-            out.extend_from_slice(if rng.gen_range(0..15) == 0 { b"\r\n" } else { b"\n" });
+            out.extend_from_slice(if rng.gen_range(0..15) == 0 {
+                b"\r\n"
+            } else {
+                b"\n"
+            });
         }
     }
     if rng.gen_bool(0.2) {

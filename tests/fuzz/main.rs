@@ -36,15 +36,27 @@ struct Args {
 
 fn parse_args() -> Result<Args, String> {
     let mut args = std::env::args().skip(1);
-    let target = args.next().ok_or("usage: fuzz TARGET --minutes N [--seed S] | TARGET --replay FILE")?;
+    let target = args
+        .next()
+        .ok_or("usage: fuzz TARGET --minutes N [--seed S] | TARGET --replay FILE")?;
     if !checks::TARGETS.contains(&target.as_str()) {
-        return Err(format!("unknown target {target:?}; the targets are {}", checks::TARGETS.join(", ")));
+        return Err(format!(
+            "unknown target {target:?}; the targets are {}",
+            checks::TARGETS.join(", ")
+        ));
     }
-    let mut parsed = Args { target, minutes: 1.0, seed: 1, replay: None };
+    let mut parsed = Args {
+        target,
+        minutes: 1.0,
+        seed: 1,
+        replay: None,
+    };
     while let Some(flag) = args.next() {
         let value = args.next().ok_or_else(|| format!("{flag} needs a value"))?;
         match flag.as_str() {
-            "--minutes" => parsed.minutes = value.parse().map_err(|_| format!("--minutes {value:?}"))?,
+            "--minutes" => {
+                parsed.minutes = value.parse().map_err(|_| format!("--minutes {value:?}"))?
+            }
             "--seed" => parsed.seed = value.parse().map_err(|_| format!("--seed {value:?}"))?,
             "--replay" => parsed.replay = Some(PathBuf::from(value)),
             _ => return Err(format!("unknown option {flag}")),
@@ -64,14 +76,20 @@ impl Target {
     fn new(name: &str) -> Target {
         Target {
             name: name.to_owned(),
-            seeds: if name == "rulesets" { ruleset_seeds() } else { Vec::new() },
+            seeds: if name == "rulesets" {
+                ruleset_seeds()
+            } else {
+                Vec::new()
+            },
             dir: tempfile::tempdir().expect("a temporary folder"),
         }
     }
 
     fn generate(&self, rng: &mut Rng8) -> Vec<u8> {
         match self.name.as_str() {
-            "rulesets" if rng.gen_bool(0.35) => generate::mutated_seed(rng, &self.seeds).into_bytes(),
+            "rulesets" if rng.gen_bool(0.35) => {
+                generate::mutated_seed(rng, &self.seeds).into_bytes()
+            }
             "rulesets" => {
                 let mut text = generate::ruleset_text(rng);
                 if rng.gen_bool(0.2) {
@@ -94,8 +112,12 @@ impl Target {
                 let values = generate::values_for(rng, &text);
                 checks::guarded(|| checks::check_ruleset(&text, &values))
             }
-            "csv" => checks::guarded(|| checks::check_table(input, TableKind::Csv, self.dir.path())),
-            "ndjson" => checks::guarded(|| checks::check_table(input, TableKind::NdJson, self.dir.path())),
+            "csv" => {
+                checks::guarded(|| checks::check_table(input, TableKind::Csv, self.dir.path()))
+            }
+            "ndjson" => {
+                checks::guarded(|| checks::check_table(input, TableKind::NdJson, self.dir.path()))
+            }
             _ => {
                 let text = String::from_utf8_lossy(input);
                 checks::guarded(|| checks::check_number(&text))
@@ -124,7 +146,12 @@ fn ruleset_seeds() -> Vec<String> {
 
 fn shown(input: &[u8]) -> String {
     let text = String::from_utf8_lossy(input);
-    let mut out: String = text.chars().take(300).collect::<String>().escape_debug().to_string();
+    let mut out: String = text
+        .chars()
+        .take(300)
+        .collect::<String>()
+        .escape_debug()
+        .to_string();
     if text.chars().count() > 300 {
         out.push_str(&format!("... ({} bytes)", input.len()));
     }
@@ -163,7 +190,10 @@ fn main() -> ExitCode {
     let mut failures: BTreeMap<String, (u64, Vec<u8>)> = BTreeMap::new();
     let mut tried: u64 = 0;
     let mut next_report = Duration::from_secs(60);
-    println!("fuzz {}: seed {}, {} minutes", args.target, args.seed, args.minutes);
+    println!(
+        "fuzz {}: seed {}, {} minutes",
+        args.target, args.seed, args.minutes
+    );
     while started.elapsed() < budget {
         let input = target.generate(&mut rng);
         std::fs::write(&last, &input).expect("target/fuzz/last-TARGET");
@@ -176,14 +206,25 @@ fn main() -> ExitCode {
                 let entry = failures.entry(key).or_insert_with(|| (0, input.clone()));
                 entry.0 += 1;
                 if entry.0 == 1 {
-                    let saved = out_dir.join("failures").join(format!("{}-{tried}", args.target));
+                    let saved = out_dir
+                        .join("failures")
+                        .join(format!("{}-{tried}", args.target));
                     std::fs::write(&saved, &input).expect("target/fuzz/failures");
-                    println!("FAILURE on input {tried} (saved as {}):\n  {failure}\n  input: {}", saved.display(), shown(&input));
+                    println!(
+                        "FAILURE on input {tried} (saved as {}):\n  {failure}\n  input: {}",
+                        saved.display(),
+                        shown(&input)
+                    );
                 }
             }
         }
         if started.elapsed() >= next_report {
-            println!("  {:.0} s: {tried} inputs, {} outcomes, {} failure kinds", started.elapsed().as_secs_f64(), outcomes.len(), failures.len());
+            println!(
+                "  {:.0} s: {tried} inputs, {} outcomes, {} failure kinds",
+                started.elapsed().as_secs_f64(),
+                outcomes.len(),
+                failures.len()
+            );
             next_report += Duration::from_secs(60);
         }
     }

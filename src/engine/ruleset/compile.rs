@@ -229,10 +229,16 @@ fn warn_pattern_like(
     words: &[String],
     warnings: &mut Vec<RulesetWarning>,
 ) {
-    const SYNTAX: &[&str] = &["|", "\\d", "\\s", "\\w", "\\b", ".*", ".+", "[", "]", "(?", "^", "$"];
+    const SYNTAX: &[&str] = &[
+        "|", "\\d", "\\s", "\\w", "\\b", ".*", ".+", "[", "]", "(?", "^", "$",
+    ];
     for w in words {
         if let Some(found) = SYNTAX.iter().find(|s| w.contains(*s)) {
-            let suggestion = if key == "any" { "pattern" } else { "unless_pattern" };
+            let suggestion = if key == "any" {
+                "pattern"
+            } else {
+                "unless_pattern"
+            };
             warnings.push(RulesetWarning {
                 file: place.file.to_owned(),
                 line,
@@ -262,10 +268,12 @@ fn unless(
     let literals = match any {
         Some(words) => {
             warn_pattern_like(place, at.title, at.line, "unless_any", words, warnings);
-            Some(literals(place, at.title, at.line, words, spec).map_err(|mut e| {
-                e.message = e.message.replace("`any`", "`unless_any`");
-                e
-            })?)
+            Some(
+                literals(place, at.title, at.line, words, spec).map_err(|mut e| {
+                    e.message = e.message.replace("`any`", "`unless_any`");
+                    e
+                })?,
+            )
         }
         None => None,
     };
@@ -283,8 +291,14 @@ fn compile_flag(
     warnings: &mut Vec<RulesetWarning>,
 ) -> Result<Feature, RulesetError> {
     let (title, line) = named(place, "flag", &f.name)?;
-    let matcher = matcher(place, &title, line, &f.any, &f.pattern, f.fancy, spec, warnings)?;
-    let at = At { title: &title, line, fancy: f.fancy };
+    let matcher = matcher(
+        place, &title, line, &f.any, &f.pattern, f.fancy, spec, warnings,
+    )?;
+    let at = At {
+        title: &title,
+        line,
+        fancy: f.fancy,
+    };
     let unless = unless(place, &at, &f.unless_any, &f.unless_pattern, spec, warnings)?;
     Ok(feature(
         spec,
@@ -312,8 +326,14 @@ fn compile_placeholders(
         let form = spec.normalize.apply(p);
         if form.is_empty() {
             return Err(place
-                .err(None, line("placeholders"), "`placeholders` holds a blank value")
-                .hint("blank values are already treated as placeholders; list only values with text"));
+                .err(
+                    None,
+                    line("placeholders"),
+                    "`placeholders` holds a blank value",
+                )
+                .hint(
+                    "blank values are already treated as placeholders; list only values with text",
+                ));
         }
         set.insert(form);
     }
@@ -329,7 +349,10 @@ fn compile_placeholders(
             };
             // Checked as written (errors point into it), then anchored.
             Pattern::compile(source, false, spec.decimal).map_err(locate)?;
-            Some(Pattern::compile(&format!("^(?:{source})$"), false, spec.decimal).map_err(locate)?)
+            Some(
+                Pattern::compile(&format!("^(?:{source})$"), false, spec.decimal)
+                    .map_err(locate)?,
+            )
         }
     };
     Ok((set, pattern))
@@ -405,7 +428,11 @@ fn compile_count(
         Some([lo, hi]) => Some((lo, hi)),
         None => None,
     };
-    let at = At { title: &title, line, fancy: c.fancy };
+    let at = At {
+        title: &title,
+        line,
+        fancy: c.fancy,
+    };
     let unless = unless(place, &at, &c.unless_any, &c.unless_pattern, spec, warnings)?;
     let rule = CountRule {
         pattern,
@@ -439,7 +466,11 @@ fn compile_measure(
         // every value through its side of the range.
         Some([lo, hi]) if lo.is_nan() || hi.is_nan() => {
             return Err(place
-                .err(Some(title), Some(line), format!("`range = [{lo}, {hi}]` holds NaN"))
+                .err(
+                    Some(title),
+                    Some(line),
+                    format!("`range = [{lo}, {hi}]` holds NaN"),
+                )
                 .hint("write numbers for both bounds"))
         }
         Some([lo, hi]) if lo > hi => {
@@ -453,10 +484,18 @@ fn compile_measure(
     };
     if let Some(missing) = m.missing.filter(|x| !x.is_finite()) {
         return Err(place
-            .err(Some(title), Some(line), format!("`missing = {missing}` is not a finite number"))
+            .err(
+                Some(title),
+                Some(line),
+                format!("`missing = {missing}` is not a finite number"),
+            )
             .hint("leave `missing` out to write null when nothing matches"));
     }
-    let at = At { title: &title, line, fancy: m.fancy };
+    let at = At {
+        title: &title,
+        line,
+        fancy: m.fancy,
+    };
     let unless = unless(place, &at, &m.unless_any, &m.unless_pattern, spec, warnings)?;
     let rule = MeasureRule {
         pattern,
@@ -512,7 +551,11 @@ fn measure_units(
         }
         let key = crate::ruleset::unit_key(&spec.normalize.apply(spelling)).to_owned();
         if key.is_empty() {
-            return Err(place.err(Some(title.into()), Some(at), "`units` holds a blank spelling"));
+            return Err(place.err(
+                Some(title.into()),
+                Some(at),
+                "`units` holds a blank spelling",
+            ));
         }
         if let Some((other, other_line)) = first_line.get(&key) {
             return Err(place
@@ -578,7 +621,11 @@ fn compile_label(
             spec,
             warnings,
         )?;
-        let at = At { title: &case_title, line: *case_line, fancy: c.fancy };
+        let at = At {
+            title: &case_title,
+            line: *case_line,
+            fancy: c.fancy,
+        };
         let unless = unless(place, &at, &c.unless_any, &c.unless_pattern, spec, warnings)?;
         cases.push(LabelCase {
             label: index(label),

@@ -52,7 +52,11 @@ pub struct RulesetWarning {
 
 impl std::fmt::Display for RulesetWarning {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        write!(f, "{}:{}: rule {}: {}", self.file, self.line, self.rule, self.message)
+        write!(
+            f,
+            "{}:{}: rule {}: {}",
+            self.file, self.line, self.rule, self.message
+        )
     }
 }
 
@@ -79,7 +83,11 @@ pub struct Unless {
 impl Unless {
     /// Whether the value holds one of the exceptions.
     pub fn matches(&self, text: &str) -> Result<bool, MatchError> {
-        if self.literals.as_ref().is_some_and(|l| l.find(text).is_some()) {
+        if self
+            .literals
+            .as_ref()
+            .is_some_and(|l| l.find(text).is_some())
+        {
             return Ok(true);
         }
         match &self.pattern {
