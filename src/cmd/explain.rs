@@ -3,12 +3,8 @@
 use std::process::ExitCode;
 
 use anyhow::{bail, Context};
-use serde::Serialize;
-
-use descry::evaluate::{Issue, Step};
 use descry::render::explain_text;
-use descry::report::cell_json;
-use descry::ruleset::ValueKind;
+use descry::report::explain::explain;
 
 use super::common::{emit, json_out, load_ruleset, Format};
 
@@ -46,25 +42,6 @@ pub struct Args {
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Text)]
     pub format: Format,
-}
-
-#[derive(Serialize)]
-struct Explained {
-    value: String,
-    normalized: String,
-    /// `considered`, `blank` or `placeholder`.
-    kind: &'static str,
-    features: Vec<FeatureTrace>,
-}
-
-#[derive(Serialize)]
-struct FeatureTrace {
-    output: String,
-    kind: &'static str,
-    fired: bool,
-    value: serde_json::Value,
-    issue: Option<Issue>,
-    steps: Vec<Step>,
 }
 
 /// Longest values file read: values are one per line, so anything larger
@@ -123,9 +100,9 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
     let mut explained = Vec::new();
     let mut text = String::new();
     for value in &values {
-        let normalized = rules.normalizer.apply(value);
-        let traces = rules.explain(&normalized);
         if args.format == Format::Text {
+            let normalized = rules.normalizer.apply(value);
+            let traces = rules.explain(&normalized);
             if !text.is_empty() {
                 text.push('\n');
             }
@@ -136,33 +113,9 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
                 &traces,
                 args.fired,
             ));
-            continue;
+        } else {
+            explained.push(explain(&rules, value, args.fired));
         }
-        let features = rules
-            .features
-            .iter()
-            .zip(traces)
-            .filter(|(_, t)| !args.fired || t.outcome.fired)
-            .map(|(f, t)| FeatureTrace {
-                output: f.output.clone(),
-                kind: f.rule.kind(),
-                fired: t.outcome.fired,
-                value: cell_json(f, t.outcome.cell),
-                issue: t.outcome.issue,
-                steps: t.steps,
-            })
-            .collect();
-        let kind = match rules.kind_of(&normalized) {
-            ValueKind::Considered => "considered",
-            ValueKind::Blank => "blank",
-            ValueKind::Placeholder => "placeholder",
-        };
-        explained.push(Explained {
-            value: value.clone(),
-            kind,
-            normalized,
-            features,
-        });
     }
     match args.format {
         Format::Text => emit(&text)?,

@@ -5,6 +5,7 @@
 //! from the per-value outcomes and the vocabulary's row counts.
 
 pub mod drift;
+pub mod explain;
 pub mod render;
 
 use serde::Serialize;

@@ -156,6 +156,30 @@ impl Describer {
     }
 }
 
+/// The feature columns of a whole table held in memory, computed as one
+/// batch: the route of the Python package. A count with no `range` is typed
+/// by the column's whole vocabulary, as `apply`'s first pass types it.
+pub fn features_in_memory(
+    table: &DataFrame,
+    descriptions: Vec<Description>,
+) -> PolarsResult<Vec<Column>> {
+    let full = if Describer::one_pass(&descriptions) {
+        Vec::new()
+    } else {
+        descriptions
+            .iter()
+            .map(|d| {
+                let text = text_of(table.column(&d.column)?)?;
+                let rows: Vec<Option<&str>> = text.iter().collect();
+                let mut vocab = GrowingVocabulary::default();
+                vocab.codes_for(&rows);
+                Ok(Some(vocab))
+            })
+            .collect::<PolarsResult<_>>()?
+    };
+    Describer::new(descriptions, full).features(table)
+}
+
 /// The lookup table of a column: one row per distinct non-null value of
 /// `vocab`, with the columns `value`, `rows` and the features of every
 /// ruleset, typed as `apply` types them (a count with no `range` is typed
