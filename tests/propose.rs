@@ -322,3 +322,128 @@ fn bad_input_is_named() {
         assert!(!out.exists(), "{args:?} wrote a draft");
     }
 }
+
+/// A draft proposed from `(value, rows)` pairs, compiled.
+fn draft_of(values: &[(&str, usize)]) -> (String, descry::Ruleset) {
+    let mut rows = Vec::new();
+    for &(value, n) in values {
+        rows.extend(std::iter::repeat_n(Some(value), n));
+    }
+    let vocab = descry::Vocabulary::build(rows);
+    let opts = descry::propose::ProposeOptions::default();
+    let draft = descry::propose::propose(&vocab, "value", &opts).unwrap();
+    let toml = draft.to_toml();
+    let rules = descry::Ruleset::from_toml(&toml, "draft.toml").unwrap();
+    (toml, rules)
+}
+
+/// The features of `value` that are not null, by name.
+fn read(rules: &descry::Ruleset, value: &str) -> Vec<(String, descry::Cell)> {
+    let normalized = rules.normalizer.apply(value);
+    rules
+        .evaluate(&normalized)
+        .into_iter()
+        .zip(&rules.features)
+        .filter(|(o, _)| o.cell != descry::Cell::Null)
+        .map(|(o, f)| (f.name.clone(), o.cell))
+        .collect()
+}
+
+fn length(rules: &descry::Ruleset, value: &str) -> Option<f64> {
+    read(rules, value)
+        .into_iter()
+        .find_map(|(name, cell)| match cell {
+            descry::Cell::Float(x) if name == "length_inch" => Some(x),
+            _ => None,
+        })
+}
+
+#[test]
+fn compound_lengths_and_foot_marks_add_up() {
+    // 1 ft = 12 in exactly (NIST SP 811, Appendix B.8).
+    let (toml, rules) = draft_of(&[
+        ("5'7\"", 30),
+        ("5'10''", 20),
+        ("5 feet 6 inches", 10),
+        ("5'8", 15),
+        ("6'", 5),
+        ("5′ 11″", 5),
+        ("170 cm", 5),
+    ]);
+    assert!(toml.contains("combine = \"sum\""), "{toml}");
+    assert_eq!(length(&rules, "5'7\""), Some(67.0), "{toml}");
+    assert_eq!(length(&rules, "5'10''"), Some(70.0), "{toml}");
+    assert_eq!(length(&rules, "5 feet 6 inches"), Some(66.0), "{toml}");
+    assert_eq!(length(&rules, "5'8"), Some(68.0), "{toml}");
+    assert_eq!(length(&rules, "6'"), Some(72.0), "{toml}");
+    assert_eq!(length(&rules, "5′ 11″"), Some(71.0), "{toml}");
+    let cm = length(&rules, "170 cm").unwrap();
+    assert!((cm - 170.0 / 2.54).abs() < 1e-6, "{cm}");
+    // Factors at the precision of their source, not 12.000000000000002.
+    assert!(!toml.contains("0000000000"), "{toml}");
+}
+
+#[test]
+fn bare_numbers_take_the_unit_they_fall_in() {
+    // Heights typed into a box asking for inches, some in centimetres.
+    let mut values: Vec<(String, usize)> = Vec::new();
+    for inches in 58..=78 {
+        values.push((inches.to_string(), 10));
+    }
+    for cm in [155, 160, 165, 170, 175, 180, 185] {
+        values.push((cm.to_string(), 5));
+    }
+    for written in ["5'7\"", "5'10\"", "6'1\"", "5'4\"", "170 cm"] {
+        values.push((written.to_owned(), 20));
+    }
+    let values: Vec<(&str, usize)> = values.iter().map(|(v, n)| (v.as_str(), *n)).collect();
+    let (toml, rules) = draft_of(&values);
+    let got = |value: &str, rule: &str| {
+        read(&rules, value)
+            .into_iter()
+            .find(|(name, _)| name == rule)
+            .map(|(_, cell)| cell)
+    };
+    assert_eq!(
+        got("67", "length_inch_bare"),
+        Some(descry::Cell::Float(67.0)),
+        "{toml}"
+    );
+    assert_eq!(
+        got("170", "length_cm_bare"),
+        Some(descry::Cell::Float(170.0)),
+        "{toml}"
+    );
+    // Neither reads the other's numbers: no range rejects a match.
+    assert_eq!(got("170", "length_inch_bare"), None, "{toml}");
+    assert_eq!(got("67", "length_cm_bare"), None, "{toml}");
+}
+
+#[test]
+fn bound_words_are_flagged_not_merged() {
+    let (toml, rules) = draft_of(&[
+        ("mixed, large (over 44 lbs)", 40),
+        ("mixed, medium (up to 44 lbs)", 40),
+        ("mixed, small (under 24 lbs)", 30),
+        ("terrier", 100),
+    ]);
+    let fired = |value: &str| -> Vec<String> {
+        read(&rules, value)
+            .into_iter()
+            .filter(|(_, c)| *c == descry::Cell::Bool(true) || matches!(c, descry::Cell::Float(_)))
+            .map(|(n, _)| n)
+            .collect()
+    };
+    let over = fired("mixed, large (over 44 lbs)");
+    let up_to = fired("mixed, medium (up to 44 lbs)");
+    assert!(
+        over.contains(&"mass_lbs_lower".to_owned()),
+        "{over:?}\n{toml}"
+    );
+    assert!(!over.contains(&"mass_lbs_upper".to_owned()), "{over:?}");
+    assert!(
+        up_to.contains(&"mass_lbs_upper".to_owned()),
+        "{up_to:?}\n{toml}"
+    );
+    assert!(!up_to.contains(&"mass_lbs_lower".to_owned()), "{up_to:?}");
+}

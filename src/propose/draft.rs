@@ -166,9 +166,18 @@ impl Draft {
         let name = toml_edit::Value::from(p.name.as_str()).to_string();
         let name = name.trim();
         match &p.rule {
-            ProposedRule::Flag { any } => {
-                let _ = writeln!(out, "[[flag]]\nname = {name}\nany = {}\n", toml_list(any));
-            }
+            ProposedRule::Flag { any, pattern } => match pattern {
+                Some(pattern) => {
+                    let _ = writeln!(
+                        out,
+                        "[[flag]]\nname = {name}\npattern = {}\n",
+                        toml_string(pattern)
+                    );
+                }
+                None => {
+                    let _ = writeln!(out, "[[flag]]\nname = {name}\nany = {}\n", toml_list(any));
+                }
+            },
             ProposedRule::Count { pattern, range } => {
                 let _ = writeln!(
                     out,
@@ -182,6 +191,8 @@ impl Draft {
                 pattern,
                 unit,
                 units,
+                combine,
+                fancy,
             } => {
                 let _ = writeln!(
                     out,
@@ -189,6 +200,20 @@ impl Draft {
                     toml_string(pattern),
                     toml_edit::Value::from(unit.as_str()).to_string().trim()
                 );
+                if *fancy {
+                    let _ = writeln!(out, "fancy = true");
+                }
+                if let Some(combine) = combine {
+                    let _ = writeln!(
+                        out,
+                        "combine = {}",
+                        toml_edit::Value::from(combine.as_str()).to_string().trim()
+                    );
+                }
+                if units.is_empty() {
+                    out.push('\n');
+                    return;
+                }
                 let seen: Vec<&str> = units
                     .iter()
                     .filter(|u| u.seen)
@@ -404,6 +429,28 @@ pub(crate) fn tested_support(
     dropped
 }
 
+/// The numbers of a value as written: its digits and what stands between
+/// two digits (`5'5` and `5' 5"` give `5'5`, `5.5` gives `5.5`).
+fn number_shape(value: &str) -> String {
+    let chars: Vec<char> = value.chars().filter(|c| !c.is_whitespace()).collect();
+    let digit_at: Vec<usize> = (0..chars.len())
+        .filter(|&i| chars[i].is_ascii_digit())
+        .collect();
+    let mut out = String::new();
+    for (k, &i) in digit_at.iter().enumerate() {
+        out.push(chars[i]);
+        if let Some(&next) = digit_at.get(k + 1) {
+            let between = &chars[i + 1..next];
+            if between.iter().all(|c| !c.is_alphabetic()) {
+                out.extend(between);
+            } else {
+                out.push(' ');
+            }
+        }
+    }
+    out
+}
+
 /// A label `map` from the token-set clusters with the most rows.
 pub(crate) fn map_from_clusters(
     corpus: &Corpus,
@@ -438,6 +485,16 @@ pub(crate) fn map_from_clusters(
             continue;
         }
         let canonical = tidy(&c.canonical);
+        // Numbers are kept as written: `5'5` (feet and inches) and `5.5`
+        // are different lengths, whatever their words.
+        let numbers = number_shape(&opts.normalizer.apply(&canonical));
+        let fresh: Vec<&String> = fresh
+            .into_iter()
+            .filter(|k| number_shape(k) == numbers)
+            .collect();
+        if fresh.len() < 2 {
+            continue;
+        }
         for k in fresh {
             seen.insert(k.clone());
             map.push((k.clone(), canonical.clone()));

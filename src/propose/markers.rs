@@ -100,7 +100,68 @@ struct UnitSeen {
     /// Index into [`UNITS`].
     unit: usize,
     value: f64,
+    /// A bound word in front of the number (`up to 44 lbs`, `over 44 lbs`).
+    bound: Option<Bound>,
+    /// A number with no unit right after a foot mark (`7` in `5'7`): read in
+    /// the smaller unit of the compound, `unit` is the mark's.
+    tail: bool,
 }
+
+/// Which end of a quantity a bound word gives.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Bound {
+    /// `up to`, `under`, `<`: the value is at most the number.
+    Upper,
+    /// `over`, `at least`, `>`: the value is at least the number.
+    Lower,
+}
+
+/// Bound words in front of a number (common practice), longest first.
+const UPPER_WORDS: &[&str] = &[
+    "less than",
+    "no more than",
+    "maximum",
+    "up to",
+    "below",
+    "under",
+    "max",
+    "<=",
+    "≤",
+    "<",
+];
+const LOWER_WORDS: &[&str] = &[
+    "more than",
+    "at least",
+    "minimum",
+    "above",
+    "over",
+    "min",
+    ">=",
+    "≥",
+    ">",
+];
+
+/// The bound word right in front of a number, if any.
+fn bound_before(before: &str) -> Option<Bound> {
+    let text = before.trim_end();
+    let ends_with_word = |w: &str| {
+        text.strip_suffix(w).is_some_and(|rest| {
+            !w.starts_with(|c: char| c.is_alphabetic())
+                || !rest.ends_with(|c: char| c.is_alphanumeric())
+        })
+    };
+    if UPPER_WORDS.iter().any(|w| ends_with_word(w)) {
+        Some(Bound::Upper)
+    } else if LOWER_WORDS.iter().any(|w| ends_with_word(w)) {
+        Some(Bound::Lower)
+    } else {
+        None
+    }
+}
+
+/// Foot marks: a number right after one, with no unit of its own, is the
+/// inches of a compound length (`5'7`).
+const FOOT_MARKS: &[char] = &['\'', '′', '’'];
 
 /// What the numbers of a column gave.
 pub(crate) struct Mined {
@@ -154,8 +215,25 @@ fn scan(entry: u32, value: &str, decimal: DecimalMark) -> (Vec<Seen>, Vec<UnitSe
                 entry,
                 unit: unit_index(u.as_str()),
                 value: number,
+                bound: bound_before(before),
+                tail: false,
             });
             unit_end = m.end() + u.end();
+            continue;
+        }
+        // `5'7`: the inches after a foot mark, written without their mark.
+        let after_mark = unit_end > 0
+            && before[..unit_end].ends_with(FOOT_MARKS)
+            && before[unit_end..].trim().is_empty();
+        if after_mark && !rest.trim_start().starts_with(|c: char| c.is_alphanumeric()) {
+            let mark = units.last().map_or(0, |u| u.unit);
+            units.push(UnitSeen {
+                entry,
+                unit: mark,
+                value: number,
+                bound: None,
+                tail: true,
+            });
             continue;
         }
         // Without a unit, `12/12` is two counts, not a fraction: read the
@@ -281,7 +359,8 @@ pub(crate) fn mine(corpus: &Corpus, words: &WordIndex, opts: &ProposeOptions) ->
     }
     let total = corpus.total_rows.max(1) as f64;
     let min_rows = (opts.min_share * total).ceil().max(1.0) as u64;
-    let measures = measures(corpus, &units, min_rows, opts);
+    let bare = bare_numbers(corpus, opts.decimal);
+    let measures = measures(corpus, &units, &bare, min_rows, opts);
     let mut marker_words: HashSet<String> = HashSet::new();
     for p in &measures {
         if let ProposedRule::Measure { units, .. } = &p.rule {
@@ -306,6 +385,26 @@ pub(crate) fn mine(corpus: &Corpus, words: &WordIndex, opts: &ProposeOptions) ->
         measures,
         marker_words,
     }
+}
+
+/// Values that are only a number (`67`, `1.7`), with that number.
+fn bare_numbers(corpus: &Corpus, decimal: DecimalMark) -> Vec<(u32, f64)> {
+    let number_regex = match decimal {
+        DecimalMark::Point => &NUMBER_POINT,
+        DecimalMark::Comma => &NUMBER_COMMA,
+    };
+    corpus
+        .normalized
+        .iter()
+        .enumerate()
+        .filter_map(|(e, v)| {
+            let m = number_regex.find(v)?;
+            (m.start() == 0 && m.end() == v.len())
+                .then(|| parse_number(v, decimal))
+                .flatten()
+                .map(|x| (e as u32, x))
+        })
+        .collect()
 }
 
 fn counts(
@@ -593,9 +692,33 @@ fn best_spelling(node: &Node) -> Option<String> {
         .map(|w| w.to_string())
 }
 
+/// A measure's reading of one value: the first number with a unit, or
+/// with a compound (`5 ft 6 in`, `5'7`) the sum, in the target unit.
+fn reading(list: &[&UnitSeen], compound: bool, target: &super::units::UnitSpelling) -> f64 {
+    let one = |u: &UnitSeen| {
+        if u.tail {
+            u.value
+        } else {
+            u.value * UNITS[u.unit].factor / target.factor
+        }
+    };
+    if compound {
+        list.iter().map(|u| one(u)).sum()
+    } else {
+        one(list[0])
+    }
+}
+
+/// A factor written at the precision of its sources (12 significant
+/// digits): `0.3048 / 0.0254` is 12, not 12.000000000000002.
+fn rounded(x: f64) -> f64 {
+    format!("{x:.11e}").parse().unwrap_or(x)
+}
+
 fn measures(
     corpus: &Corpus,
     units: &[UnitSeen],
+    bare: &[(u32, f64)],
     min_rows: u64,
     opts: &ProposeOptions,
 ) -> Vec<Proposal> {
@@ -617,30 +740,69 @@ fn measures(
         if rows < min_rows {
             continue;
         }
-        // Rows per spelling; the spelling written most often gives the target unit.
-        let mut per_unit: HashMap<usize, (Vec<u32>, f64, f64)> = HashMap::new();
+        let mut per_entry: BTreeMap<u32, Vec<&UnitSeen>> = BTreeMap::new();
         for u in &seen {
-            let e =
-                per_unit
-                    .entry(u.unit)
-                    .or_insert((Vec::new(), f64::INFINITY, f64::NEG_INFINITY));
-            e.0.push(u.entry);
-            e.1 = e.1.min(u.value * UNITS[u.unit].factor);
-            e.2 = e.2.max(u.value * UNITS[u.unit].factor);
+            per_entry.entry(u.entry).or_default().push(u);
         }
-        let mut spellings: Vec<(usize, u64, f64, f64)> = per_unit
+        // A compound: a larger unit followed by a smaller one in one value
+        // (`5 ft 6 in`), or a number after a foot mark (`5'7`). The smaller
+        // unit written most often is then the target, and readings add up.
+        let mut smaller: HashMap<usize, u64> = HashMap::new();
+        let (mut compound_values, mut tails) = (0, false);
+        for (&e, list) in &per_entry {
+            let mut is_compound = false;
+            for w in list.windows(2) {
+                if w[1].tail {
+                    tails = true;
+                    is_compound = true;
+                } else if UNITS[w[0].unit].factor > UNITS[w[1].unit].factor {
+                    *smaller.entry(w[1].unit).or_default() += corpus.rows[e as usize];
+                    is_compound = true;
+                }
+            }
+            compound_values += usize::from(is_compound);
+        }
+        let compound = compound_values >= 2 && !smaller.is_empty();
+        // Rows per spelling; the spelling written most often gives the target unit.
+        let mut per_unit: HashMap<usize, Vec<u32>> = HashMap::new();
+        for u in seen.iter().filter(|u| !u.tail) {
+            per_unit.entry(u.unit).or_default().push(u.entry);
+        }
+        let mut spellings: Vec<(usize, u64)> = per_unit
             .into_iter()
-            .map(|(u, (mut es, lo, hi))| {
+            .map(|(u, mut es)| {
                 es.sort_unstable();
                 es.dedup();
-                (u, corpus.rows_of(&es), lo, hi)
+                (u, corpus.rows_of(&es))
             })
             .collect();
         spellings.sort_by(|a, b| {
             b.1.cmp(&a.1)
                 .then_with(|| UNITS[a.0].spelling.cmp(UNITS[b.0].spelling))
         });
-        let target = &UNITS[spellings[0].0];
+        let target_index = if compound {
+            let mut best: Vec<(usize, u64)> = smaller.into_iter().collect();
+            best.sort_by(|a, b| {
+                b.1.cmp(&a.1)
+                    .then_with(|| UNITS[a.0].spelling.cmp(UNITS[b.0].spelling))
+            });
+            best[0].0
+        } else {
+            spellings[0].0
+        };
+        let target = &UNITS[target_index];
+        // A bare number after a foot mark is read in the target unit, so
+        // only when that unit is the inch.
+        let tails = compound && tails && target.unit == "inch";
+        let readings: Vec<(u32, f64)> = per_entry
+            .iter()
+            .map(|(&e, list)| {
+                let list: Vec<&UnitSeen> =
+                    list.iter().copied().filter(|u| tails || !u.tail).collect();
+                (e, reading(&list, compound, target))
+            })
+            .filter(|r| r.1.is_finite())
+            .collect();
         // Seen spellings first (most rows first), then the table's other
         // spellings of the same quantity, so the next data drop's `ltr` or
         // `ps` is read too.
@@ -660,47 +822,325 @@ fn measures(
             })
             .map(|&u| UnitFactor {
                 spelling: UNITS[u].spelling.to_owned(),
-                factor: UNITS[u].factor / target.factor,
+                factor: rounded(UNITS[u].factor / target.factor),
                 unit: UNITS[u].unit.to_owned(),
                 source: UNITS[u].source.to_owned(),
                 seen: seen_units.contains(&u),
             })
             .collect();
-        let lo = spellings.iter().map(|s| s.2).fold(f64::INFINITY, f64::min) / target.factor;
-        let hi = spellings
+        let lo = readings.iter().map(|r| r.1).fold(f64::INFINITY, f64::min);
+        let hi = readings
             .iter()
-            .map(|s| s.3)
-            .fold(f64::NEG_INFINITY, f64::max)
-            / target.factor;
+            .map(|r| r.1)
+            .fold(f64::NEG_INFINITY, f64::max);
         let alt =
             spelling_alternation(seen_units.iter().chain(&unseen).map(|&u| UNITS[u].spelling));
-        let pattern = format!(r"(?:^|[^\d.,/])({{num}})\s?-?\s?({alt})\.?(?:[^\p{{L}}]|$)");
+        let mut notes = vec![format!(
+            "target unit: {} ({}), {}; values seen: {} to {} {}",
+            unit_word(target_index),
+            target.unit,
+            if compound {
+                "the smaller unit of the compounds written"
+            } else {
+                "the unit written most often"
+            },
+            short(lo),
+            short(hi),
+            unit_word(target_index)
+        )];
+        let (pattern, combine, fancy) = if compound {
+            notes.push(format!(
+                "{compound_values} values write a compound (`5 ft 6 in`): every number with a unit is read and the readings are added up"
+            ));
+            // Look-arounds instead of consumed neighbours, so that the next
+            // number of a compound can still be matched.
+            let mut p = format!(r"(?<![\d.,/])({{num}})\s?-?\s?({alt})\.?(?!\p{{L}})");
+            if tails {
+                notes.push(format!(
+                    "a number right after a foot mark, with no unit of its own (`5'7`), is read in {}",
+                    unit_word(target_index)
+                ));
+                p.push_str(r#"|(?<=['′’])\s*({num})(?![\d.,'′’"”])(?!\s*\p{L})"#);
+            }
+            (p, Some("sum".to_owned()), true)
+        } else {
+            (
+                format!(r"(?:^|[^\d.,/])({{num}})\s?-?\s?({alt})\.?(?:[^\p{{L}}]|$)"),
+                None,
+                false,
+            )
+        };
         let name = format!(
             "{}_{}",
             quantity.stem(),
-            rule_name(target.spelling).replace('_', "")
+            unit_name(target.spelling, target.unit)
         );
         out.push(Proposal {
-            name,
+            name: name.clone(),
             rule: ProposedRule::Measure {
                 pattern,
-                unit: target.spelling.to_owned(),
+                unit: unit_word(target_index).to_owned(),
                 units: factors,
+                combine,
+                fancy,
+            },
+            distinct: entries.len() as u64,
+            rows,
+            examples: corpus.examples(&entries, opts.examples),
+            notes,
+        });
+        out.extend(bound_flags(
+            corpus, &seen, &name, rows, &alt, min_rows, opts,
+        ));
+        let written: Vec<(u64, f64)> = readings
+            .iter()
+            .map(|&(e, r)| (corpus.rows[e as usize], r * target.factor))
+            .collect();
+        out.extend(bare_measures(
+            corpus, quantity, &written, bare, min_rows, opts,
+        ));
+    }
+    out
+}
+
+/// The target unit as a word: the spelling, or for a mark (`"`) the
+/// unit's first spelling in letters (`inch`).
+fn unit_word(unit: usize) -> &'static str {
+    let u = &UNITS[unit];
+    if u.spelling.chars().any(char::is_alphanumeric) {
+        return u.spelling;
+    }
+    UNITS
+        .iter()
+        .find(|o| o.unit == u.unit && o.spelling.chars().all(char::is_alphabetic))
+        .map_or(u.spelling, |o| o.spelling)
+}
+
+/// A rule name for a unit: its spelling, or its name when the spelling is
+/// a mark (`'`, `"`).
+fn unit_name(spelling: &str, unit: &str) -> String {
+    if spelling.chars().any(char::is_alphanumeric) {
+        rule_name(spelling).replace('_', "")
+    } else {
+        rule_name(unit).replace('_', "")
+    }
+}
+
+/// Flags for the bound words in front of a measure's numbers (`up to 44
+/// lbs`, `over 44 lbs`): the measure reads 44 in both, the flags say which
+/// end it is.
+fn bound_flags(
+    corpus: &Corpus,
+    seen: &[&UnitSeen],
+    measure: &str,
+    measure_rows: u64,
+    alt: &str,
+    min_rows: u64,
+    opts: &ProposeOptions,
+) -> Vec<Proposal> {
+    let mut out = Vec::new();
+    for (bound, words, suffix, what) in [
+        (Bound::Upper, UPPER_WORDS, "upper", "at most"),
+        (Bound::Lower, LOWER_WORDS, "lower", "at least"),
+    ] {
+        let mut entries: Vec<u32> = seen
+            .iter()
+            .filter(|u| u.bound == Some(bound))
+            .map(|u| u.entry)
+            .collect();
+        entries.sort_unstable();
+        entries.dedup();
+        // Any bound the measure reads often enough to matter is flagged:
+        // without the flag `up to 44` and `over 44` are one reading.
+        let rows = corpus.rows_of(&entries);
+        if entries.is_empty() || rows * 20 < measure_rows.min(min_rows * 20) {
+            continue;
+        }
+        let words: Vec<String> = words.iter().map(|w| regex::escape(w)).collect();
+        out.push(Proposal {
+            name: format!("{measure}_{suffix}"),
+            rule: ProposedRule::Flag {
+                any: Vec::new(),
+                pattern: Some(format!(
+                    r"(?:^|[^\p{{L}}])(?:{})\s?[0-9.,]*[0-9]\s?-?\s?(?:{alt})\.?(?:[^\p{{L}}]|$)",
+                    words.join("|")
+                )),
             },
             distinct: entries.len() as u64,
             rows,
             examples: corpus.examples(&entries, opts.examples),
             notes: vec![format!(
-                "target unit: {} ({}), the unit written most often; values seen: {} to {} {}",
-                target.spelling,
-                target.unit,
-                short(lo),
-                short(hi),
-                target.spelling
+                "`{measure}` is a bound here: the value is {what} the number read (bound words: {})",
+                (if bound == Bound::Upper { UPPER_WORDS } else { LOWER_WORDS }).join(", ")
             )],
         });
     }
     out
+}
+
+/// Bare numbers (a value that is only a number) in a column that writes a
+/// quantity with units elsewhere: each unit of the quantity in which a bare
+/// number falls among the lengths (masses, ...) written with a unit is a
+/// reading of it. A unit is proposed when it alone explains enough bare
+/// numbers (`67` as inches and `170` as centimetres in a column of heights
+/// written `5'7"` and `170 cm`), with the range of the numbers it explains.
+fn bare_measures(
+    corpus: &Corpus,
+    quantity: Quantity,
+    written: &[(u64, f64)],
+    bare: &[(u32, f64)],
+    min_rows: u64,
+    opts: &ProposeOptions,
+) -> Vec<Proposal> {
+    let bare_rows: u64 = bare.iter().map(|&(e, _)| corpus.rows[e as usize]).sum();
+    if written.len() < 3 || bare_rows < min_rows {
+        return Vec::new();
+    }
+    // The 5th to 95th percentile of the written readings (by rows), widened
+    // by a third on either side.
+    let mut sorted = written.to_vec();
+    sorted.sort_by(|a, b| a.1.total_cmp(&b.1));
+    let total: u64 = sorted.iter().map(|w| w.0).sum();
+    let at = |share: f64| {
+        let mut acc = 0;
+        for w in &sorted {
+            acc += w.0;
+            if acc as f64 >= share * total as f64 {
+                return w.1;
+            }
+        }
+        sorted[sorted.len() - 1].1
+    };
+    let (lo, hi) = (at(0.05) / WIDEN, at(0.95) * WIDEN);
+    if lo <= 0.0 {
+        return Vec::new();
+    }
+    // One spelling per unit: the first of the table.
+    let mut candidates: Vec<usize> = Vec::new();
+    for (i, u) in UNITS.iter().enumerate() {
+        let first = !candidates.iter().any(|&c| UNITS[c].unit == u.unit);
+        if u.quantity == quantity && first && u.spelling.chars().all(char::is_alphabetic) {
+            candidates.push(i);
+        }
+    }
+    let fits = |u: usize, x: f64| (lo..=hi).contains(&(x * UNITS[u].factor));
+    let mut out = Vec::new();
+    for &u in &candidates {
+        // Numbers this unit explains, and no other.
+        let mut mine: Vec<(u32, f64)> = bare
+            .iter()
+            .copied()
+            .filter(|&(_, x)| fits(u, x) && candidates.iter().all(|&o| o == u || !fits(o, x)))
+            .collect();
+        mine.sort_by(|a, b| a.1.total_cmp(&b.1));
+        let rows: u64 = mine.iter().map(|&(e, _)| corpus.rows[e as usize]).sum();
+        if mine.len() < 3 || rows < min_rows {
+            continue;
+        }
+        let (first, last) = (
+            mine[0].1.floor() as u64,
+            mine[mine.len() - 1].1.floor() as u64,
+        );
+        let mark = regex::escape(&opts.decimal.decimal().to_string());
+        let pattern = format!(r"^((?:{})(?:{mark}[0-9]+)?)$", range_regex(first, last));
+        let mut entries: Vec<u32> = mine.iter().map(|m| m.0).collect();
+        entries.sort_unstable();
+        let spelling = UNITS[u].spelling;
+        out.push(Proposal {
+            name: format!("{}_{}_bare", quantity.stem(), unit_name(spelling, UNITS[u].unit)),
+            rule: ProposedRule::Measure {
+                pattern,
+                unit: spelling.to_owned(),
+                units: Vec::new(),
+                combine: None,
+                fancy: false,
+            },
+            distinct: entries.len() as u64,
+            rows,
+            examples: corpus.examples(&entries, opts.examples),
+            notes: vec![format!(
+                "values that are only a number, {first} to {last}: read as {} ({}), because in that unit they fall among the values written with a unit ({} to {} {}); no other unit does",
+                spelling,
+                UNITS[u].unit,
+                short(lo / UNITS[u].factor),
+                short(hi / UNITS[u].factor),
+                spelling
+            )],
+        });
+    }
+    out
+}
+
+/// How far bare numbers may lie outside the written readings' 5th to 95th
+/// percentile (a factor).
+const WIDEN: f64 = 1.35;
+
+/// A regex matching the whole numbers `lo..=hi` (no leading zeros).
+fn range_regex(lo: u64, hi: u64) -> String {
+    let mut parts = Vec::new();
+    let mut start = lo;
+    while start <= hi {
+        let digits = start.to_string().len() as u32;
+        let end = hi.min(10u64.pow(digits) - 1);
+        same_length(
+            &start.to_string(),
+            &end.to_string(),
+            &mut String::new(),
+            &mut parts,
+        );
+        start = end + 1;
+    }
+    parts.join("|")
+}
+
+/// Alternatives matching the numbers from `a` to `b`, both of one length,
+/// each after `prefix`.
+fn same_length(a: &str, b: &str, prefix: &mut String, parts: &mut Vec<String>) {
+    if a.is_empty() {
+        parts.push(prefix.clone());
+        return;
+    }
+    let (a0, b0) = (a.as_bytes()[0], b.as_bytes()[0]);
+    let (ra, rb) = (&a[1..], &b[1..]);
+    let any = |n: usize| {
+        if n == 0 {
+            String::new()
+        } else if n == 1 {
+            "[0-9]".to_owned()
+        } else {
+            format!("[0-9]{{{n}}}")
+        }
+    };
+    let class = |x: u8, y: u8| {
+        if x == y {
+            (x as char).to_string()
+        } else {
+            format!("[{}-{}]", x as char, y as char)
+        }
+    };
+    if a0 == b0 {
+        prefix.push(a0 as char);
+        same_length(ra, rb, prefix, parts);
+        prefix.pop();
+        return;
+    }
+    let low_full = ra.bytes().all(|c| c == b'0');
+    let high_full = rb.bytes().all(|c| c == b'9');
+    let from = if low_full { a0 } else { a0 + 1 };
+    let to = if high_full { b0 } else { b0 - 1 };
+    if !low_full {
+        let mut p = prefix.clone();
+        p.push(a0 as char);
+        same_length(ra, &"9".repeat(ra.len()), &mut p, parts);
+    }
+    if from <= to {
+        parts.push(format!("{prefix}{}{}", class(from, to), any(ra.len())));
+    }
+    if !high_full {
+        let mut p = prefix.clone();
+        p.push(b0 as char);
+        same_length(&"0".repeat(rb.len()), rb, &mut p, parts);
+    }
 }
 
 fn short(x: f64) -> String {
@@ -754,6 +1194,30 @@ mod tests {
         assert_eq!(marks("12/12 shuttle")[0], (Mark::Slash, Some(12)));
         assert_eq!(marks("automatic (8)"), [(Mark::Paren, Some(8))]);
         assert_eq!(marks("4.5 spd"), [(Mark::After("spd".into()), None)]);
+    }
+
+    #[test]
+    fn range_regexes_match_exactly_their_range() {
+        for (lo, hi) in [(50, 84), (120, 214), (5, 7), (1, 1000), (99, 101)] {
+            let re = Regex::new(&format!("^(?:{})$", range_regex(lo, hi))).unwrap();
+            for n in 0..1200u64 {
+                assert_eq!(
+                    re.is_match(&n.to_string()),
+                    (lo..=hi).contains(&n),
+                    "{n} in {lo}..={hi}"
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn bound_words_in_front_of_a_number() {
+        assert_eq!(bound_before("mixed (up to "), Some(Bound::Upper));
+        assert_eq!(bound_before("under "), Some(Bound::Upper));
+        assert_eq!(bound_before("over "), Some(Bound::Lower));
+        assert_eq!(bound_before(">"), Some(Bound::Lower));
+        // `clover` does not end with the word `over`.
+        assert_eq!(bound_before("clover "), None);
     }
 
     #[test]

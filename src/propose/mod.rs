@@ -200,6 +200,9 @@ pub struct Proposal {
 pub enum ProposedRule {
     Flag {
         any: Vec<String>,
+        /// A pattern instead of words (the bound flags of a measure).
+        #[serde(skip_serializing_if = "Option::is_none")]
+        pattern: Option<String>,
     },
     Count {
         pattern: String,
@@ -209,6 +212,13 @@ pub enum ProposedRule {
         pattern: String,
         unit: String,
         units: Vec<UnitFactor>,
+        /// `"sum"` for compound quantities (`5 ft 6 in`); the ruleset's
+        /// default (`"first"`) otherwise.
+        #[serde(skip_serializing_if = "Option::is_none")]
+        combine: Option<String>,
+        /// The pattern needs look-arounds (`fancy = true`).
+        #[serde(skip_serializing_if = "std::ops::Not::not")]
+        fancy: bool,
     },
     Label {
         cases: Vec<(String, Vec<String>)>,

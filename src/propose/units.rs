@@ -79,6 +79,11 @@ pub const UNITS: &[UnitSpelling] = table! {
     // inch = 2.54 E-02 m (exact); foot = 3.048 E-01 m (exact).
     Length, "inch", 0.0254, NIST_B8; ["inch", "inches"]
     Length, "foot", 0.3048, NIST_B8; ["ft", "foot", "feet"]
+    // Foot and inch marks: the prime and double prime (NFKC writes ″ as
+    // ′′), the apostrophe and quotation mark typed for them, and their
+    // typographic forms (common practice).
+    Length, "inch", 0.0254, NIST_B8; ["\"", "''", "′′", "”"]
+    Length, "foot", 0.3048, NIST_B8; ["'", "′", "’"]
     // Volume and displacement (base: litre).
     Volume, "litre", 1.0, LITRE; ["l", "lt", "lts", "ltr", "ltrs", "litre", "litres", "liter", "liters"]
     Volume, "millilitre", 0.001, SI; ["ml"]

@@ -201,6 +201,7 @@ pub(crate) fn flags_and_labels(
                 name: rule_name(&g.spellings[0]),
                 rule: ProposedRule::Flag {
                     any: g.spellings.clone(),
+                    pattern: None,
                 },
                 distinct: g.entries.len() as u64,
                 rows: g.rows,
