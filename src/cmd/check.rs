@@ -10,14 +10,15 @@ use serde::Serialize;
 use descry::pipeline::lookup_table_evaluated;
 use descry::render::{check_text, escaped};
 use descry::report::drift::{drift, read_baseline, write_baseline, BaselineFigures, Drop};
+use descry::report::html::{check_html, HtmlOptions};
 use descry::report::{DriftLimits, Gate};
 use descry::ruleset::ValueKind;
-use descry::write::{check_not_an_input, check_output_file};
+use descry::write::{check_not_an_input, check_output_file, write_text_atomically};
 use descry::{CoverageReport, Ruleset};
 
 use super::common::{
     column_notes, emit, json_out, load_descriptions, parse_share, print_notes, read_vocabularies,
-    ruleset_text, Format, InputArgs,
+    ruleset_text, InputArgs,
 };
 
 pub const ABOUT: &str = "\
@@ -42,6 +43,12 @@ Several rulesets (-r A.toml -r B.toml) are checked in one read of the
 table. The JSON report is then one object of schema \"descry.checks/1\"
 holding a \"descry.check/1\" report for each ruleset and every gate.
 
+--format html writes one self-contained page (no network fetches): coverage
+at a glance, a bar per rule, the unmatched values as a sortable, filterable
+table, the examples and, with --baseline, the labels before and after, the
+drift figures and the new values. -o FILE writes the report (any format) to
+FILE, atomically, instead of standard output.
+
 Exit codes: 0 when every gate passes; 1 when a gate or an example fails;
 2 on any error (bad file, bad ruleset, a --require naming no rule).
 
@@ -52,7 +59,9 @@ column).
 Examples:
   descry check samples/listings.csv -r rulesets/engine.toml --min-coverage 0.95
   descry check drop.parquet -r rulesets/engine.toml -r rulesets/transmission.toml \\
-      --require eng_turbo=0.05 --format json";
+      --require eng_turbo=0.05 --format json
+  descry check drop.csv -r rulesets/engine.toml --baseline last.parquet \\
+      --format html -o report.html";
 
 #[derive(Debug, clap::Args)]
 #[command(long_about = ABOUT)]
@@ -66,10 +75,14 @@ pub struct Args {
     /// The column to describe, when a single ruleset is given; overrides its `column`.
     #[arg(long, short = 'c')]
     pub column: Option<String>,
-    /// Report format: human text, or JSON (schema "descry.check/1"; with
-    /// several rulesets "descry.checks/1").
-    #[arg(long, value_enum, default_value_t = Format::Text)]
-    pub format: Format,
+    /// Report format: human text, JSON (schema "descry.check/1"; with
+    /// several rulesets "descry.checks/1"), or one self-contained HTML page.
+    #[arg(long, value_enum, default_value_t = ReportFormat::Text)]
+    pub format: ReportFormat,
+    /// Write the report to FILE (atomically) instead of standard output.
+    /// Never an input, the baseline, or the file --save-baseline writes.
+    #[arg(long, short = 'o', value_name = "FILE")]
+    pub output: Option<PathBuf>,
     /// Fail (exit 1) when the share of covered rows with text is below this
     /// fraction, e.g. 0.95; applies to each ruleset.
     #[arg(long, value_parser = parse_share)]
@@ -114,6 +127,17 @@ pub struct Args {
     #[arg(long, short = 'q')]
     pub quiet: bool,
 }
+
+/// `check`'s report formats.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum ReportFormat {
+    Text,
+    Json,
+    Html,
+}
+
+/// How many values each table of the HTML page lists (the JSON lists all).
+const HTML_VALUES: usize = 1000;
 
 fn parse_psi(s: &str) -> Result<f64, String> {
     match s.parse::<f64>() {
@@ -179,6 +203,17 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
     for save in saves.iter().flatten() {
         check_not_an_input(save, &inputs)?;
     }
+    if let Some(output) = &args.output {
+        check_output_file(output)?;
+        check_not_an_input(output, &inputs)?;
+        if let Some(save) = saves.iter().flatten().find(|s| same_file(s, output)) {
+            bail!(
+                "{}: is also where --save-baseline writes {}; choose another report file",
+                output.display(),
+                save.display()
+            );
+        }
+    }
     let names: Vec<&str> = columns.iter().map(String::as_str).collect();
     let vocabs = read_vocabularies(&args.input, &names, args.quiet)?;
     let mut reports = Vec::new();
@@ -233,13 +268,19 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
         reports.push(report);
     }
     let passed = reports.iter().all(|r| r.passed);
-    match args.format {
-        Format::Text => {
+    let report = match args.format {
+        ReportFormat::Text => {
             let text: Vec<String> = reports.iter().map(|r| check_text(r, args.top)).collect();
-            emit(&text.join("\n"))?
+            text.join("\n")
         }
-        Format::Json if reports.len() == 1 => emit(&(json_out(&reports[0])? + "\n"))?,
-        Format::Json => {
+        ReportFormat::Html => check_html(
+            &reports,
+            &HtmlOptions {
+                max_values: HTML_VALUES,
+            },
+        ),
+        ReportFormat::Json if reports.len() == 1 => json_out(&reports[0])? + "\n",
+        ReportFormat::Json => {
             let gates = reports
                 .iter()
                 .flat_map(|r| {
@@ -255,8 +296,12 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
                 gates,
                 passed,
             };
-            emit(&(json_out(&all)? + "\n"))?
+            json_out(&all)? + "\n"
         }
+    };
+    match &args.output {
+        Some(path) => write_text_atomically(path, &report)?,
+        None => emit(&report)?,
     }
     if !args.quiet {
         for r in &reports {
@@ -275,6 +320,16 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
     } else {
         ExitCode::from(1)
     })
+}
+
+/// Whether two paths name one file: the same path, or the same file on disk.
+fn same_file(a: &Path, b: &Path) -> bool {
+    use std::os::unix::fs::MetadataExt;
+    a == b
+        || matches!(
+            (std::fs::metadata(a), std::fs::metadata(b)),
+            (Ok(x), Ok(y)) if x.dev() == y.dev() && x.ino() == y.ino()
+        )
 }
 
 /// A drop as the drift sees it: its lookup table and its figures.

@@ -1,10 +1,12 @@
 //! The coverage report: what a ruleset does to a column's vocabulary.
 //!
 //! The report is data ([`CoverageReport`] serializes to the documented JSON
-//! schema); `render.rs` turns it into text. Every number here is computed
-//! from the per-value outcomes and the vocabulary's row counts.
+//! schema); `render.rs` turns it into text and `html.rs` into a page. Every
+//! number here is computed from the per-value outcomes and the vocabulary's
+//! row counts.
 
 pub mod drift;
+pub mod html;
 pub mod explain;
 pub mod render;
 

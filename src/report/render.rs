@@ -210,7 +210,7 @@ fn drift_section(out: &mut String, d: &crate::report::drift::Drift, top: usize) 
 
 /// The usual reading of a PSI (common practice: below 0.1 stable, 0.1 to
 /// 0.25 a moderate shift, above 0.25 a large one).
-fn psi_reading(psi: f64) -> &'static str {
+pub(crate) fn psi_reading(psi: f64) -> &'static str {
     if psi < 0.1 {
         "stable"
     } else if psi <= 0.25 {
@@ -220,7 +220,7 @@ fn psi_reading(psi: f64) -> &'static str {
     }
 }
 
-fn p_value(p: f64) -> String {
+pub(crate) fn p_value(p: f64) -> String {
     if p < 1e-4 {
         "< 0.0001".to_owned()
     } else {
