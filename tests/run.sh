@@ -1,7 +1,8 @@
 #!/usr/bin/env bash
 # Run every test of descry: the Rust unit, integration, snapshot and property
-# tests, and the reference checks against Python libraries (pandas, pyarrow,
-# rapidfuzz), whose pinned environment is created here under target/ref-venv.
+# tests, the reference checks against Python libraries (pandas, pyarrow,
+# rapidfuzz, scipy, duckdb), whose pinned environment is created here under
+# target/ref-venv, and the Python package's tests (python/tests, pytest).
 set -euo pipefail
 cd "$(dirname "$0")/.."
 
@@ -16,6 +17,11 @@ if ! cmp -s "$requirements" "$venv/requirements.txt" 2>/dev/null; then
 fi
 export DESCRY_PYTHON="$PWD/$venv/bin/python"
 
-# One build profile for everything: the release build is also what the
-# README's quick start runs, so CI compiles polars once.
+# One build profile for everything: the Python package, the tests and the
+# README's quick start all build with the release profile into target/, so
+# CI compiles polars once. maturin (the package's build backend) comes from
+# the pinned environment, hence no build isolation.
+PATH="$PWD/$venv/bin:$PATH" "$venv/bin/python" -m pip install --quiet \
+    --disable-pip-version-check --no-build-isolation ./python
 cargo test --release "$@"
+DESCRY_BIN="$PWD/target/release/descry" "$venv/bin/python" -m pytest -q python/tests

@@ -88,10 +88,13 @@ impl PyRuleset {
     /// Load a ruleset file (TOML).
     #[staticmethod]
     fn load(py: Python<'_>, path: PathBuf) -> PyResult<Self> {
-        let text = std::fs::read_to_string(&path).map_err(|e| {
-            input_error(format!("{}: cannot read the ruleset: {e}", path.display()))
-        })?;
         let name = path.display().to_string();
+        let text = Ruleset::read_text(&path).map_err(|e| {
+            let e = descry::RulesetError::new(&name, e.to_string());
+            Python::attach(|py| {
+                python_error(py, "RulesetError", (e.message.clone(), e.file.clone()))
+            })
+        })?;
         let rules = py
             .detach(|| Ruleset::from_toml(&text, &name))
             .map_err(|e| ruleset_error(&e))?;

@@ -78,37 +78,9 @@ pub fn load_ruleset(path: &Path) -> anyhow::Result<Ruleset> {
     Ok(Ruleset::from_toml(&text, &path.display().to_string())?)
 }
 
-/// The largest ruleset read: a ruleset is a short TOML file, and a path
-/// like /dev/zero must not fill memory.
-const MAX_RULESET_BYTES: u64 = 16 << 20;
-
-/// The text of a ruleset file, read up to [`MAX_RULESET_BYTES`].
+/// The text of a ruleset file, read up to 16 MiB.
 pub fn ruleset_text(path: &Path) -> anyhow::Result<String> {
-    use std::io::Read;
-    let file = std::fs::File::open(path).map_err(|e| {
-        anyhow::anyhow!(
-            "{}: cannot read the ruleset: {e}; check the path given to --rules",
-            path.display()
-        )
-    })?;
-    let mut bytes = Vec::new();
-    file.take(MAX_RULESET_BYTES + 1)
-        .read_to_end(&mut bytes)
-        .with_context(|| format!("{}: cannot read the ruleset", path.display()))?;
-    if bytes.len() as u64 > MAX_RULESET_BYTES {
-        bail!(
-            "{}: longer than {} MiB, so not a ruleset; give the TOML file of the rules",
-            path.display(),
-            MAX_RULESET_BYTES >> 20
-        );
-    }
-    String::from_utf8(bytes).map_err(|e| {
-        anyhow::anyhow!(
-            "{}: the ruleset is not UTF-8 text (byte {})",
-            path.display(),
-            e.utf8_error().valid_up_to()
-        )
-    })
+    Ok(Ruleset::read_text(path)?)
 }
 
 /// Check, before any work, that a ruleset descry is about to rewrite (or

@@ -217,12 +217,40 @@ pub enum Expected {
 impl Ruleset {
     /// Read and compile a ruleset file.
     pub fn from_path(path: &Path) -> Result<Ruleset, Error> {
-        let file = path.display().to_string();
-        let text = std::fs::read_to_string(path).map_err(|e| {
-            RulesetError::new(&file, format!("cannot read the ruleset: {e}"))
-                .hint("check the path given to --rules")
+        let text = Ruleset::read_text(path)?;
+        Ok(Ruleset::from_toml(&text, &path.display().to_string())?)
+    }
+
+    /// The text of a ruleset file, read up to 16 MiB (a ruleset is a short
+    /// TOML file, and a path like /dev/zero must not fill memory).
+    pub fn read_text(path: &Path) -> Result<String, Error> {
+        use std::io::Read;
+        const MAX_RULESET_BYTES: u64 = 16 << 20;
+        let refused = |message: String| Error::Input {
+            path: path.to_owned(),
+            message,
+        };
+        let file = std::fs::File::open(path).map_err(|e| {
+            refused(format!(
+                "cannot read the ruleset: {e}; check the path given to --rules"
+            ))
         })?;
-        Ok(Ruleset::from_toml(&text, &file)?)
+        let mut bytes = Vec::new();
+        file.take(MAX_RULESET_BYTES + 1)
+            .read_to_end(&mut bytes)
+            .map_err(|e| refused(format!("cannot read the ruleset: {e}")))?;
+        if bytes.len() as u64 > MAX_RULESET_BYTES {
+            return Err(refused(format!(
+                "longer than {} MiB, so not a ruleset; give the TOML file of the rules",
+                MAX_RULESET_BYTES >> 20
+            )));
+        }
+        String::from_utf8(bytes).map_err(|e| {
+            refused(format!(
+                "the ruleset is not UTF-8 text (byte {})",
+                e.utf8_error().valid_up_to()
+            ))
+        })
     }
 
     /// Compile a ruleset from TOML text; `file` names it in errors.
