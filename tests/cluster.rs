@@ -285,14 +285,14 @@ fn groups_against_the_generators_truth() {
         min_similarity: 0.93,
     });
     let methods: Vec<(Method, &str, f64, f64)> = vec![
-        (Method::Key, "transmission", 0.99, 0.04),
-        (Method::Tokens, "transmission", 0.99, 0.05),
-        (osa, "transmission", 0.97, 0.10),
-        (jaro_winkler, "transmission", 0.94, 0.15),
-        (Method::Key, "engine", 0.99, 0.09),
-        (Method::Tokens, "engine", 0.99, 0.16),
-        (osa, "engine", 0.95, 0.12),
-        (Method::Key, "part_no", 0.99, 0.66),
+        (Method::Letters, "transmission", 0.99, 0.04),
+        (Method::Words, "transmission", 0.99, 0.05),
+        (osa, "transmission", 0.99, 0.06),
+        (jaro_winkler, "transmission", 0.99, 0.06),
+        (Method::Letters, "engine", 0.99, 0.09),
+        (Method::Words, "engine", 0.99, 0.16),
+        (osa, "engine", 0.99, 0.18),
+        (Method::Letters, "part_no", 0.99, 0.66),
         (osa, "part_no", 0.99, 0.65),
     ];
     let mut failures = Vec::new();
@@ -315,10 +315,10 @@ fn groups_against_the_generators_truth() {
 #[test]
 fn snapshots_of_the_reports_on_the_sample() {
     let cases = [
-        ("transmission", &["--method", "key"][..]),
+        ("transmission", &["--method", "letters"][..]),
         ("transmission", &["--method", "osa"][..]),
         ("engine", &["--method", "jaro-winkler"][..]),
-        ("part_no", &["--method", "key"][..]),
+        ("part_no", &["--method", "letters"][..]),
     ];
     for (column, extra) in cases {
         let mut args = vec![
@@ -341,7 +341,7 @@ fn snapshots_of_the_reports_on_the_sample() {
             "--column",
             "transmission",
             "--method",
-            "tokens",
+            "words",
             "--format",
             "json",
         ],
@@ -349,7 +349,7 @@ fn snapshots_of_the_reports_on_the_sample() {
     );
     let mut report: serde_json::Value = serde_json::from_str(&stdout(&out)).unwrap();
     report["clusters"].as_array_mut().unwrap().truncate(5);
-    insta::assert_json_snapshot!("cluster_json_transmission_tokens", report);
+    insta::assert_json_snapshot!("cluster_json_transmission_words", report);
 }
 
 // ---------------------------------------------------------------------------
@@ -387,16 +387,16 @@ fn json_report_names_method_threshold_and_members() {
     assert_eq!(r["method"]["threshold"], 2.0);
     assert_eq!(r["method"]["threshold_kind"], "edits");
     assert_eq!(r["method"]["digits"], "strict");
+    assert_eq!(r["method"]["max_diameter"], 2.0);
     let clusters = r["clusters"].as_array().unwrap();
     // PMP-0750-3T (2 rows) with its two respellings, each at most two edits
     // away; PMP-0751 stays out (digits are identity); FTL-1204-A is one swap
-    // away from FLT-1204-A; FLT-1240-A has other digits.
-    assert_eq!(clusters.len(), 2);
+    // away from FLT-1204-A, but a three-letter code is compared exactly;
+    // FLT-1240-A has other digits.
+    assert_eq!(clusters.len(), 1);
     assert_eq!(clusters[0]["canonical"], "PMP-0750-3T");
     assert_eq!(clusters[0]["rows"], 4);
     assert_eq!(clusters[0]["members"].as_array().unwrap().len(), 3);
-    assert_eq!(clusters[1]["canonical"], "FLT-1204-A");
-    assert_eq!(clusters[1]["members"][1]["value"], "FTL-1204-A");
 }
 
 #[test]
@@ -428,8 +428,8 @@ fn digits_loose_lets_numbers_differ() {
 #[test]
 fn output_is_the_same_whatever_the_thread_count() {
     for method in [
-        "key",
-        "tokens",
+        "letters",
+        "words",
         "qgram",
         "levenshtein",
         "osa",
@@ -471,16 +471,7 @@ fn write_map_creates_a_ruleset_that_check_uses() {
     let rules = dir.path().join("part.toml");
     let out = cluster_parts(
         &t,
-        &[
-            "-m",
-            "osa",
-            "-t",
-            "2",
-            "--write-map",
-            s(&rules),
-            "--label",
-            "part",
-        ],
+        &["-m", "letters", "--write-map", s(&rules), "--label", "part"],
     );
     assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
     assert!(stderr(&out).contains("created"), "{}", stderr(&out));
@@ -493,9 +484,9 @@ fn write_map_creates_a_ruleset_that_check_uses() {
     let check = run(&["check", s(&t), "-r", s(&rules), "--format", "json"], None);
     assert_eq!(check.status.code(), Some(0), "{}", stderr(&check));
     let report: serde_json::Value = serde_json::from_str(&stdout(&check)).unwrap();
-    // 7 of the 9 non-blank rows are in a group, so the map covers them;
-    // PMP-0751-3T and FLT-1240-A are alone.
-    assert_eq!(report["coverage"]["rows_covered"], 7);
+    // The 4 rows of PMP-0750-3T's group are covered; FLT-1204-A (2 rows)
+    // has no other spelling with the same letters, and the rest are alone.
+    assert_eq!(report["coverage"]["rows_covered"], 4);
 }
 
 #[test]
@@ -508,7 +499,7 @@ fn write_map_keeps_comments_and_other_rules() {
     );
     let out = cluster_parts(
         &t,
-        &["-m", "key", "--write-map", s(&rules), "--label", "part"],
+        &["-m", "letters", "--write-map", s(&rules), "--label", "part"],
     );
     assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
     let text = std::fs::read_to_string(&rules).unwrap();
@@ -556,8 +547,8 @@ fn errors_name_the_problem_and_exit_2() {
             "between 0 and 1",
         ),
         (
-            vec!["cluster", s(&t), "-c", "part", "-m", "key", "-t", "2"],
-            "key and tokens need none",
+            vec!["cluster", s(&t), "-c", "part", "-m", "letters", "-t", "2"],
+            "letters and words need none",
         ),
         (
             vec![
@@ -566,7 +557,7 @@ fn errors_name_the_problem_and_exit_2() {
                 "-c",
                 "part",
                 "-m",
-                "key",
+                "letters",
                 "--max-diameter",
                 "2",
             ],

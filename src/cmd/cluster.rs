@@ -22,10 +22,12 @@ order).
 Values are compared after normalization (NFKC, lower case, white space
 collapsed), so values differing only in case or spacing always group.
 Methods, strictest first:
-  key           equal once punctuation and spaces are dropped
-                (4-cyl / 4 cyl / 4cyl.); misses typos and word order
-  tokens        the same words in any order (6 speed auto / auto 6-speed);
-                misses typos and abbreviations
+  letters       equal once punctuation and spaces are dropped
+                (4-cyl / 4 cyl / 4cyl.; 5.5 and 5'5 stay apart); misses
+                typos and word order
+  words         the same words and numbers in any order, repeats counted
+                (6 speed auto / auto 6-speed); misses typos and
+                abbreviations
   qgram         Jaccard similarity of character q-gram sets (--q, default 3)
                 at least --threshold (default 0.7); catches typos and
                 reordering in long values, weak on short ones
@@ -38,9 +40,18 @@ Methods, strictest first:
                 favours values sharing their first characters
 
 Digits are identity: values whose digit runs differ (PMP-0750 / PMP-0751,
-1,800 / 1800) are never grouped, by any method, unless --digits loose.
-Groups are transitive (a~b and b~c group a, b and c); --max-diameter caps
-how far apart two members of one group may be, in the method's units.
+1,800 / 1800) are never grouped, by any method, unless --digits loose. So
+are letter runs of one or two characters and Roman numerals i to xx
+(TQ-320 / RQ-320, MK III / MK IV, ward a / ward b), always.
+
+The fuzzy methods are precision first. They group what letters and words
+group, and add a pair only if its words agree: the words that differ must
+be typos of each other (one letter lost, added or swapped; replaced only
+in words of 7 letters or more; words under 6 letters exact but for a
+swap), so a changed, added or dropped word (plaster / plastic, customer
+service / customer service agent) keeps values apart. No chains: every
+two members of a group must be within --max-diameter of each other
+(default: the --threshold), in the method's units.
 
 The fuzzy methods use an index instead of comparing all pairs: segments
 for levenshtein and osa, rarest q-grams or characters for qgram and
@@ -60,15 +71,15 @@ fuzzy methods, an index of about 8 bytes per character
 of every distinct value.
 
 Examples:
-  descry cluster samples/listings.csv --column part_no --method key
+  descry cluster samples/listings.csv --column part_no --method letters
   descry cluster samples/listings.csv --column engine --method osa --threshold 1
   descry cluster samples/listings.csv --column transmission --method jaro-winkler \\
       --write-map rulesets/kind.toml --label kind";
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
 pub enum MethodName {
-    Key,
-    Tokens,
+    Letters,
+    Words,
     Qgram,
     Levenshtein,
     Osa,
@@ -89,7 +100,7 @@ pub struct Args {
     #[arg(long, short = 'c')]
     pub column: String,
     /// How values are grouped.
-    #[arg(long, short = 'm', value_enum, default_value_t = MethodName::Key)]
+    #[arg(long, short = 'm', value_enum, default_value_t = MethodName::Letters)]
     pub method: MethodName,
     /// The method's threshold: edits (2) or a share of the length (0.2) for
     /// levenshtein and osa, a least similarity (0.9) for qgram and jaro-winkler.
@@ -103,7 +114,7 @@ pub struct Args {
     #[arg(long, value_enum, default_value_t = DigitsArg::Strict)]
     pub digits: DigitsArg,
     /// No two members of a group further apart than this (same units as
-    /// --threshold; fuzzy methods only).
+    /// --threshold, which is the default; fuzzy methods only).
     #[arg(long)]
     pub max_diameter: Option<String>,
     /// Add the groups to this ruleset as a label map (needs --label).
@@ -138,7 +149,7 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
             Method::Fuzzy(cap) => Some(cap).filter(|_| f.name() == cap.name()),
             _ => None,
         },
-        (Some(_), _) => bail!("--max-diameter applies to the fuzzy methods (qgram, levenshtein, osa, jaro-winkler); key and tokens groups are exact"),
+        (Some(_), _) => bail!("--max-diameter applies to the fuzzy methods (qgram, levenshtein, osa, jaro-winkler); letters and words groups are exact"),
     };
     if let Some(map) = &args.write_map {
         check_ruleset_target(map, &[&args.input.input])?;
@@ -204,11 +215,11 @@ fn method_of(name: MethodName, threshold: Option<&str>, q: usize) -> anyhow::Res
         }
     };
     Ok(match name {
-        MethodName::Key | MethodName::Tokens if threshold.is_some() => {
-            bail!("--threshold applies to the fuzzy methods (qgram, levenshtein, osa, jaro-winkler); key and tokens need none")
+        MethodName::Letters | MethodName::Words if threshold.is_some() => {
+            bail!("--threshold applies to the fuzzy methods (qgram, levenshtein, osa, jaro-winkler); letters and words need none")
         }
-        MethodName::Key => Method::Key,
-        MethodName::Tokens => Method::Tokens,
+        MethodName::Letters => Method::Letters,
+        MethodName::Words => Method::Words,
         MethodName::Qgram => {
             if !(1..=16).contains(&q) {
                 bail!("--q {q}: the q-gram length must be between 1 and 16 (3 is usual)");

@@ -35,7 +35,7 @@ HERE = os.path.dirname(os.path.abspath(__file__))
 sys.path.insert(0, HERE)
 import load  # noqa: E402
 
-METHODS = ["key", "tokens", "qgram", "levenshtein", "osa", "jaro-winkler"]
+METHODS = ["letters", "words", "qgram", "levenshtein", "osa", "jaro-winkler"]
 
 # One of each unit, in the truth's unit of its quantity (inches, pounds).
 # Exact factors: 1 in = 2.54 cm, 1 ft = 12 in, 1 lb = 0.45359237 kg.

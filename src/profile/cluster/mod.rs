@@ -7,8 +7,8 @@
 //!
 //! | method | groups values whose ... | catches | misses |
 //! |---|---|---|---|
-//! | [`Method::Key`] | letters and digits are equal (punctuation and spaces dropped) | `4-cyl` / `4 cyl` / `4cyl`, `P/N 0750` / `PN0750` | typos, other word order |
-//! | [`Method::Tokens`] | token sets are equal | `6 speed auto` / `auto 6-speed` | typos, abbreviations |
+//! | [`Method::Letters`] | letters and digits are equal (punctuation and spaces dropped, except between digits) | `4-cyl` / `4 cyl` / `4cyl`, `P/N 0750` / `PN0750` | typos, other word order |
+//! | [`Method::Words`] | the same words, repeats counted, in any order | `6 speed auto` / `auto 6-speed` | typos, abbreviations |
 //! | `qgram` | character q-gram sets overlap (Jaccard) | typos and reordering in long values | short values (few q-grams) |
 //! | `levenshtein` | edit distance is small | typos, dropped or doubled letters | reordering, abbreviations |
 //! | `osa` | edit distance with transpositions is small | also swapped neighbours (`atuo`) | as Levenshtein |
@@ -16,14 +16,24 @@
 //!
 //! **Digits are identity** unless [`Digits::Loose`]: two values whose digit
 //! runs differ (`pmp-0750` / `pmp-0751`, `1,800` / `1800`) are never grouped,
-//! by any method. It also makes the search cheaper: only values with the same
-//! digits are compared.
+//! by any method. So are letter runs of one or two characters and Roman
+//! numerals up to `xx` (`tq-320` / `rq-320`, `mk iii` / `mk iv`), whatever
+//! `--digits` says. It also makes the search cheaper: only values with the
+//! same identity runs are compared.
 //!
-//! Groups are the connected components of the "similar" pairs (union-find),
-//! so `a ~ b` and `b ~ c` put `a` and `c` together. A
-//! [`ClusterOptions::max_diameter`] refuses a union that would put two
-//! values further apart than the cap in one group; edges are then taken
-//! strongest first, so the result does not depend on the thread count.
+//! **Precision first.** A pair a fuzzy method finds is kept only if its
+//! words agree: the words that differ pair up as typos, stricter on short
+//! words, and a changed, added or dropped word keeps values apart (see
+//! [`guard`]). Every fuzzy method also groups what the two exact methods
+//! group, so it finds at least their pairs.
+//!
+//! **No chains.** Groups are built from the similar pairs, strongest first
+//! (so the result does not depend on the thread count), and a union is
+//! refused unless every two members of the new group are within
+//! [`ClusterOptions::max_diameter`] (by default the method's own threshold)
+//! and pass the word check: complete linkage. Members that the exact
+//! methods group count as one member (any of them within the cap is
+//! enough), so a reordered spelling does not keep its typos out.
 //!
 //! The fuzzy methods find their pairs through an index (see [`index`])
 //! instead of comparing all pairs: exact (every pair all pairs would find)
@@ -39,13 +49,14 @@
 //!
 //! let rows = [Some("6 spd auto"), Some("6 SPD Auto"), Some("6 SPD Auto"), Some("auto 6-spd"), Some("4 spd manual")];
 //! let vocab = Vocabulary::build(rows);
-//! let report = cluster(&vocab, "transmission", &ClusterOptions::new(Method::Tokens));
+//! let report = cluster(&vocab, "transmission", &ClusterOptions::new(Method::Words));
 //! assert_eq!(report.clusters.len(), 1);
 //! assert_eq!(report.clusters[0].canonical, "6 SPD Auto");   // most rows
 //! assert_eq!(report.clusters[0].members.len(), 3);
 //! ```
 
 pub mod distance;
+pub mod guard;
 pub mod index;
 pub mod map;
 pub mod text;
@@ -57,7 +68,7 @@ use rayon::prelude::*;
 use serde::Serialize;
 
 use crate::normalize::Normalizer;
-use crate::shape::{digit_signature, letters_and_digits, tokens};
+use crate::shape::{class, digit_signature, CharClass};
 use crate::vocabulary::Vocabulary;
 use distance::Comparator;
 use index::{Edge, Found};
@@ -171,18 +182,23 @@ impl Fuzzy {
 /// How values are grouped.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum Method {
-    /// Equal after normalization with punctuation and white space removed.
-    Key,
-    /// Equal sets of tokens (letter runs and digit runs), in any order.
-    Tokens,
+    /// Equal letters and digits: normalized, with white space and
+    /// punctuation removed except between two digits (`5.5` is not `5'5`).
+    Letters,
+    /// The same words and numbers, repeats counted, in any order.
+    Words,
     Fuzzy(Fuzzy),
 }
 
 impl Method {
+    /// The former name of [`Method::Words`], kept while callers move over.
+    #[allow(non_upper_case_globals)]
+    pub const Tokens: Method = Method::Words;
+
     pub fn name(&self) -> &'static str {
         match self {
-            Method::Key => "key",
-            Method::Tokens => "tokens",
+            Method::Letters => "letters",
+            Method::Words => "words",
             Method::Fuzzy(f) => f.name(),
         }
     }
@@ -204,7 +220,8 @@ pub struct ClusterOptions {
     pub method: Method,
     pub digits: Digits,
     /// No two values in a group may be further apart than this (fuzzy
-    /// methods only; same kind of threshold as the method's).
+    /// methods only; same kind of threshold as the method's). `None`: the
+    /// method's own threshold.
     pub max_diameter: Option<Fuzzy>,
     /// How values are normalized before they are compared.
     pub normalizer: Normalizer,
@@ -237,14 +254,16 @@ impl ClusterOptions {
 pub struct MethodUsed {
     pub name: &'static str,
     /// The threshold: edits, a share of the longer value's length, or a
-    /// least similarity (see `threshold_kind`); null for key and tokens.
+    /// least similarity (see `threshold_kind`); null for letters and words.
     pub threshold: Option<f64>,
     /// `"edits"`, `"ratio"` or `"similarity"`.
     pub threshold_kind: Option<&'static str>,
     pub q: Option<usize>,
     pub digits: Digits,
+    /// How far apart two members of a group may be (fuzzy methods; the
+    /// threshold unless set apart).
     pub max_diameter: Option<f64>,
-    /// `"key"` (exact grouping), `"index"` or `"exhaustive"`.
+    /// `"exact"` (exact grouping), `"index"` or `"exhaustive"`.
     pub search: &'static str,
 }
 
@@ -263,7 +282,7 @@ fn threshold_of(f: &Fuzzy) -> (f64, &'static str) {
 impl MethodUsed {
     fn new(opts: &ClusterOptions) -> Self {
         let (threshold, kind, q, search) = match &opts.method {
-            Method::Key | Method::Tokens => (None, None, None, "key"),
+            Method::Letters | Method::Words => (None, None, None, "exact"),
             Method::Fuzzy(f) => {
                 let (t, kind) = threshold_of(f);
                 let q = match f {
@@ -288,7 +307,10 @@ impl MethodUsed {
             threshold_kind: kind,
             q,
             digits: opts.digits,
-            max_diameter: opts.max_diameter.as_ref().map(|d| threshold_of(d).0),
+            max_diameter: match &opts.method {
+                Method::Fuzzy(f) => Some(threshold_of(&opts.max_diameter.unwrap_or(*f)).0),
+                _ => None,
+            },
             search,
         }
     }
@@ -403,22 +425,33 @@ pub fn cluster(vocab: &Vocabulary, column: &str, opts: &ClusterOptions) -> Clust
     let n = forms.text.len();
     let mut groups = UnionFind::new(n);
     let mut found = Found::default();
+    let digits = opts.digits;
     match &opts.method {
-        Method::Key => union_by_key(
-            &mut groups,
-            &forms.text,
-            |f| letters_and_digits(f),
-            opts.digits,
-        ),
-        Method::Tokens => union_by_key(&mut groups, &forms.text, |f| token_set(f), opts.digits),
+        Method::Letters => union_by_key(&mut groups, &forms.text, letters_key, digits),
+        Method::Words => union_by_key(&mut groups, &forms.text, words_key, digits),
         Method::Fuzzy(method) => {
+            // What the exact methods group, every fuzzy method groups.
+            union_by_key(&mut groups, &forms.text, letters_key, digits);
+            union_by_key(&mut groups, &forms.text, words_key, digits);
             let chars: Vec<Vec<char>> =
                 forms.text.par_iter().map(|t| t.chars().collect()).collect();
             found = fuzzy_pairs(&chars, &forms.text, method, opts);
-            match &opts.max_diameter {
-                None => found.edges.iter().for_each(|e| groups.union(e.a, e.b)),
-                Some(cap) => union_capped(&mut groups, &found.edges, &chars, method, cap),
-            }
+            found.edges = found
+                .edges
+                .into_par_iter()
+                .filter(|e| {
+                    let (a, b) = (&forms.text[e.a as usize], &forms.text[e.b as usize]);
+                    guard::may_group(a, b, digits)
+                })
+                .collect();
+            let near = Near {
+                chars: &chars,
+                text: &forms.text,
+                method,
+                cap: &opts.max_diameter.unwrap_or(*method),
+                digits,
+            };
+            union_capped(&mut groups, &found.edges, &near);
         }
     }
     let clusters = gather(vocab, &forms, &mut groups);
@@ -451,27 +484,55 @@ pub fn cluster(vocab: &Vocabulary, column: &str, opts: &ClusterOptions) -> Clust
     }
 }
 
-/// The token set key: distinct tokens, sorted, joined by spaces.
-pub fn token_set(normalized: &str) -> String {
-    let mut t: Vec<&str> = tokens(normalized).collect();
-    t.sort_unstable();
-    t.dedup();
-    t.join(" ")
+/// The [`Method::Letters`] key: the digit runs (unless loose), then the
+/// letters and digits, keeping a decimal point or comma between two digits
+/// (`5.5` is not `5'5`, which is `5 5`). All letters are compared, so
+/// letter runs need no identity check here (`c n a` is `cna`).
+pub fn letters_key(normalized: &str, digits: Digits) -> String {
+    let chars: Vec<char> = normalized.chars().collect();
+    let is_digit = |i: usize| chars.get(i).is_some_and(|&c| class(c) == CharClass::Digit);
+    let kept: String = chars
+        .iter()
+        .enumerate()
+        .filter(|&(i, &c)| match class(c) {
+            CharClass::Letter | CharClass::Digit => true,
+            CharClass::Other => {
+                matches!(c, '.' | ',') && i > 0 && is_digit(i - 1) && is_digit(i + 1)
+            }
+            CharClass::Space => false,
+        })
+        .map(|(_, &c)| c)
+        .collect();
+    match digits {
+        Digits::Strict => format!("{}\u{0}{kept}", digit_signature(normalized)),
+        Digits::Loose => kept,
+    }
 }
 
+/// The [`Method::Words`] key: the identity runs in order (see [`guard`]),
+/// then the words and numbers sorted, repeats kept.
+pub fn words_key(normalized: &str, digits: Digits) -> String {
+    let mut numbers: Vec<&str> = crate::shape::runs(normalized)
+        .filter(|r| r.class == CharClass::Digit)
+        .map(|r| r.text)
+        .collect();
+    numbers.sort_unstable();
+    format!(
+        "{}\u{0}{}\u{0}{}",
+        guard::identity_signature(normalized, digits),
+        guard::word_key(normalized, digits),
+        numbers.join(" ")
+    )
+}
+
+/// Group the forms whose keys are equal.
 fn union_by_key(
     groups: &mut UnionFind,
     forms: &[String],
-    key: impl Fn(&str) -> String + Sync,
+    key: impl Fn(&str, Digits) -> String + Sync,
     digits: Digits,
 ) {
-    let keys: Vec<String> = forms
-        .par_iter()
-        .map(|f| match digits {
-            Digits::Strict => format!("{}\u{0}{}", digit_signature(f), key(f)),
-            Digits::Loose => key(f),
-        })
-        .collect();
+    let keys: Vec<String> = forms.par_iter().map(|f| key(f, digits)).collect();
     let mut first: HashMap<&str, u32> = HashMap::new();
     for (i, k) in keys.iter().enumerate() {
         let i = i as u32;
@@ -487,22 +548,16 @@ fn fuzzy_pairs(
     method: &Fuzzy,
     opts: &ClusterOptions,
 ) -> Found {
-    let blocks: Vec<Vec<u32>> = match opts.digits {
-        Digits::Loose => vec![(0..chars.len() as u32).collect()],
-        Digits::Strict => {
-            let mut by_digits: HashMap<String, Vec<u32>> = HashMap::new();
-            for (i, t) in text.iter().enumerate() {
-                by_digits
-                    .entry(digit_signature(t))
-                    .or_default()
-                    .push(i as u32);
-            }
-            let mut blocks: Vec<Vec<u32>> =
-                by_digits.into_values().filter(|b| b.len() > 1).collect();
-            blocks.sort_unstable_by_key(|b| b[0]);
-            blocks
-        }
-    };
+    // Only values with the same identity runs may group: one block each.
+    let mut by_identity: HashMap<String, Vec<u32>> = HashMap::new();
+    for (i, t) in text.iter().enumerate() {
+        by_identity
+            .entry(guard::identity_signature(t, opts.digits))
+            .or_default()
+            .push(i as u32);
+    }
+    let mut blocks: Vec<Vec<u32>> = by_identity.into_values().filter(|b| b.len() > 1).collect();
+    blocks.sort_unstable_by_key(|b| b[0]);
     let parts: Vec<Found> = blocks
         .par_iter()
         .map(|block| {
@@ -526,17 +581,44 @@ fn fuzzy_pairs(
     index::merge(parts)
 }
 
-/// Union edges strongest first, refusing a union that would put two forms
-/// further apart than `cap` in one group.
-fn union_capped(
-    groups: &mut UnionFind,
-    edges: &[Edge],
-    chars: &[Vec<char>],
-    method: &Fuzzy,
-    cap: &Fuzzy,
-) {
+/// What complete linkage needs to know about two forms.
+struct Near<'a> {
+    chars: &'a [Vec<char>],
+    text: &'a [String],
+    method: &'a Fuzzy,
+    cap: &'a Fuzzy,
+    digits: Digits,
+}
+
+impl Near<'_> {
+    /// Are forms `x` and `y` within the cap, and do their words agree?
+    fn close(&self, x: u32, y: u32) -> bool {
+        let (x, y) = (x as usize, y as usize);
+        self.method.within(self.cap, &self.chars[x], &self.chars[y])
+            && guard::may_group(&self.text[x], &self.text[y], self.digits)
+    }
+}
+
+/// Union edges strongest first, refusing a union unless every two exact
+/// classes (the groups `groups` holds on entry) of the new group have
+/// members that are [`Near::close`]: complete linkage over the classes.
+fn union_capped(groups: &mut UnionFind, edges: &[Edge], near: &Near) {
+    let n = near.chars.len();
+    let mut forms_of: Vec<Vec<u32>> = vec![Vec::new(); n];
+    for f in 0..n as u32 {
+        forms_of[groups.find(f) as usize].push(f);
+    }
+    let mut classes: Vec<Vec<u32>> = (0..n as u32)
+        .map(|r| {
+            if forms_of[r as usize].is_empty() {
+                Vec::new()
+            } else {
+                vec![r]
+            }
+        })
+        .collect();
     let mut order: Vec<&Edge> = edges.iter().collect();
-    let distance = method.is_distance();
+    let distance = near.method.is_distance();
     order.sort_by(|x, y| {
         let by_score = if distance {
             x.score.total_cmp(&y.score)
@@ -545,23 +627,25 @@ fn union_capped(
         };
         by_score.then((x.a, x.b).cmp(&(y.a, y.b)))
     });
-    let mut members: Vec<Vec<u32>> = (0..chars.len() as u32).map(|i| vec![i]).collect();
+    let classes_close = |x: u32, y: u32| {
+        forms_of[x as usize]
+            .iter()
+            .any(|&p| forms_of[y as usize].iter().any(|&q| near.close(p, q)))
+    };
     for e in order {
         let (ra, rb) = (groups.find(e.a), groups.find(e.b));
         if ra == rb {
             continue;
         }
-        let fits = members[ra as usize].iter().all(|&x| {
-            members[rb as usize]
-                .iter()
-                .all(|&y| method.within(cap, &chars[x as usize], &chars[y as usize]))
-        });
+        let fits = classes[ra as usize]
+            .iter()
+            .all(|&x| classes[rb as usize].iter().all(|&y| classes_close(x, y)));
         if fits {
             groups.union(ra, rb);
             let root = groups.find(ra);
             let (keep, gone) = if root == ra { (ra, rb) } else { (rb, ra) };
-            let moved = std::mem::take(&mut members[gone as usize]);
-            members[keep as usize].extend(moved);
+            let moved = std::mem::take(&mut classes[gone as usize]);
+            classes[keep as usize].extend(moved);
         }
     }
 }
@@ -672,24 +756,45 @@ mod tests {
     }
 
     #[test]
-    fn key_ignores_case_spacing_and_punctuation() {
+    fn letters_ignore_case_spacing_and_punctuation() {
         let v = vocab(&["4-cyl", "4 cyl", "4cyl", "4 CYL.", "6 cyl", "4-cyl"]);
-        let r = cluster(&v, "engine", &ClusterOptions::new(Method::Key));
+        let r = cluster(&v, "engine", &ClusterOptions::new(Method::Letters));
         assert_eq!(groups(&r), vec![vec!["4-cyl", "4 CYL.", "4 cyl", "4cyl"]]);
         assert_eq!(r.clusters[0].canonical, "4-cyl");
         assert_eq!(r.clusters[0].rows, 5);
     }
 
     #[test]
-    fn tokens_ignore_order() {
+    fn words_ignore_order_but_count_repeats() {
         let v = vocab(&[
             "6 speed auto",
             "auto 6-speed",
             "speed auto",
             "6 speed manual",
+            "6 speed auto auto",
         ]);
-        let r = cluster(&v, "t", &ClusterOptions::new(Method::Tokens));
+        let r = cluster(&v, "t", &ClusterOptions::new(Method::Words));
         assert_eq!(groups(&r), vec![vec!["6 speed auto", "auto 6-speed"]]);
+    }
+
+    #[test]
+    fn letters_keep_the_punctuation_between_digits() {
+        let v = vocab(&["5.5", "5'5", "5 5", "55", "c n a", "cna"]);
+        let r = cluster(&v, "h", &ClusterOptions::new(Method::Letters));
+        assert_eq!(groups(&r), vec![vec!["5 5", "5'5"], vec!["c n a", "cna"]]);
+    }
+
+    #[test]
+    fn fuzzy_methods_group_what_the_exact_methods_group() {
+        let v = vocab(&[
+            "etching and aquatint on paper",
+            "aquatint and etching on paper",
+        ]);
+        let lev = Method::Fuzzy(Fuzzy::Levenshtein(EditLimit::Edits(1)));
+        assert_eq!(
+            cluster(&v, "m", &ClusterOptions::new(lev)).clusters.len(),
+            1
+        );
     }
 
     #[test]
@@ -708,54 +813,61 @@ mod tests {
         );
         assert_eq!(loose.clusters.len(), 1);
         assert_eq!(loose.clusters[0].members.len(), 3);
-        // Key and tokens keep digits apart too: "1,800" and "1800" differ.
+        // The exact methods keep digits apart too: "1,800" and "1800" differ.
         let key = cluster(
             &vocab(&["1,800 cc", "1800 cc"]),
             "e",
-            &ClusterOptions::new(Method::Key),
+            &ClusterOptions::new(Method::Letters),
         );
         assert!(key.clusters.is_empty());
     }
 
     #[test]
-    fn chains_are_cut_by_the_diameter_cap() {
-        // abcd ~ abce ~ abfe ~ agfe: each step one edit, the ends three apart.
-        let v = vocab(&["abcd", "abce", "abfe", "agfe"]);
+    fn chains_are_cut_by_the_default_diameter_cap() {
+        // berg ~ burg ~ bury ~ bory: each step one letter, the ends two apart.
+        let v = vocab(&["kaltenberg", "kaltenburg", "kaltenbury", "kaltenbory"]);
         let lev = Fuzzy::Levenshtein(EditLimit::Edits(1));
-        let chained = cluster(&v, "c", &ClusterOptions::new(Method::Fuzzy(lev)));
-        assert_eq!(chained.clusters.len(), 1);
-        let capped = cluster(
-            &v,
-            "c",
-            &ClusterOptions {
-                max_diameter: Some(Fuzzy::Levenshtein(EditLimit::Edits(1))),
-                ..ClusterOptions::new(Method::Fuzzy(lev))
-            },
-        );
+        let capped = cluster(&v, "c", &ClusterOptions::new(Method::Fuzzy(lev)));
         assert!(
             capped.clusters.iter().all(|c| c.members.len() == 2),
             "{:?}",
             groups(&capped)
         );
         assert_eq!(capped.clusters.len(), 2);
+        assert_eq!(capped.method.max_diameter, Some(1.0));
+    }
+
+    #[test]
+    fn letter_codes_and_numerals_never_group() {
+        let v = vocab(&[
+            "TQ-320", "RQ-320", "MK III", "MK IV", "KR-T", "HR-T", "P47", "K47",
+        ]);
+        let lev = Method::Fuzzy(Fuzzy::Levenshtein(EditLimit::Edits(2)));
+        let jw = Method::Fuzzy(Fuzzy::JaroWinkler {
+            min_similarity: 0.8,
+        });
+        for method in [lev, jw] {
+            let r = cluster(&v, "c", &ClusterOptions::new(method));
+            assert!(r.clusters.is_empty(), "{:?}", groups(&r));
+        }
     }
 
     #[test]
     fn canonical_is_most_rows_then_tidy_then_byte_order() {
         let v = vocab(&["auto ", "Auto", "auto ", "Auto", "AUTO"]);
-        let r = cluster(&v, "t", &ClusterOptions::new(Method::Key));
+        let r = cluster(&v, "t", &ClusterOptions::new(Method::Letters));
         // "auto " and "Auto" both have 2 rows; "Auto" has no stray space.
         assert_eq!(r.clusters[0].canonical, "Auto");
         // One row each, both tidy: byte order ("B" is 0x42, "b" is 0x62).
         let v = vocab(&["b x", "a x", "B X"]);
-        let r = cluster(&v, "t", &ClusterOptions::new(Method::Key));
+        let r = cluster(&v, "t", &ClusterOptions::new(Method::Letters));
         assert_eq!(r.clusters[0].canonical, "B X");
     }
 
     #[test]
     fn blanks_are_not_values() {
         let v = Vocabulary::build([Some(" "), None, Some(""), Some("x"), Some("X")]);
-        let r = cluster(&v, "t", &ClusterOptions::new(Method::Key));
+        let r = cluster(&v, "t", &ClusterOptions::new(Method::Letters));
         assert_eq!(
             (r.null_rows, r.blank_rows, r.values, r.normalized_forms),
             (1, 2, 2, 1)

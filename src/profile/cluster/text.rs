@@ -16,10 +16,12 @@ pub fn cluster_text(r: &ClusterReport, top: usize) -> String {
         _ => String::new(),
     };
     let q = m.q.map(|q| format!(" q={q}")).unwrap_or_default();
-    let cap = m
-        .max_diameter
-        .map(|d| format!(", diameter capped at {d}"))
-        .unwrap_or_default();
+    let cap = match (m.max_diameter, m.threshold_kind) {
+        (Some(d), Some("edits")) => format!(", every two members within {d} edits"),
+        (Some(d), Some("ratio")) => format!(", every two members within {d} x the longer length"),
+        (Some(d), Some(_)) => format!(", every two members at least {d} similar"),
+        _ => String::new(),
+    };
     let digits = match m.digits {
         Digits::Strict => "strict",
         Digits::Loose => "loose",
@@ -39,7 +41,7 @@ pub fn cluster_text(r: &ClusterReport, top: usize) -> String {
         thousands(r.values),
         thousands(r.normalized_forms)
     );
-    if m.search != "key" {
+    if m.search != "exact" {
         let _ = writeln!(
             out,
             "pairs compared {} ({}), similar pairs {}",
