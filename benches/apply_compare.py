@@ -349,6 +349,10 @@ class Ruleset:
     decimal: str
     normalize: Normalize
     features: list[Feature]
+    # Whole normalized values that carry no information: their features are
+    # null, as for a blank value (docs/rulesets.md, "Placeholders and blanks").
+    placeholders: list[str] = field(default_factory=list)
+    placeholder_pattern: Pattern | None = None
 
 
 def measure_groups(groups: list[Group]) -> tuple[list[int], list[int]]:
@@ -410,7 +414,12 @@ def load_ruleset(path: Path) -> Ruleset:
                         f.categories.append(label)
             f.cases = [(c["label"], matcher(c)) for c in cases]
         features.append(f)
-    return Ruleset(path, spec["column"], prefix, decimal, norm, features)
+    pattern = spec.get("placeholder_pattern")
+    return Ruleset(
+        path, spec["column"], prefix, decimal, norm, features,
+        placeholders=[norm.apply(p) for p in spec.get("placeholders", [])],
+        placeholder_pattern=compile_pattern(pattern, False, decimal) if pattern else None,
+    )
 
 
 def number_regexes(decimal: str) -> tuple[str, str]:
@@ -489,8 +498,14 @@ def pandas_features(rs: Ruleset, raw) -> dict:
     import numpy as np
     import pandas as pd
 
-    null = raw.isna().to_numpy()
     n = pandas_normalize(raw, rs.normalize)
+    # Blank values and placeholders describe nothing: null features.
+    nothing = (n == "") | n.isin(rs.placeholders)
+    if rs.placeholder_pattern is not None:
+        nothing |= n.str.fullmatch(rs.placeholder_pattern.python)
+    nothing = nothing.fillna(False).to_numpy(dtype=bool)
+    n = n.where(~nothing)
+    null = raw.isna().to_numpy() | nothing
     out = {}
     for f in rs.features:
         if f.kind == "flag":
@@ -613,6 +628,17 @@ def polars_normalize(e, norm: Normalize):
     if norm.trim:
         e = e.str.strip_chars(" ") if norm.collapse_space else e.str.strip_chars()
     return e
+
+
+def polars_considered(normalized, rs: Ruleset):
+    """The normalized value, null where it is blank or a placeholder (whose
+    features are null)."""
+    import polars as pl
+
+    nothing = (normalized == "") | normalized.is_in(rs.placeholders)
+    if rs.placeholder_pattern is not None:
+        nothing = nothing | normalized.str.contains("^(?:" + rs.placeholder_pattern.rust + ")$")
+    return pl.when(nothing).then(None).otherwise(normalized)
 
 
 def polars_parse(text, decimal: str):
@@ -781,7 +807,8 @@ def run_polars_rowwise(input_csv: Path, output: Path, rulesets: list[Ruleset]) -
     df = polars_read(input_csv, rulesets)
     for rs in rulesets:
         exprs, observed = polars_features(rs, rs.column, NORM)
-        df = df.with_columns(polars_normalize(pl.col(rs.column), rs.normalize).alias(NORM))
+        normalized = polars_considered(polars_normalize(pl.col(rs.column), rs.normalize), rs)
+        df = df.with_columns(normalized.alias(NORM))
         df = df.with_columns(exprs).drop(NORM)
         df = polars_cast_observed(df, observed)
     df.write_parquet(output, compression="zstd")
@@ -794,7 +821,8 @@ def run_polars_expert(input_csv: Path, output: Path, rulesets: list[Ruleset]) ->
     for rs in rulesets:
         exprs, observed = polars_features(rs, rs.column, NORM)
         values = df.select(pl.col(rs.column).unique()).drop_nulls()
-        values = values.with_columns(polars_normalize(pl.col(rs.column), rs.normalize).alias(NORM))
+        normalized = polars_considered(polars_normalize(pl.col(rs.column), rs.normalize), rs)
+        values = values.with_columns(normalized.alias(NORM))
         values = values.with_columns(exprs).drop(NORM)
         df = df.join(values, on=rs.column, how="left", maintain_order="left")
         df = polars_cast_observed(df, observed)

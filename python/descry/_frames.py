@@ -151,7 +151,8 @@ def attach(data: Any, kind: str, features: pa.Table, kept: list[str]) -> Any:
         frame = to_kind(features, kind, index=data.index)
         return pd.concat([data[kept], frame], axis=1)
     if kind == POLARS:
-        return data.select(kept).hstack(to_kind(features, kind))
+        frame = to_kind(features, kind)
+        return data.select(kept).hstack(frame) if kept else frame
     table = data.select(kept)
     for field, column in zip(features.schema, features.columns):
         table = table.append_column(field, column)
