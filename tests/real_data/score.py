@@ -1,6 +1,6 @@
 """Score descry's `cluster` and `propose` on the real columns against the hand-labelled truth.
 
-    python score.py DESCRY_BINARY OUTDIR [--json RESULTS.json]
+    python score.py DESCRY_BINARY OUTDIR [--json RESULTS.json] [--only cluster|propose]
 
 Writes the columns into OUTDIR (load.py), then for every column:
 
@@ -205,15 +205,16 @@ def score_propose(descry, csv_path, column, name, workdir):
     }
 
 
-def score_all(descry, outdir):
+def score_all(descry, outdir, parts=("cluster", "propose")):
     os.makedirs(outdir, exist_ok=True)
     results = {}
     for name, (_, _, column) in load.COLUMNS.items():
         csv_path = load.write_column(name, outdir)
-        results[name] = {
-            "cluster": {m: score_cluster(descry, csv_path, column, name, m) for m in METHODS},
-            "propose": score_propose(descry, csv_path, column, name, outdir),
-        }
+        results[name] = {}
+        if "cluster" in parts:
+            results[name]["cluster"] = {m: score_cluster(descry, csv_path, column, name, m) for m in METHODS}
+        if "propose" in parts:
+            results[name]["propose"] = score_propose(descry, csv_path, column, name, outdir)
     return results
 
 
@@ -222,6 +223,13 @@ def pct(x):
 
 
 def print_report(results):
+    if "cluster" in next(iter(results.values())):
+        print_cluster(results)
+    if "propose" in next(iter(results.values())):
+        print_propose(results)
+
+
+def print_cluster(results):
     print("cluster: pairwise precision / recall against truth/<name>.groups.csv (pairs predicted)")
     print(f"{'column':<14}" + "".join(f"{m:>22}" for m in METHODS))
     for name, r in results.items():
@@ -230,6 +238,9 @@ def print_report(results):
         true_pairs = r["cluster"][METHODS[0]]["true_pairs"]
         print(f"{name:<14}" + "".join(f"{c:>22}" for c in cells) + f"   true pairs {true_pairs}")
     print()
+
+
+def print_propose(results):
     print("propose: rules, coverage, counts with one observed value, word pairs in one flag / one label case that are one word")
     for name, r in results.items():
         p = r["propose"]
@@ -247,12 +258,17 @@ def print_report(results):
 
 
 def main(argv):
-    if len(argv) not in (3, 5) or (len(argv) == 5 and argv[3] != "--json"):
-        raise SystemExit("usage: python score.py DESCRY_BINARY OUTDIR [--json RESULTS.json]")
-    results = score_all(argv[1], argv[2])
+    usage = "usage: python score.py DESCRY_BINARY OUTDIR [--json RESULTS.json] [--only cluster|propose]"
+    if len(argv) < 3 or len(argv) % 2 == 0:
+        raise SystemExit(usage)
+    options = dict(zip(argv[3::2], argv[4::2]))
+    if not set(options) <= {"--json", "--only"} or options.get("--only", "cluster") not in ("cluster", "propose"):
+        raise SystemExit(usage)
+    parts = (options["--only"],) if "--only" in options else ("cluster", "propose")
+    results = score_all(argv[1], argv[2], parts)
     print_report(results)
-    if len(argv) == 5:
-        with open(argv[4], "w", encoding="utf-8") as f:
+    if "--json" in options:
+        with open(options["--json"], "w", encoding="utf-8") as f:
             json.dump(results, f, indent=1, sort_keys=True)
             f.write("\n")
 
