@@ -33,6 +33,19 @@ fn shifted_drop(dir: &Path) -> PathBuf {
     write(dir, "drop.csv", &out)
 }
 
+/// Every drift gate at its strictest: a drop against its own baseline
+/// passes them all.
+const EVERY_GATE_AT_ZERO: [&str; 8] = [
+    "--max-new-share",
+    "0",
+    "--max-new-uncovered-share",
+    "0",
+    "--max-psi",
+    "0",
+    "--max-shift",
+    "0",
+];
+
 fn check(args: &[&str], dir: &Path) -> (Option<i32>, String, String) {
     let out = run(args, Some(dir));
     (out.status.code(), stdout(&out), stderr(&out))
@@ -72,27 +85,17 @@ fn a_drop_against_its_own_baseline_shows_no_drift_and_passes_every_gate() {
         std::fs::read(d.join("b.parquet")).unwrap()
     );
 
-    let (code, json, err) = check(
-        &[
-            "check",
-            s(&listings),
-            "-r",
-            s(&engine),
-            "--baseline",
-            "a.parquet",
-            "--format",
-            "json",
-            "--max-new-share",
-            "0",
-            "--max-new-uncovered-share",
-            "0",
-            "--max-psi",
-            "0",
-            "--max-shift",
-            "0",
-        ],
-        d,
-    );
+    let args = [
+        "check",
+        s(&listings),
+        "-r",
+        s(&engine),
+        "--baseline",
+        "a.parquet",
+        "--format",
+        "json",
+    ];
+    let (code, json, err) = check(&[&args[..], &EVERY_GATE_AT_ZERO].concat(), d);
     assert_eq!(code, Some(0), "{err}");
     let report: serde_json::Value = serde_json::from_str(&json).unwrap();
     let drift = &report["drift"];
@@ -229,6 +232,131 @@ fn a_shifted_drop_fails_its_gates_with_one_reason_each_and_scipy_agrees() {
         "{text}"
     );
     assert!(text.contains("PSI"), "{text}");
+}
+
+/// The drift scenario of the demo generator: `descry demo --drift` writes
+/// the same listings as `descry demo`, row for row, but for engines written
+/// in a new spelling family (`4-banger heavy oil`) and a shifted gasoline
+/// share. The report finds exactly those: the new family's values are the
+/// new values, the fuel label's PSI is over the limit, and the gates on
+/// them fail; the drifted drop against its own baseline passes every gate.
+#[test]
+fn the_demo_drift_scenario_is_found_exactly() {
+    use descry::demo::{generate, SampleOptions};
+    let dir = TempDir::new().unwrap();
+    let d = dir.path();
+    for (out, drift) in [("base", false), ("next", true)] {
+        let mut args = vec!["demo", "-o", out];
+        if drift {
+            args.push("--drift");
+        }
+        let made = run(&args, Some(d));
+        assert!(made.status.success(), "{}", stderr(&made));
+    }
+    let engine = ruleset("engine.toml");
+    // `check TABLE --baseline BASE --format json GATES...` on the engines.
+    let against = |table: &str, base: &str, gates: &[&str]| {
+        let args = [
+            "check",
+            table,
+            "-r",
+            s(&engine),
+            "--baseline",
+            base,
+            "--format",
+            "json",
+        ];
+        check(&[&args[..], gates].concat(), d)
+    };
+    let save = |table: &str, base: &str| {
+        let (code, _, err) = check(
+            &["check", table, "-r", s(&engine), "--save-baseline", base],
+            d,
+        );
+        assert_eq!(code, Some(0), "{err}");
+    };
+    save("base/listings.csv", "base.parquet");
+    let (code, json, err) = against(
+        "next/listings.csv",
+        "base.parquet",
+        &[
+            "--max-new-share",
+            "0.01",
+            "--max-new-uncovered-share",
+            "0.5",
+            "--max-psi",
+            "0.1",
+        ],
+    );
+    assert_eq!(code, Some(1), "{err}");
+    let report: serde_json::Value = serde_json::from_str(&json).unwrap();
+    let drift = &report["drift"];
+
+    // The new values are exactly the values of the drifted truth that the
+    // baseline's truth lacks, and every one is of the new family.
+    let base = generate(&SampleOptions::default()).truth.engine;
+    let next = generate(&SampleOptions {
+        drift: true,
+        ..SampleOptions::default()
+    })
+    .truth
+    .engine;
+    let mut expected: Vec<&str> = next
+        .keys()
+        .filter(|v| !base.contains_key(*v))
+        .map(String::as_str)
+        .collect();
+    let mut found: Vec<&str> = drift["new_values"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|v| v["value"].as_str().unwrap())
+        .collect();
+    expected.sort_unstable();
+    found.sort_unstable();
+    assert_eq!(found, expected);
+    assert!(!found.is_empty());
+    assert!(found.iter().all(|v| v.contains("banger")), "{found:?}");
+
+    // The shifted family: gasoline's share of the fuel label grew, and the
+    // label's PSI is over the limit.
+    let fuel = &drift["labels"][0];
+    assert_eq!(fuel["output"], "eng_fuel");
+    assert!(fuel["psi"].as_f64().unwrap() > 0.1, "{fuel}");
+    let gasoline = fuel["categories"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|c| c["category"] == "gasoline")
+        .unwrap();
+    assert!(
+        gasoline["share_after"].as_f64().unwrap()
+            > gasoline["share_before"].as_f64().unwrap() + 0.05,
+        "{gasoline}"
+    );
+
+    // Two gates fail, each with its reason; the one on uncovered new rows
+    // (about half the new family names a displacement) passes.
+    let failed: Vec<&str> = report["gates"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|g| g["passed"] == false)
+        .map(|g| g["gate"].as_str().unwrap())
+        .collect();
+    assert_eq!(failed, ["max_new_share", "max_psi"], "{err}");
+    assert!(
+        err.contains("--max-psi 0.1") && err.contains("eng_fuel"),
+        "{err}"
+    );
+
+    // The drifted drop against its own baseline: nothing new, nothing moved.
+    save("next/listings.csv", "next.parquet");
+    let (code, json, err) = against("next/listings.csv", "next.parquet", &EVERY_GATE_AT_ZERO);
+    assert_eq!(code, Some(0), "{err}");
+    let report: serde_json::Value = serde_json::from_str(&json).unwrap();
+    assert_eq!(report["drift"]["new_row_share"], 0.0);
+    assert_eq!(report["drift"]["labels"][0]["psi"], 0.0);
 }
 
 #[test]

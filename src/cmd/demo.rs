@@ -11,8 +11,8 @@ Write the demo data set: listings of a used farm-and-construction equipment
 marketplace, with free-text `transmission`, `engine` and `part_no` columns,
 and the true features of every distinct value under OUT_DIR/truth/.
 
-The generator is seeded: the same --rows, --seed, --variants and --spellings
-always give byte-identical files.
+The generator is seeded: the same --rows, --seed, --variants, --spellings
+and --drift always give byte-identical files.
 
 By default the number of distinct transmission and engine spellings grows
 with the rows, as text typed by many sellers does (about 121,000 and 375,000
@@ -20,6 +20,15 @@ at a million rows). --spellings N bounds it instead: each of the two columns
 draws N spellings once per seed and every row takes one of them (a few
 common, most rare), plus the usual nulls, blanks and placeholders; part_no
 stays a high-cardinality code column. The truth is exact either way.
+
+--drift writes the next month's drop of a drift scenario: the same listings
+as without it, row for row, except engines: a new spelling family (5% of
+diesel engines written `4-banger heavy oil`) and a shifted one (15% of the
+other engines stating a fuel take an earlier gasoline engine's text). Check
+it against a baseline of the same options without --drift:
+  descry demo -o base && descry demo -o next --drift
+  descry check base/listings.csv -r rulesets/engine.toml --save-baseline base.parquet
+  descry check next/listings.csv -r rulesets/engine.toml --baseline base.parquet
 
 Memory: rows are streamed to the file; memory grows with
 the number of distinct values (one truth entry each).";
@@ -45,6 +54,10 @@ pub struct Args {
     /// they grow with the rows.
     #[arg(long, value_name = "N", value_parser = clap::value_parser!(u64).range(1..))]
     pub spellings: Option<u64>,
+    /// Write the drifted next drop: a new spelling family of engines and a
+    /// shifted gasoline share, otherwise the same rows as without it.
+    #[arg(long)]
+    pub drift: bool,
 }
 
 #[derive(Debug, Clone, Copy, ValueEnum)]
@@ -63,6 +76,7 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
         seed: args.seed,
         variants,
         spellings: args.spellings.map(|n| n as usize),
+        drift: args.drift,
     };
     check_targets(&args.out_dir)?;
     descry::demo::write_sample(&args.out_dir, &opts)?;

@@ -65,6 +65,25 @@
 //! affected and stay a high-cardinality code column. The default (`None`)
 //! gives exactly the same bytes as before the option existed.
 //!
+//! # A drop that drifted
+//!
+//! With [`SampleOptions::drift`], the listings are those of the same options
+//! without it, row for row, except in the engine column of two kinds of rows
+//! (chosen by a second seeded stream, so every other draw is unchanged):
+//!
+//! - a new spelling family: 5% of the rows whose engine is a diesel model
+//!   describe it as sellers of the baseline never did, `4-banger heavy oil`,
+//!   `heavy oil 6-banger 6.8L` (`banger` for cylinders, `heavy oil` for
+//!   diesel; a displacement in half of them);
+//! - a shifted family: 15% of the other rows that state a fuel other than
+//!   gasoline take instead the text of an earlier row that states gasoline.
+//!
+//! So a check of this drop against a baseline of the drop without drift finds
+//! exactly the new family's values as new values, and the gasoline share of
+//! the fuel label moved (a population stability index of about 0.12, a
+//! moderate shift, on the committed sample's options). The truth files
+//! describe the drifted drop.
+//!
 //! # Extended variants
 //!
 //! With [`Variants::Extended`], 30% of values take one spelling that the
@@ -106,6 +125,9 @@ pub struct SampleOptions {
     /// unbounded, growing with the rows. See "A bounded vocabulary" in the
     /// module documentation.
     pub spellings: Option<usize>,
+    /// The second drop of the drift scenario: see "A drop that drifted" in
+    /// the module documentation.
+    pub drift: bool,
 }
 
 impl Default for SampleOptions {
@@ -116,6 +138,7 @@ impl Default for SampleOptions {
             seed: 7,
             variants: Variants::Standard,
             spellings: None,
+            drift: false,
         }
     }
 }
@@ -323,6 +346,7 @@ pub struct Listings {
     stock: Stock,
     pool: Option<Pool>,
     tally: Tally,
+    drift: Option<Drifter>,
 }
 
 /// The truth while rows are drawn: hashed for speed, sorted at the end.
@@ -462,6 +486,10 @@ impl Listings {
             stock,
             pool,
             tally: Tally::default(),
+            drift: opts.drift.then(|| Drifter {
+                dice: Dice::new(opts.seed ^ DRIFT_SEED),
+                gasoline: Vec::new(),
+            }),
         }
     }
 
@@ -517,6 +545,10 @@ impl Listings {
         let part_no = fill(d, &mut t.part_no, &mut t.conflicts, |d| {
             (write_part_number(d, &part, extended), part.features())
         });
+        let engine_text = match &mut self.drift {
+            Some(drifter) => drifter.redraw(engine_text, &engine, t),
+            None => engine_text,
+        };
         Listing {
             listing_id: format!("L{:07}", self.row),
             transmission,
@@ -542,6 +574,101 @@ impl Iterator for Listings {
         let left = self.opts.rows - self.row;
         (left, Some(left))
     }
+}
+
+// ---------------------------------------------------------------------------
+// The drifted drop
+// ---------------------------------------------------------------------------
+
+/// Mixed into the seed of the drift's own stream of draws.
+const DRIFT_SEED: u64 = 0x0064_7269_6674;
+/// Of the rows with a diesel engine described: the share rewritten in the
+/// new spelling family.
+const DRIFT_NEW_FAMILY_SHARE: f64 = 0.05;
+/// Of the rows stating a fuel other than gasoline: the share that takes the
+/// text of an earlier gasoline row.
+const DRIFT_SHIFT_SHARE: f64 = 0.15;
+const HEAVY_OIL_SPELLINGS: &[&str] = &[
+    "{n}-banger heavy oil",
+    "{n} banger heavy-oil",
+    "heavy oil {n}-banger",
+];
+
+/// Rewrites engine values after the row was drawn, with its own dice, so
+/// that the rest of the drop stays the baseline's row for row.
+struct Drifter {
+    dice: Dice,
+    /// Engine values stating gasoline in unchanged rows so far (one entry
+    /// per row, so a copy follows their frequencies).
+    gasoline: Vec<String>,
+}
+
+impl Drifter {
+    fn redraw(
+        &mut self,
+        text: Option<String>,
+        engine: &EngineSpec,
+        t: &mut Tally,
+    ) -> Option<String> {
+        let text = text?;
+        // Gaps (blanks, placeholders) have no features and stay.
+        let Some(fuel) = t
+            .engine
+            .get(&text)
+            .and_then(|e| e.features.as_ref())
+            .map(|f| f.fuel)
+        else {
+            return Some(text);
+        };
+        let x = self.dice.fraction();
+        if engine.model.fuel == Fuel::Diesel && x < DRIFT_NEW_FAMILY_SHARE {
+            let (new, features) = heavy_oil(&mut self.dice, engine.model);
+            swap(t, &text, new.clone(), Some(features));
+            return Some(new);
+        }
+        let shifted = matches!(fuel, Some(f) if f != Fuel::Gasoline);
+        if shifted && !self.gasoline.is_empty() && self.dice.chance(DRIFT_SHIFT_SHARE) {
+            let copy = self.gasoline[self.dice.below(self.gasoline.len())].clone();
+            let features = t.engine.get(&copy).and_then(|e| e.features.clone());
+            swap(t, &text, copy.clone(), features);
+            return Some(copy);
+        }
+        if fuel == Some(Fuel::Gasoline) {
+            self.gasoline.push(text.clone());
+        }
+        Some(text)
+    }
+}
+
+/// An engine in the new spelling family: `4-banger heavy oil`, with a
+/// displacement half of the time.
+fn heavy_oil(d: &mut Dice, m: &EngineModel) -> (String, EngineFeatures) {
+    let mut text = spell(d.one_of(HEAVY_OIL_SPELLINGS), m.cylinders);
+    let mut displacement_l = None;
+    if d.chance(0.5) {
+        let (phrase, litres) = displacement_phrase(d, m.tenths, false);
+        text = format!("{text} {phrase}");
+        displacement_l = Some(litres);
+    }
+    let features = EngineFeatures {
+        cylinders: Some(m.cylinders),
+        displacement_l,
+        power_hp: None,
+        turbo: false,
+        fuel: Some(Fuel::Diesel),
+    };
+    (text, features)
+}
+
+/// Move one row of the engine truth from `old` to `new`.
+fn swap(t: &mut Tally, old: &str, new: String, features: Option<EngineFeatures>) {
+    if let Some(entry) = t.engine.get_mut(old) {
+        entry.rows -= 1;
+        if entry.rows == 0 {
+            t.engine.remove(old);
+        }
+    }
+    enter(&mut t.engine, &mut t.conflicts, new, features);
 }
 
 // ---------------------------------------------------------------------------
@@ -2081,7 +2208,32 @@ mod tests {
             seed,
             variants,
             spellings: None,
+            drift: false,
         }
+    }
+
+    #[test]
+    fn a_drifted_drop_changes_engines_only_and_its_truth_counts_its_rows() {
+        let base = generate(&opts(3000, 7, Variants::Standard));
+        let next = generate(&SampleOptions {
+            drift: true,
+            ..opts(3000, 7, Variants::Standard)
+        });
+        let mut changed = 0;
+        for (a, b) in base.listings.iter().zip(&next.listings) {
+            assert_eq!(a.listing_id, b.listing_id);
+            assert_eq!(a.transmission, b.transmission);
+            assert_eq!(a.part_no, b.part_no);
+            assert_eq!(a.price_usd, b.price_usd);
+            assert_eq!(a.engine.is_some(), b.engine.is_some());
+            changed += usize::from(a.engine != b.engine);
+        }
+        assert!(changed > 100, "{changed}");
+        let rows: u64 = next.truth.engine.values().map(|e| e.rows).sum();
+        let engines: Vec<&String> = next.listings.iter().flat_map(|l| &l.engine).collect();
+        assert_eq!(rows, engines.len() as u64);
+        assert!(engines.iter().all(|e| next.truth.engine.contains_key(*e)));
+        assert_eq!(next.truth.conflicts, 0);
     }
 
     fn bounded(rows: usize, seed: u64, variants: Variants, n: usize) -> SampleOptions {
