@@ -117,13 +117,57 @@ pub(crate) fn typo(a: &str, b: &str) -> bool {
     let (la, lb) = (a.chars().count(), b.chars().count());
     a.chars().next() == b.chars().next()
         && la.min(lb) >= 4
-        && osa(a, b) <= if la.max(lb) >= 8 { 2 } else { 1 }
+        && osa(a, b) <= if la.min(lb) >= 8 { 2 } else { 1 }
         && jaro_winkler(a, b) >= 0.9
+        && !derived_pair(a, b)
+}
+
+/// Whether `a` and `b` are one stem with two endings that make different
+/// words (`operated` / `operator`, `direct` / `director`, `manage` /
+/// `manager`); a plural `s` is no such ending.
+fn derived_pair(a: &str, b: &str) -> bool {
+    if plural(a, b) || plural(b, a) {
+        return false;
+    }
+    let stem = a
+        .chars()
+        .zip(b.chars())
+        .take_while(|(x, y)| x == y)
+        .map(|(x, _)| x.len_utf8())
+        .sum::<usize>();
+    // The stem may end before the common prefix does (`operat-ing`,
+    // `operat-ion`).
+    (3..=stem)
+        .rev()
+        .filter(|&cut| a.is_char_boundary(cut))
+        .any(|cut| {
+            let (ra, rb) = (&a[cut..], &b[cut..]);
+            let ending = |r: &str| {
+                r.is_empty()
+                    || DERIVED.contains(&r)
+                    || (a[..cut].ends_with('e') && DERIVED.contains(&format!("e{r}").as_str()))
+            };
+            ra != rb && ending(ra) && ending(rb)
+        })
+}
+
+/// Endings that make another word of the same stem (`office` / `officer`,
+/// `print` / `printed`, `account` / `accountant`): a word ending so is not
+/// abbreviated by its stem (common practice of English word formation).
+const DERIVED: &[&str] = &[
+    "ed", "er", "ers", "ing", "al", "ant", "ants", "ent", "ic", "ical", "en", "ance", "ation",
+    "ion", "ions", "ive", "or", "ors", "ist", "ity", "ly", "y", "ery", "ure",
+];
+
+fn is_vowel(c: char) -> bool {
+    matches!(c, 'a' | 'e' | 'i' | 'o' | 'u')
 }
 
 /// Whether `short` abbreviates `long`: a prefix of it, or from three letters
-/// on a subsequence with the same first letter; not when `long` is `short`
-/// glued to another word of the column (`known`).
+/// on a subsequence with the same first letter that drops the vowels
+/// (`mgr`, `acct`, `dsl`: no vowel after the first letter); not when `long`
+/// is `short` glued to another word of the column (`known`), nor when it is
+/// `short` with an ending that makes another word (`printed`, `officer`).
 pub(crate) fn abbreviates(short: &str, long: &str, known: &dyn Fn(&str) -> bool) -> bool {
     let ls = short.chars().count();
     if ls < 2 || ls >= long.chars().count() || short.chars().next() != long.chars().next() {
@@ -133,9 +177,15 @@ pub(crate) fn abbreviates(short: &str, long: &str, known: &dyn Fn(&str) -> bool)
         return false;
     }
     if let Some(rest) = long.strip_prefix(short) {
-        return !known(rest);
+        return !known(rest) && !derived_pair(short, long);
     }
-    ls >= 3 && is_subsequence(short, long)
+    ls >= 3 && !short.chars().skip(1).any(is_vowel) && is_subsequence(short, long)
+}
+
+/// Whether `long` is the plural of `short` (`prints`, `boxes`).
+fn plural(short: &str, long: &str) -> bool {
+    long.strip_prefix(short)
+        .is_some_and(|rest| rest == "s" || rest == "es")
 }
 
 /// Whether two spellings of one word are one group (see the module docs).
@@ -213,6 +263,78 @@ pub(crate) fn flags_and_labels(
     out
 }
 
+/// A spelling joins a more frequent one only if it is at most this share
+/// of its rows (plurals excepted): two words of similar frequency are two
+/// words (`office` / `officer`).
+const RARER: u64 = 3;
+/// ... and if at least this share of its rows have it between the same
+/// neighbours as the frequent one (`office managr` beside `office
+/// manager`): a spelling with contexts of its own is a word of its own
+/// (`austrian pinscher` is no `australian shepherd`).
+const SAME_PLACE: f64 = 0.5;
+/// ... and this share for a short form of three letters with a vowel after
+/// the first (`man`, `tea`, `das`), which is often a word of its own.
+const SAME_PLACE_SHORT: f64 = 0.8;
+
+/// Where each word stands: the word before and after it in each value
+/// (fillers and single letters skipped; `^` and `$` at the ends).
+struct Contexts<'a> {
+    /// Word -> (word before, word after, entry) for each place it stands.
+    places: HashMap<&'a str, Vec<(&'a str, &'a str, u32)>>,
+    before: HashMap<&'a str, HashSet<&'a str>>,
+    after: HashMap<&'a str, HashSet<&'a str>>,
+}
+
+impl<'a> Contexts<'a> {
+    fn build(corpus: &'a Corpus) -> Contexts<'a> {
+        let mut places: HashMap<&str, Vec<(&str, &str, u32)>> = HashMap::new();
+        let mut before: HashMap<&str, HashSet<&str>> = HashMap::new();
+        let mut after: HashMap<&str, HashSet<&str>> = HashMap::new();
+        for (e, value) in corpus.normalized.iter().enumerate() {
+            let words: Vec<&str> = runs(value)
+                .filter(|r| r.class == CharClass::Letter)
+                .map(|r| r.text)
+                .filter(|w| w.chars().count() >= 2 && !FILLER.contains(w))
+                .collect();
+            for (i, &w) in words.iter().enumerate() {
+                let prev = if i == 0 { "^" } else { words[i - 1] };
+                let next = words.get(i + 1).copied().unwrap_or("$");
+                places.entry(w).or_default().push((prev, next, e as u32));
+                before.entry(w).or_default().insert(prev);
+                after.entry(w).or_default().insert(next);
+            }
+        }
+        Contexts {
+            places,
+            before,
+            after,
+        }
+    }
+
+    /// Share of `rare`'s rows in which it stands where `frequent` also
+    /// stands: the same word (or end) before it and after it.
+    fn same_place(&self, corpus: &Corpus, rare: &str, frequent: &str) -> f64 {
+        let (Some(places), Some(before), Some(after)) = (
+            self.places.get(rare),
+            self.before.get(frequent),
+            self.after.get(frequent),
+        ) else {
+            return 0.0;
+        };
+        let mut all: Vec<u32> = places.iter().map(|p| p.2).collect();
+        let mut alike: Vec<u32> = places
+            .iter()
+            .filter(|(prev, next, _)| before.contains(prev) && after.contains(next))
+            .map(|p| p.2)
+            .collect();
+        all.sort_unstable();
+        all.dedup();
+        alike.sort_unstable();
+        alike.dedup();
+        corpus.rows_of(&alike) as f64 / corpus.rows_of(&all).max(1) as f64
+    }
+}
+
 /// Spelling groups of the words in at least `min_rows` rows, with the rarer
 /// spellings (typos, abbreviations) that belong to them.
 fn word_groups(
@@ -232,47 +354,76 @@ fn word_groups(
         .collect();
     terms.sort_by(|a, b| b.2.cmp(&a.2).then_with(|| a.0.cmp(b.0)));
     let heads = terms.iter().take_while(|t| t.2 >= min_rows).count();
+    let contexts = Contexts::build(corpus);
+    // `rare` may join `frequent` (see RARER and SAME_PLACE).
+    let evidence = |rare: usize, frequent: usize| {
+        let (r, f) = (terms[rare].0.as_str(), terms[frequent].0.as_str());
+        let rarer = terms[rare].2 * RARER <= terms[frequent].2 || plural(f, r) || plural(r, f);
+        let short = r.chars().count() <= 3 && r.chars().skip(1).any(is_vowel);
+        let needed = if short { SAME_PLACE_SHORT } else { SAME_PLACE };
+        rarer && contexts.same_place(corpus, r, f) >= needed
+    };
     let mut uf = UnionFind::new(terms.len());
     let mut joined: Vec<Option<(usize, &'static str)>> = vec![None; terms.len()];
-    // Typos and words always written together are one group (transitively).
+    // Typos among the frequent words, with evidence.
     let links: Vec<(usize, usize, &'static str)> = (0..heads)
         .into_par_iter()
         .flat_map_iter(|i| {
             let terms = &terms;
+            let evidence = &evidence;
             ((i + 1)..heads).filter_map(move |j| {
-                if typo(terms[i].0, terms[j].0) {
-                    return Some((i, j, "a typo of"));
-                }
-                let shared = shared_rows(corpus, terms[i].1, terms[j].1);
-                (shared as f64 >= TOGETHER * terms[i].2.max(terms[j].2) as f64).then_some((
-                    i,
-                    j,
-                    "always written together with",
-                ))
+                (typo(terms[i].0, terms[j].0) && evidence(j, i)).then_some((i, j, "a typo of"))
             })
         })
         .collect();
+    // A word always written with a more frequent one adds nothing to a flag
+    // on that one: it is left out (`charles` beside `cavalier`).
+    let together: Vec<(usize, usize)> = (0..heads)
+        .into_par_iter()
+        .flat_map_iter(|i| {
+            let terms = &terms;
+            ((i + 1)..heads).filter_map(move |j| {
+                let shared = shared_rows(corpus, terms[i].1, terms[j].1);
+                (shared as f64 >= TOGETHER * terms[i].2.max(terms[j].2) as f64).then_some((i, j))
+            })
+        })
+        .collect();
+    let mut left_out: Vec<Option<usize>> = vec![None; terms.len()];
+    for &(i, j) in &together {
+        if left_out[i].is_none() {
+            left_out[j].get_or_insert(i);
+        }
+    }
     for (i, j, how) in links {
-        uf.union(i as u32, j as u32);
-        joined[j].get_or_insert((i, how));
+        if left_out[i].is_none() && left_out[j].is_none() {
+            uf.union(i as u32, j as u32);
+            joined[j].get_or_insert((i, how));
+        }
     }
     // Any other spelling joins the one frequent word it is a typo or an
-    // abbreviation of, the one with the most rows; abbreviations never chain
-    // two words together (`pwr` does not make `power` a `powershift`).
+    // abbreviation of, the one with the most rows, given the evidence;
+    // abbreviations never chain two words together (`pwr` does not make
+    // `power` a `powershift`).
     let attach: Vec<Option<(usize, &'static str)>> = (0..terms.len())
         .into_par_iter()
         .map(|j| {
+            if left_out[j].is_some() {
+                return None;
+            }
             let w = terms[j].0;
-            (0..heads).filter(|&i| i != j).find_map(|i| {
-                let h = terms[i].0;
-                if j >= heads && typo(w, h) {
-                    Some((i, "a typo of"))
-                } else if abbreviates(w, h, &known) {
-                    Some((i, "an abbreviation of"))
-                } else {
-                    None
-                }
-            })
+            (0..heads)
+                .filter(|&i| i != j && left_out[i].is_none())
+                .find_map(|i| {
+                    let h = terms[i].0;
+                    let how = if j >= heads && typo(w, h) {
+                        "a typo of"
+                    } else if abbreviates(w, h, &known) {
+                        "an abbreviation of"
+                    } else {
+                        return None;
+                    };
+                    evidence(j, i).then_some((i, how))
+                })
         })
         .collect();
     for (j, found) in attach.into_iter().enumerate() {
@@ -284,7 +435,7 @@ fn word_groups(
         }
     }
     let mut by_root: HashMap<u32, Vec<usize>> = HashMap::new();
-    for i in 0..terms.len() {
+    for i in (0..terms.len()).filter(|&i| left_out[i].is_none()) {
         by_root.entry(uf.find(i as u32)).or_default().push(i);
     }
     // Members are in index order, so a group holding a frequent word starts with it.
@@ -317,9 +468,22 @@ fn word_groups(
             let mut grouped: Vec<String> = members
                 .iter()
                 .filter_map(|&j| {
-                    joined[j].map(|(i, how)| format!("{:?} is {how} {:?}", terms[j].0, terms[i].0))
+                    joined[j].map(|(i, how)| {
+                        format!(
+                            "{:?} is {how} {:?} (at most 1/{RARER} of its rows, between the same words)",
+                            terms[j].0, terms[i].0
+                        )
+                    })
                 })
                 .collect();
+            for &(i, j) in &together {
+                if members.contains(&i) && left_out[j] == Some(i) {
+                    grouped.push(format!(
+                        "{:?} is always written with {:?}, so it is left out",
+                        terms[j].0, terms[i].0
+                    ));
+                }
+            }
             // Acronyms are also written with periods (`hst`, `h.s.t.`).
             let dotted: Vec<String> = spellings
                 .iter()
@@ -431,6 +595,28 @@ mod tests {
         assert!(!same_word("x", "xl", &none));
         // `powershift` is `power` glued to `shift`, a word of its own.
         assert!(!same_word("power", "powershift", &|w| w == "shift"));
+    }
+
+    #[test]
+    fn words_of_one_stem_are_different_words() {
+        // Hand-picked look-alikes from job titles and art media (common
+        // practice of English word formation: -er, -ed, -or, -ing, -ion).
+        assert!(!same_word("office", "officer", &none));
+        assert!(!same_word("operated", "operator", &none));
+        assert!(!same_word("operating", "operation", &none));
+        assert!(!same_word("direct", "director", &none));
+        assert!(!same_word("manage", "manager", &none));
+        assert!(!same_word("print", "printed", &none));
+        // Two edits only between long words: `granite` is no `graphite`.
+        assert!(!same_word("granite", "graphite", &none));
+        // Dropped vowels abbreviate; kept ones in the middle do not.
+        assert!(same_word("mgr", "manager", &none));
+        assert!(same_word("acct", "account", &none));
+        assert!(!same_word("tech", "teacher", &none));
+        assert!(!same_word("des", "domestic", &none));
+        // A plural is the same word.
+        assert!(same_word("print", "prints", &none));
+        assert!(same_word("manager", "managers", &none));
     }
 
     #[test]
