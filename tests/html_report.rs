@@ -115,6 +115,45 @@ fn assert_page(dom: &str, report: &serde_json::Value) {
     );
 }
 
+/// The unmatched table in use: two clicks on the value column's head sort
+/// it A to Z; typing in the filter box keeps the rows whose value holds
+/// the text. A copy of the page gets a script that does both and writes
+/// what the table then shows into the DOM.
+fn sorted_and_filtered(browser: &Path, page: &Path, report: &serde_json::Value) {
+    let clicks = r#"<script>
+var t = document.getElementById('values-1'), head = t.tHead.rows[0].cells[2];
+head.click(); head.click();
+document.body.setAttribute('data-first', t.tBodies[0].rows[0].cells[2].textContent);
+var box = document.querySelector('.tools[data-for="values-1"] input');
+box.value = 'SCRIPT'; box.dispatchEvent(new Event('input'));
+</script></body>"#;
+    let html = std::fs::read_to_string(page).unwrap();
+    let used = page.with_extension("used.html");
+    std::fs::write(&used, html.replace("</body>", clicks)).unwrap();
+    let dom = dom(browser, &used);
+    let mut values: Vec<String> = report["unmatched"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|v| v["value"].as_str().unwrap().to_lowercase())
+        .collect();
+    values.sort();
+    // Browsers differ on escaping `<` and `>` in an attribute's value.
+    let first = &values[0];
+    let escaped = first.replace('<', "&lt;").replace('>', "&gt;");
+    assert!(
+        [first, &escaped]
+            .iter()
+            .any(|f| dom.contains(&format!("data-first=\"{f}\""))),
+        "not sorted A to Z"
+    );
+    let with_script = values.iter().filter(|v| v.contains("script")).count();
+    assert!(
+        dom.contains(&format!("{with_script} of {} shown", values.len())),
+        "not filtered"
+    );
+}
+
 #[test]
 fn the_page_in_a_browser_without_and_with_a_baseline() {
     let Some(browser) = chromium() else {
@@ -141,6 +180,11 @@ fn the_page_in_a_browser_without_and_with_a_baseline() {
     let plain = dom(&browser, &d.join("plain.html"));
     assert_page(&plain, &json(&d.join("plain.json")));
     assert!(!plain.contains("class=\"new\""), "no baseline, nothing new");
+    sorted_and_filtered(
+        &browser,
+        &d.join("plain.html"),
+        &json(&d.join("plain.json")),
+    );
 
     check(
         d,

@@ -296,17 +296,22 @@ impl Page {
             r.gates.len() - failed
         );
         for g in &r.gates {
-            let outcome = match &g.reason {
-                Some(reason) => text(reason),
-                None => gate_value(g),
+            // A reason names its option and threshold already.
+            let _ = match &g.reason {
+                Some(reason) => write!(
+                    self.out,
+                    "<li class=\"fail\"><span class=\"mark\">failed</span> {}</li>",
+                    text(reason)
+                ),
+                None => write!(
+                    self.out,
+                    "<li class=\"{}\"><span class=\"mark\">{}</span> <code>{}</code> {}</li>",
+                    if g.passed { "pass" } else { "fail" },
+                    if g.passed { "passed" } else { "failed" },
+                    gate_option(g),
+                    gate_value(g)
+                ),
             };
-            let _ = write!(
-                self.out,
-                "<li class=\"{}\"><span class=\"mark\">{}</span> <code>{}</code> {outcome}</li>",
-                if g.passed { "pass" } else { "fail" },
-                if g.passed { "passed" } else { "failed" },
-                gate_option(g),
-            );
         }
         self.out.push_str("</ul></div>\n");
     }
@@ -692,7 +697,7 @@ impl Page {
         for v in d.new_values.iter().take(shown) {
             let _ = write!(
                 table,
-                "<tr class=\"new\">{}<td>{}</td><td class=\"value raw\">{}</td></tr>\n",
+                "<tr class=\"new\">{}<td>{}</td><td class=\"value\">{}</td></tr>\n",
                 rows_and_share(v.rows, considered),
                 if v.covered { "covered" } else { "unmatched" },
                 text(&v.value)
