@@ -15,7 +15,7 @@ use pyo3::exceptions::PyValueError;
 use pyo3::prelude::*;
 use pyo3::types::PyCapsule;
 
-use descry::pipeline::{features_in_memory, lookup_table_evaluated, Description};
+use descry::pipeline::{features_in_memory, lookup_table, lookup_table_evaluated, Description};
 use descry::propose::{propose as draft_ruleset, ProposeOptions, PROPOSE_SCHEMA};
 use descry::read::text_of;
 use descry::report::drift::{drift, read_baseline, write_baseline, BaselineFigures, Drop};
@@ -144,6 +144,18 @@ impl PyRuleset {
         descry::encode::Encoder::types_fixed_by_ruleset(&self.rules)
     }
 
+    /// The output columns of counts with no `range`, whose type depends on
+    /// the values read.
+    #[getter]
+    fn unfixed_counts(&self) -> Vec<String> {
+        self.rules
+            .features
+            .iter()
+            .filter(|f| matches!(&f.rule, descry::ruleset::Rule::Count(c) if c.range.is_none()))
+            .map(|f| f.output.clone())
+            .collect()
+    }
+
     /// Warnings found while loading (likely slips in the ruleset).
     #[getter]
     fn warnings(&self) -> Vec<String> {
@@ -221,10 +233,71 @@ fn import_column(obj: &Bound<'_, PyAny>, name: &str) -> PyResult<Series> {
         .map_err(|e| input_error(format!("column {name:?}: cannot be read as text: {e}")))
 }
 
-/// The distinct values of a column and their rows.
-fn vocabulary(series: &Series) -> PyResult<Vocabulary> {
+/// The distinct values of a column and their rows: from the rows
+/// themselves, or, with `counts`, from a vocabulary table (one row per
+/// distinct value, its row count in `counts`; null values may be one row).
+fn vocabulary(series: &Series, counts: Option<&Series>) -> PyResult<Vocabulary> {
     let text = text_of(&series.clone().into_column()).map_err(polars_error)?;
-    Ok(Vocabulary::build(text.iter()))
+    let Some(counts) = counts else {
+        return Ok(Vocabulary::build(text.iter()));
+    };
+    let counts = counts
+        .cast(&DataType::Int64)
+        .map_err(|e| input_error(format!("the counts are not whole numbers: {e}")))?;
+    let counts = counts.i64().map_err(polars_error)?;
+    let mut vocab = Vocabulary::default();
+    let mut seen = std::collections::HashSet::new();
+    for (row, (value, n)) in text.iter().zip(counts.iter()).enumerate() {
+        let n = match n {
+            Some(n) if n >= 0 => n as u64,
+            Some(n) => return Err(input_error(format!("row {row}: the count {n} is negative"))),
+            None => return Err(input_error(format!("row {row}: the count is null"))),
+        };
+        match value {
+            None => vocab.null_rows += n,
+            Some(v) => {
+                if !seen.insert(v) {
+                    return Err(input_error(format!(
+                        "row {row}: the value {v:?} appears twice in the vocabulary table"
+                    )));
+                }
+                vocab.values.push(v.to_owned());
+                vocab.counts.push(n);
+            }
+        }
+    }
+    Ok(vocab)
+}
+
+/// The optional counts column of a vocabulary table.
+fn import_counts(counts: Option<&Bound<'_, PyAny>>) -> PyResult<Option<Series>> {
+    counts.map(|c| import_column(c, "counts")).transpose()
+}
+
+/// The lookup table of the rulesets on a column (one row per distinct
+/// non-null value: `value`, `rows` and the features, in `apply`'s types),
+/// from its rows or, with `counts`, from a vocabulary table.
+#[pyfunction]
+#[pyo3(signature = (column, name, rulesets, counts = None))]
+fn lookup(
+    py: Python<'_>,
+    column: Bound<'_, PyAny>,
+    name: String,
+    rulesets: Vec<PyRef<'_, PyRuleset>>,
+    counts: Option<Bound<'_, PyAny>>,
+) -> PyResult<ArrowStream> {
+    let series = import_column(&column, &name)?;
+    let counts = import_counts(counts.as_ref())?;
+    let rules: Vec<&Ruleset> = rulesets.iter().map(|r| &r.rules).collect();
+    let stream = py.detach(|| -> PyResult<ffi::ArrowArrayStream> {
+        let vocab = vocabulary(&series, counts.as_ref())?;
+        let table = lookup_table(&vocab, &rules).map_err(polars_error)?;
+        let height = table.height();
+        export_features(table.columns().to_vec(), height)
+    })?;
+    Ok(ArrowStream {
+        stream: std::sync::Mutex::new(Some(stream)),
+    })
 }
 
 /// The feature columns exported as one struct array per batch.
@@ -298,7 +371,7 @@ fn feature_index(rules: &Ruleset, name: &str) -> PyResult<usize> {
 /// The `descry.check/1` report of one ruleset on one column, as JSON, with
 /// the gates judged; with `baseline`, the drift against it.
 #[pyfunction]
-#[pyo3(signature = (column, name, rules, min_coverage = None, require = Vec::new(), baseline = None, save_baseline = None, limits = (None, None, None, None)))]
+#[pyo3(signature = (column, name, rules, min_coverage = None, require = Vec::new(), baseline = None, save_baseline = None, limits = (None, None, None, None), counts = None))]
 #[allow(clippy::too_many_arguments)]
 fn check(
     py: Python<'_>,
@@ -310,15 +383,17 @@ fn check(
     baseline: Option<PathBuf>,
     save_baseline: Option<PathBuf>,
     limits: (Option<f64>, Option<f64>, Option<f64>, Option<f64>),
+    counts: Option<Bound<'_, PyAny>>,
 ) -> PyResult<String> {
     let series = import_column(&column, &name)?;
+    let counts = import_counts(counts.as_ref())?;
     let required: Vec<(usize, f64)> = require
         .iter()
         .map(|(f, share)| Ok((feature_index(&rules.rules, f)?, *share)))
         .collect::<PyResult<_>>()?;
     let (rules, text) = (&rules.rules, rules.text.as_str());
     py.detach(|| {
-        let vocab = vocabulary(&series)?;
+        let vocab = vocabulary(&series, counts.as_ref())?;
         let eval = rules.evaluate_all(&vocab.values);
         let mut report = CoverageReport::build(rules, &name, &vocab, &eval);
         report.judge(rules, min_coverage, &required);
@@ -377,7 +452,7 @@ fn survey(
 ) -> PyResult<String> {
     let series = import_column(&column, &name)?;
     py.detach(|| {
-        let vocab = vocabulary(&series)?;
+        let vocab = vocabulary(&series, None)?;
         let mut all: Vec<String> = if default_placeholders {
             DEFAULT_PLACEHOLDERS.iter().map(|s| s.to_string()).collect()
         } else {
@@ -410,7 +485,7 @@ fn propose(
 ) -> PyResult<(String, String)> {
     let series = import_column(&column, &name)?;
     py.detach(|| {
-        let vocab = vocabulary(&series)?;
+        let vocab = vocabulary(&series, None)?;
         let defaults = ProposeOptions::default();
         let opts = ProposeOptions {
             min_share: min_share.unwrap_or(defaults.min_share),
@@ -442,6 +517,7 @@ fn _native(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(features, m)?)?;
     m.add_function(wrap_pyfunction!(check, m)?)?;
     m.add_function(wrap_pyfunction!(survey, m)?)?;
+    m.add_function(wrap_pyfunction!(lookup, m)?)?;
     m.add_function(wrap_pyfunction!(propose, m)?)?;
     m.add("VERSION", env!("CARGO_PKG_VERSION"))?;
     Ok(())
