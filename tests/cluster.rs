@@ -513,6 +513,99 @@ fn write_map_keeps_comments_and_other_rules() {
 }
 
 #[test]
+fn fuzzy_groups_reach_a_ruleset_only_through_the_review_file() {
+    let (dir, t) = table();
+    let rules = dir.path().join("part.toml");
+    let groups = dir.path().join("groups.toml");
+    // One step: refused for a fuzzy method, nothing written.
+    let out = cluster_parts(
+        &t,
+        &["-m", "osa", "--write-map", s(&rules), "--label", "part"],
+    );
+    assert_eq!(out.status.code(), Some(2));
+    assert!(stderr(&out).contains("-o groups.toml"), "{}", stderr(&out));
+    assert!(!rules.exists());
+    // Written for review: every group kept until a person says otherwise.
+    let out = cluster_parts(&t, &["-m", "osa", "-t", "2", "-o", s(&groups)]);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    let review = std::fs::read_to_string(&groups).unwrap();
+    assert!(review.contains("column = \"part\""), "{review}");
+    assert!(
+        review.contains("canonical = \"PMP-0750-3T\"\nkeep = true\nmembers = [\n    { value = \"PMP-0750-3T\", rows = 2 },"),
+        "{review}"
+    );
+    // The person drops one member and leaves the group in.
+    let edited = review.replace("    { value = \"PMP0750-3T\", rows = 1 },\n", "");
+    std::fs::write(&groups, &edited).unwrap();
+    let out = run(
+        &[
+            "cluster",
+            "--from",
+            s(&groups),
+            "--write-map",
+            s(&rules),
+            "--label",
+            "part",
+        ],
+        None,
+    );
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    let text = std::fs::read_to_string(&rules).unwrap();
+    assert!(
+        text.contains("map.\"pmp 0750 3t\" = \"PMP-0750-3T\""),
+        "{text}"
+    );
+    assert!(!text.contains("pmp0750-3t"), "{text}");
+    // Then says no to the group: nothing more is written.
+    std::fs::write(&groups, edited.replace("keep = true", "keep = false")).unwrap();
+    let fresh = dir.path().join("fresh.toml");
+    let out = run(
+        &[
+            "cluster",
+            "--from",
+            s(&groups),
+            "--write-map",
+            s(&fresh),
+            "--label",
+            "part",
+        ],
+        None,
+    );
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    assert!(
+        stderr(&out).contains("0 groups kept, 1 left out"),
+        "{}",
+        stderr(&out)
+    );
+    assert!(!std::fs::read_to_string(&fresh).unwrap().contains("map."));
+}
+
+#[test]
+fn rules_leave_only_the_unmatched_values_to_cluster() {
+    let (dir, t) = table();
+    let rules = write(
+        dir.path(),
+        "pumps.toml",
+        "column = \"part\"\n[[flag]]\nname = \"pump\"\nany = [\"pmp\"]\n",
+    );
+    let out = cluster_parts(
+        &t,
+        &["-m", "letters", "--rules", s(&rules), "--format", "json"],
+    );
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    let r: serde_json::Value = serde_json::from_str(&stdout(&out)).unwrap();
+    // The flag describes the pumps, except PMP0750-3T, where "pmp" is not a
+    // whole word; that value and the three filters are what is left.
+    assert_eq!(r["values"], 4);
+    assert_eq!(r["rows"], 6); // 5 rows left and the null row
+    assert!(
+        stderr(&out).contains("4 of 7 distinct values (5 of 9 rows)"),
+        "{}",
+        stderr(&out)
+    );
+}
+
+#[test]
 fn errors_name_the_problem_and_exit_2() {
     let (dir, t) = table();
     let cases: Vec<(Vec<&str>, &str)> = vec![
@@ -571,6 +664,30 @@ fn errors_name_the_problem_and_exit_2() {
             vec!["cluster", s(&t), "-c", "part", "--label", "x"],
             "--write-map",
         ),
+        (
+            vec![
+                "cluster",
+                "--from",
+                "missing.toml",
+                "--write-map",
+                "r.toml",
+                "--label",
+                "x",
+            ],
+            "missing.toml",
+        ),
+        (
+            vec![
+                "cluster",
+                "--from",
+                s(&t),
+                "--write-map",
+                "r.toml",
+                "--label",
+                "x",
+            ],
+            "not a review file",
+        ),
         (vec!["cluster", "missing.csv", "-c", "part"], "missing.csv"),
     ];
     for (args, message) in cases {
@@ -599,6 +716,9 @@ fn help_teaches_with_an_example_and_states_memory() {
         "Digits are identity",
         "jaro-winkler",
         "--write-map",
+        "--from",
+        "keep = true",
+        "Roman numerals",
     ] {
         assert!(help.contains(needle), "{needle} missing from:\n{help}");
     }

@@ -1,15 +1,20 @@
 //! `descry cluster`: group the values of a column that are probably the
 //! same thing spelled differently, and propose a canonical spelling.
 
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 
 use anyhow::bail;
 use clap::ValueEnum;
 
 use descry::cluster::map::write_label_map;
+use descry::cluster::review::{read_review, review_toml};
 use descry::cluster::text::cluster_text;
-use descry::cluster::{cluster, ClusterOptions, Digits, EditLimit, Fuzzy, Method};
+use descry::cluster::{
+    cluster, unmatched, Cluster, ClusterOptions, Digits, EditLimit, Fuzzy, Method,
+};
+use descry::write::{check_not_an_input, check_output_file, write_text_atomically};
+use descry::Ruleset;
 
 use super::common::{check_ruleset_target, emit, json_out, read_vocabulary, Format, InputArgs};
 
@@ -60,10 +65,21 @@ very large sets (about a hundred thousand values in one block, as with
 --digits loose), where a faster heuristic may miss a few (under 1% in our
 measurements). The output is the same whatever --threads is.
 
---write-map FILE --label NAME adds a [[label]] named NAME to the ruleset FILE
-(created if missing) with a map from each member's normalized form to its
-group's canonical spelling. Comments, other rules and entries already in the
-map are kept; only new spellings are added.
+Review before writing. -o groups.toml writes the groups as an editable
+file: each group has its canonical spelling, its members with their rows,
+and keep = true. Set keep = false on a wrong group, delete a member's line,
+edit a canonical spelling; then
+  descry cluster --from groups.toml --write-map R.toml --label NAME
+adds a [[label]] named NAME to the ruleset R.toml (created if missing) with
+a map from each kept member's normalized form to its group's canonical
+spelling. Comments, other rules and entries already in the map are kept;
+only new spellings are added. The one-step cluster INPUT --write-map is
+allowed for the exact methods (letters, words) only: fuzzy groups go
+through the review file.
+
+--rules R.toml clusters only the values that no rule of R.toml fires on
+(and that are not blank or one of its placeholders): what is left to
+describe.
 
 Memory: the column's vocabulary (proportional to the number of distinct
 values; the table is read in batches) and, for the
@@ -71,10 +87,10 @@ fuzzy methods, an index of about 8 bytes per character
 of every distinct value.
 
 Examples:
-  descry cluster samples/listings.csv --column part_no --method letters
-  descry cluster samples/listings.csv --column engine --method osa --threshold 1
-  descry cluster samples/listings.csv --column transmission --method jaro-winkler \\
-      --write-map rulesets/kind.toml --label kind";
+  descry cluster samples/listings.csv --column part_no --method letters \\
+      --write-map rulesets/part.toml --label part
+  descry cluster samples/listings.csv --column engine --method osa -o groups.toml
+  descry cluster --from groups.toml --write-map rulesets/engine.toml --label engine";
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
 pub enum MethodName {
@@ -93,12 +109,24 @@ pub enum DigitsArg {
 }
 
 #[derive(Debug, clap::Args)]
+#[command(mut_arg("input", |a| a.required(false).required_unless_present("from")))]
 pub struct Args {
+    /// The table (not with --from).
     #[command(flatten)]
-    pub input: InputArgs,
+    pub input: Option<InputArgs>,
     /// The column to cluster.
-    #[arg(long, short = 'c')]
-    pub column: String,
+    #[arg(long, short = 'c', required_unless_present = "from")]
+    pub column: Option<String>,
+    /// Write the groups to FILE for review (TOML; see above).
+    #[arg(long, short = 'o', value_name = "FILE", conflicts_with = "from")]
+    pub output: Option<PathBuf>,
+    /// Read reviewed groups from FILE (written by -o) instead of a table,
+    /// and write the kept ones with --write-map.
+    #[arg(long, value_name = "FILE", requires = "write_map", conflicts_with_all = ["column", "rules"])]
+    pub from: Option<PathBuf>,
+    /// Cluster only the values no rule of this ruleset fires on.
+    #[arg(long, value_name = "FILE")]
+    pub rules: Option<PathBuf>,
     /// How values are grouped.
     #[arg(long, short = 'm', value_enum, default_value_t = MethodName::Letters)]
     pub method: MethodName,
@@ -142,6 +170,12 @@ pub struct Args {
 }
 
 pub fn run(args: Args) -> anyhow::Result<ExitCode> {
+    if let Some(from) = &args.from {
+        return write_reviewed(from, &args);
+    }
+    let (Some(input), Some(column)) = (&args.input, &args.column) else {
+        bail!("give a table and --column to cluster, or --from a review file");
+    };
     let method = method_of(args.method, args.threshold.as_deref(), args.q)?;
     let max_diameter = match (&args.max_diameter, method) {
         (None, _) => None,
@@ -152,9 +186,37 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
         (Some(_), _) => bail!("--max-diameter applies to the fuzzy methods (qgram, levenshtein, osa, jaro-winkler); letters and words groups are exact"),
     };
     if let Some(map) = &args.write_map {
-        check_ruleset_target(map, &[&args.input.input])?;
+        if let Method::Fuzzy(f) = method {
+            bail!(
+                "--write-map with --method {} would write groups nobody has checked: write them for review \
+                 with -o groups.toml, edit, then `descry cluster --from groups.toml --write-map {} --label NAME` \
+                 (the one-step --write-map is for the exact methods, letters and words)",
+                f.name(),
+                map.display()
+            );
+        }
+        check_ruleset_target(map, &[&input.input])?;
     }
-    let vocab = read_vocabulary(&args.input, &args.column, args.quiet)?;
+    if let Some(out) = &args.output {
+        check_output_file(out)?;
+        check_not_an_input(out, &[&input.input])?;
+    }
+    let mut vocab = read_vocabulary(input, column, args.quiet)?;
+    if let Some(path) = &args.rules {
+        let rules = Ruleset::from_path(path)?;
+        let all = (vocab.values.len(), vocab.rows());
+        vocab = unmatched(&vocab, &rules);
+        if !args.quiet {
+            eprintln!(
+                "descry: {}: {} of {} distinct values ({} of {} rows) left unmatched, clustered",
+                path.display(),
+                vocab.values.len(),
+                all.0,
+                vocab.counts.iter().sum::<u64>(),
+                all.1 - vocab.null_rows
+            );
+        }
+    }
     let digits = match args.digits {
         DigitsArg::Strict => Digits::Strict,
         DigitsArg::Loose => Digits::Loose,
@@ -166,25 +228,70 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
         keep_pairs: args.pairs,
         ..ClusterOptions::new(method)
     };
-    let report = cluster(&vocab, &args.column, &opts);
+    let report = cluster(&vocab, column, &opts);
     match args.format {
         Format::Text => emit(&cluster_text(&report, args.top))?,
         Format::Json => emit(&(json_out(&report)? + "\n"))?,
     }
-    if let (Some(path), Some(label)) = (&args.write_map, &args.label) {
-        let u = write_label_map(path, label, &args.column, &report.clusters)?;
+    if let Some(out) = &args.output {
+        write_text_atomically(out, &review_toml(&report))?;
         if !args.quiet {
-            let what = if u.created_file { "created" } else { "updated" };
             eprintln!(
-                "descry: {what} {}: label \"{label}\": {} map entries added, {} already there with another value kept{}",
-                path.display(),
-                u.added,
-                u.kept,
-                if u.categories_added > 0 { format!(", {} categories added", u.categories_added) } else { String::new() }
+                "descry: wrote {} groups to {} for review",
+                report.clusters.len(),
+                out.display()
             );
         }
     }
+    if let (Some(path), Some(label)) = (&args.write_map, &args.label) {
+        write_map(path, label, column, &report.clusters, args.quiet)?;
+    }
     Ok(ExitCode::SUCCESS)
+}
+
+/// `--from`: the kept groups of a review file, written as a label map.
+fn write_reviewed(from: &Path, args: &Args) -> anyhow::Result<ExitCode> {
+    if args.input.is_some() {
+        bail!("--from reads its groups from the review file: give no table");
+    }
+    let (Some(path), Some(label)) = (&args.write_map, &args.label) else {
+        bail!("--from needs --write-map FILE --label NAME");
+    };
+    check_ruleset_target(path, &[from])?;
+    let text = std::fs::read_to_string(from)
+        .map_err(|e| anyhow::anyhow!("{}: cannot read the review file: {e}", from.display()))?;
+    let reviewed = read_review(&text).map_err(|m| anyhow::anyhow!("{}: {m}", from.display()))?;
+    if !args.quiet {
+        eprintln!(
+            "descry: {}: {} groups kept, {} left out",
+            from.display(),
+            reviewed.kept.len(),
+            reviewed.left_out
+        );
+    }
+    write_map(path, label, &reviewed.column, &reviewed.kept, args.quiet)?;
+    Ok(ExitCode::SUCCESS)
+}
+
+fn write_map(
+    path: &Path,
+    label: &str,
+    column: &str,
+    clusters: &[Cluster],
+    quiet: bool,
+) -> anyhow::Result<()> {
+    let u = write_label_map(path, label, column, clusters)?;
+    if !quiet {
+        let what = if u.created_file { "created" } else { "updated" };
+        eprintln!(
+            "descry: {what} {}: label \"{label}\": {} map entries added, {} already there with another value kept{}",
+            path.display(),
+            u.added,
+            u.kept,
+            if u.categories_added > 0 { format!(", {} categories added", u.categories_added) } else { String::new() }
+        );
+    }
+    Ok(())
 }
 
 /// The method with its threshold (the method's default when none is given).

@@ -59,6 +59,7 @@ pub mod distance;
 pub mod guard;
 pub mod index;
 pub mod map;
+pub mod review;
 pub mod text;
 
 use std::cmp::Reverse;
@@ -482,6 +483,32 @@ pub fn cluster(vocab: &Vocabulary, column: &str, opts: &ClusterOptions) -> Clust
         clusters,
         pairs,
     }
+}
+
+/// The values of a vocabulary that no rule of `rules` fires on (blanks
+/// and the ruleset's placeholders left out), with their rows: what is left
+/// to group once the ruleset is applied.
+pub fn unmatched(vocab: &Vocabulary, rules: &crate::Ruleset) -> Vocabulary {
+    let left: Vec<bool> = vocab
+        .values
+        .par_iter()
+        .map(|v| {
+            let n = rules.normalizer.apply(v);
+            rules.kind_of(&n) == crate::ruleset::ValueKind::Considered
+                && rules.evaluate(&n).iter().all(|o| !o.fired)
+        })
+        .collect();
+    let mut out = Vocabulary {
+        null_rows: vocab.null_rows,
+        ..Vocabulary::default()
+    };
+    for (i, keep) in left.into_iter().enumerate() {
+        if keep {
+            out.values.push(vocab.values[i].clone());
+            out.counts.push(vocab.counts[i]);
+        }
+    }
+    out
 }
 
 /// The [`Method::Letters`] key: the digit runs (unless loose), then the
