@@ -389,3 +389,53 @@ fn duckdb_recipe_gives_what_apply_writes() {
     );
     assert!(out.contains("rows agree"), "{out}");
 }
+
+#[test]
+fn a_lookup_file_records_its_rulesets_path_and_hash() {
+    let dir = TempDir::new().unwrap();
+    let out_file = dir.path().join("engine_lookup.parquet");
+    let engine = ruleset("engine.toml");
+    let out = run(
+        &[
+            "lookup",
+            s(&sample_csv()),
+            "-r",
+            s(&engine),
+            "-o",
+            s(&out_file),
+        ],
+        None,
+    );
+    assert!(out.status.success(), "{}", stderr(&out));
+    let mut reader = ParquetReader::new(std::fs::File::open(&out_file).unwrap());
+    let facts = reader
+        .get_metadata()
+        .unwrap()
+        .key_value_metadata()
+        .clone()
+        .unwrap()
+        .into_iter()
+        .find(|k| k.key == "descry.lookup")
+        .and_then(|k| k.value)
+        .expect("the descry.lookup metadata");
+    let facts: serde_json::Value = serde_json::from_str(&facts).unwrap();
+    assert_eq!(facts["schema"], "descry.lookup/1");
+    assert_eq!(facts["column"], "engine");
+    assert_eq!(facts["rulesets"][0]["path"], s(&engine));
+    // Reference: the SHA-256 of the file's bytes, by the sha2 crate's
+    // FIPS 180-4 implementation, checked here against a known digest first.
+    assert_eq!(
+        descry::write::sha256_hex(b"abc"),
+        "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad" // FIPS 180-4, example B.1
+    );
+    let bytes = std::fs::read(&engine).unwrap();
+    assert_eq!(
+        facts["rulesets"][0]["sha256"],
+        descry::write::sha256_hex(&bytes)
+    );
+    // The table itself is still one row per value, read by any reader.
+    assert_eq!(
+        reader.finish().unwrap().get_column_names()[0].as_str(),
+        "value"
+    );
+}

@@ -4,13 +4,13 @@
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 
-use anyhow::bail;
+use anyhow::{bail, Context};
 
 use descry::pipeline::{lookup_table, Description, LOOKUP_ROWS as ROWS, LOOKUP_VALUE as VALUE};
 use descry::render::{shown, thousands};
-use descry::write::{check_output_path, write_table};
+use descry::write::{check_output_path, sha256_hex, write_parquet_with_metadata, write_table};
 
-use super::common::{load_descriptions, read_vocabularies, InputArgs};
+use super::common::{load_descriptions, read_vocabularies, ruleset_text, InputArgs};
 
 pub const ABOUT: &str = "\
 Write the lookup table of a column: one row per distinct non-null value,
@@ -76,7 +76,12 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
         let frame = lookup_table(vocab, &rulesets)?;
         let format = descry::write::OutputFormat::of(output)?;
         let features = frame.width() - 2;
-        write_table(frame, output, format)?;
+        if format == descry::write::OutputFormat::Parquet {
+            let facts = lookup_facts(&column, &descriptions, &args.rules)?;
+            write_parquet_with_metadata(output, frame, LOOKUP_KEY, facts)?;
+        } else {
+            write_table(frame, output, format)?;
+        }
         if !args.quiet {
             eprintln!(
                 "wrote {} values ({} rows) of column {} with {features} features to {}",
@@ -88,6 +93,37 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
         }
     }
     Ok(ExitCode::SUCCESS)
+}
+
+/// The Parquet metadata key of a lookup table's facts.
+pub const LOOKUP_KEY: &str = "descry.lookup";
+
+/// What a lookup table records about how it was made, as JSON: the column,
+/// each ruleset's path and the SHA-256 of its bytes, and descry's version,
+/// so that a join with another ruleset's features can be noticed.
+fn lookup_facts(
+    column: &str,
+    descriptions: &[Description],
+    paths: &[std::path::PathBuf],
+) -> anyhow::Result<String> {
+    let mut rulesets = Vec::new();
+    for d in descriptions {
+        let path = paths
+            .iter()
+            .find(|p| p.display().to_string() == d.rules.file)
+            .context("a ruleset's path was lost")?;
+        rulesets.push(serde_json::json!({
+            "path": d.rules.file,
+            "sha256": sha256_hex(ruleset_text(path)?.as_bytes()),
+        }));
+    }
+    Ok(serde_json::json!({
+        "schema": "descry.lookup/1",
+        "column": column,
+        "rulesets": rulesets,
+        "descry_version": env!("CARGO_PKG_VERSION"),
+    })
+    .to_string())
 }
 
 /// A feature may not be named like the lookup table's own columns.

@@ -57,12 +57,10 @@ pub struct RuleRows {
 
 impl BaselineFigures {
     pub fn of(report: &CoverageReport, ruleset_bytes: &[u8]) -> BaselineFigures {
-        use sha2::Digest;
-        let digest = sha2::Sha256::digest(ruleset_bytes);
         BaselineFigures {
             schema: BASELINE_SCHEMA.to_owned(),
             ruleset: report.ruleset.clone(),
-            ruleset_sha256: digest.iter().map(|b| format!("{b:02x}")).collect(),
+            ruleset_sha256: crate::write::sha256_hex(ruleset_bytes),
             descry_version: env!("CARGO_PKG_VERSION").to_owned(),
             column: report.column.clone(),
             rows: report.rows,
@@ -103,17 +101,7 @@ pub fn write_baseline(
         message,
     };
     let json = serde_json::to_string(figures).map_err(|e| output_error(e.to_string()))?;
-    let mut table = table;
-    crate::write::write_atomically(path, |file| {
-        ParquetWriter::new(file)
-            .with_key_value_metadata(Some(KeyValueMetadata::from_static(vec![(
-                BASELINE_KEY.to_owned(),
-                json,
-            )])))
-            .finish(&mut table)
-            .map(|_| ())
-            .map_err(|e| std::io::Error::other(e.to_string()))
-    })
+    crate::write::write_parquet_with_metadata(path, table, BASELINE_KEY, json)
 }
 
 /// Read a baseline written by [`write_baseline`].

@@ -149,6 +149,35 @@ fn parent_folder(path: &Path) -> PathBuf {
 /// Write a table in memory to `output` atomically, through the same
 /// writer as [`sink_table`], so that a table written whole and one
 /// streamed have the same schema (the same Arrow string type, for one).
+/// Write `table` as Parquet with one key-value pair in the file's metadata
+/// (descry's own facts about the table, as JSON), atomically.
+pub fn write_parquet_with_metadata(
+    path: &Path,
+    mut table: DataFrame,
+    key: &str,
+    value: String,
+) -> Result<(), Error> {
+    write_atomically(path, |file| {
+        ParquetWriter::new(file)
+            .with_key_value_metadata(Some(KeyValueMetadata::from_static(vec![(
+                key.to_owned(),
+                value,
+            )])))
+            .finish(&mut table)
+            .map(|_| ())
+            .map_err(|e| std::io::Error::other(e.to_string()))
+    })
+}
+
+/// The SHA-256 of some bytes, in lower-case hex.
+pub fn sha256_hex(bytes: &[u8]) -> String {
+    use sha2::Digest;
+    sha2::Sha256::digest(bytes)
+        .iter()
+        .map(|b| format!("{b:02x}"))
+        .collect()
+}
+
 pub fn write_table(frame: DataFrame, output: &Path, format: OutputFormat) -> Result<(), Error> {
     sink_table(frame.lazy(), output, format, ROW_GROUP_ROWS, |e| {
         Error::Output {
