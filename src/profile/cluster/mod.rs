@@ -344,6 +344,9 @@ pub struct Pair {
     pub a: String,
     pub b: String,
     pub score: f64,
+    /// Whether the words of the pair agree (see [`guard`]): only kept pairs
+    /// may join groups.
+    pub kept: bool,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -360,8 +363,10 @@ pub struct ClusterReport {
     pub normalized_forms: u64,
     /// Pairs of normalized forms compared by the fuzzy method.
     pub pairs_compared: u64,
-    /// Pairs within the threshold.
+    /// Pairs within the threshold (with equal identity runs).
     pub pairs_found: u64,
+    /// Of those, the pairs whose words agree (see [`guard`]).
+    pub pairs_kept: u64,
     pub values_clustered: u64,
     pub rows_clustered: u64,
     pub clusters: Vec<Cluster>,
@@ -426,6 +431,7 @@ pub fn cluster(vocab: &Vocabulary, column: &str, opts: &ClusterOptions) -> Clust
     let n = forms.text.len();
     let mut groups = UnionFind::new(n);
     let mut found = Found::default();
+    let mut kept: Vec<bool> = Vec::new();
     let digits = opts.digits;
     match &opts.method {
         Method::Letters => union_by_key(&mut groups, &forms.text, letters_key, digits),
@@ -437,10 +443,10 @@ pub fn cluster(vocab: &Vocabulary, column: &str, opts: &ClusterOptions) -> Clust
             let chars: Vec<Vec<char>> =
                 forms.text.par_iter().map(|t| t.chars().collect()).collect();
             found = fuzzy_pairs(&chars, &forms.text, method, opts);
-            found.edges = found
+            kept = found
                 .edges
-                .into_par_iter()
-                .filter(|e| {
+                .par_iter()
+                .map(|e| {
                     let (a, b) = (&forms.text[e.a as usize], &forms.text[e.b as usize]);
                     guard::may_group(a, b, digits)
                 })
@@ -452,7 +458,11 @@ pub fn cluster(vocab: &Vocabulary, column: &str, opts: &ClusterOptions) -> Clust
                 cap: &opts.max_diameter.unwrap_or(*method),
                 digits,
             };
-            union_capped(&mut groups, &found.edges, &near);
+            let edges: Vec<Edge> = (found.edges.iter().zip(&kept))
+                .filter(|(_, &k)| k)
+                .map(|(e, _)| *e)
+                .collect();
+            union_capped(&mut groups, &edges, &near);
         }
     }
     let clusters = gather(vocab, &forms, &mut groups);
@@ -460,10 +470,12 @@ pub fn cluster(vocab: &Vocabulary, column: &str, opts: &ClusterOptions) -> Clust
         found
             .edges
             .iter()
-            .map(|e| Pair {
+            .zip(&kept)
+            .map(|(e, &kept)| Pair {
                 a: forms.text[e.a as usize].clone(),
                 b: forms.text[e.b as usize].clone(),
                 score: e.score,
+                kept,
             })
             .collect()
     });
@@ -478,6 +490,7 @@ pub fn cluster(vocab: &Vocabulary, column: &str, opts: &ClusterOptions) -> Clust
         normalized_forms: n as u64,
         pairs_compared: found.compared,
         pairs_found: found.edges.len() as u64,
+        pairs_kept: kept.iter().filter(|&&k| k).count() as u64,
         values_clustered: clusters.iter().map(|c| c.members.len() as u64).sum(),
         rows_clustered: clusters.iter().map(|c| c.rows).sum(),
         clusters,

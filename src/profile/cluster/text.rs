@@ -44,10 +44,11 @@ pub fn cluster_text(r: &ClusterReport, top: usize) -> String {
     if m.search != "exact" {
         let _ = writeln!(
             out,
-            "pairs compared {} ({}), similar pairs {}",
+            "pairs compared {} ({}), similar pairs {}, {} of them with words that agree",
             thousands(r.pairs_compared),
             m.search,
-            thousands(r.pairs_found)
+            thousands(r.pairs_found),
+            thousands(r.pairs_kept)
         );
     }
     let _ = writeln!(
