@@ -384,18 +384,8 @@ impl Page {
                 "; values the baseline never saw are marked new"
             }
         );
-        let mut table = self.table(
-            "unmatched values",
-            &[
-                ("rows", Sort::Number),
-                ("share", Sort::Number),
-                ("value", Sort::Text),
-                ("normalized", Sort::Text),
-            ],
-        );
-        for v in r.unmatched.iter().take(shown) {
-            let _ = write!(
-                table,
+        let rows = r.unmatched.iter().take(shown).map(|v| {
+            format!(
                 "<tr{}>{}<td class=\"value raw\">{}</td><td class=\"value\">{}</td></tr>\n",
                 if new.contains(v.value.as_str()) {
                     " class=\"new\""
@@ -405,10 +395,14 @@ impl Page {
                 rows_and_share(v.rows, considered),
                 text(&v.value),
                 text(&v.normalized)
-            );
-        }
-        self.out.push_str(&table);
-        self.out.push_str("</tbody></table></div>\n");
+            )
+        });
+        self.table(
+            "unmatched values",
+            &["rows", "share", "value", "normalized"],
+            rows,
+        );
+        self.out.push_str("</div>\n");
     }
 
     fn issues_and_conflicts(&mut self, r: &CoverageReport) {
@@ -420,27 +414,21 @@ impl Page {
                  (written as null)</span></h3>\n",
                 thousands(r.issues.len() as u64)
             );
-            let mut table = self.table(
-                "values a rule could not read",
-                &[
-                    ("rows", Sort::Number),
-                    ("rule", Sort::Text),
-                    ("value", Sort::Text),
-                    ("why", Sort::Text),
-                ],
-            );
-            for i in r.issues.iter().take(max) {
-                let _ = write!(
-                    table,
+            let rows = r.issues.iter().take(max).map(|i| {
+                format!(
                     "<tr>{}<td>{}</td><td class=\"value\">{}</td><td>{}</td></tr>\n",
                     rows_cell(i.rows),
                     text(&i.rule),
                     text(&i.value),
                     text(&i.issue.to_string())
-                );
-            }
-            self.out.push_str(&table);
-            self.out.push_str("</tbody></table></div>\n");
+                )
+            });
+            self.table(
+                "values a rule could not read",
+                &["rows", "rule", "value", "why"],
+                rows,
+            );
+            self.out.push_str("</div>\n");
         }
         if !r.conflicts.is_empty() {
             let _ = write!(
@@ -449,30 +437,23 @@ impl Page {
                  label cases match; the first wins</span></h3>\n",
                 thousands(r.conflicts.len() as u64)
             );
-            let mut table = self.table(
-                "conflicts",
-                &[
-                    ("rows", Sort::Number),
-                    ("rule", Sort::Text),
-                    ("value", Sort::Text),
-                    ("chosen", Sort::Text),
-                    ("also matched", Sort::Text),
-                ],
-            );
-            for c in r.conflicts.iter().take(max) {
+            let rows = r.conflicts.iter().take(max).map(|c| {
                 let also: Vec<String> = c.also.iter().map(|a| text(a)).collect();
-                let _ = write!(
-                    table,
+                format!(
                     "<tr>{}<td>{}</td><td class=\"value\">{}</td><td>{}</td><td>{}</td></tr>\n",
                     rows_cell(c.rows),
                     text(&c.rule),
                     text(&c.value),
                     text(&c.chosen),
                     also.join(", ")
-                );
-            }
-            self.out.push_str(&table);
-            self.out.push_str("</tbody></table></div>\n");
+                )
+            });
+            self.table(
+                "conflicts",
+                &["rows", "rule", "value", "chosen", "also matched"],
+                rows,
+            );
+            self.out.push_str("</div>\n");
         }
     }
 
@@ -685,26 +666,15 @@ impl Page {
                 thousands(shown as u64)
             );
         }
-        let mut table = self.table(
-            "new values",
-            &[
-                ("rows", Sort::Number),
-                ("share", Sort::Number),
-                ("covered", Sort::Text),
-                ("value", Sort::Text),
-            ],
-        );
-        for v in d.new_values.iter().take(shown) {
-            let _ = write!(
-                table,
+        let rows = d.new_values.iter().take(shown).map(|v| {
+            format!(
                 "<tr class=\"new\">{}<td>{}</td><td class=\"value\">{}</td></tr>\n",
                 rows_and_share(v.rows, considered),
                 if v.covered { "covered" } else { "unmatched" },
                 text(&v.value)
-            );
-        }
-        self.out.push_str(&table);
-        self.out.push_str("</tbody></table>\n");
+            )
+        });
+        self.table("new values", &["rows", "share", "covered", "value"], rows);
     }
 
     fn gone_values(&mut self, d: &Drift) {
@@ -734,35 +704,31 @@ impl Page {
         );
     }
 
-    /// The opening of a sortable, filterable table, up to its `<tbody>`:
-    /// the filter box stays hidden until the script shows it.
-    fn table(&mut self, what: &str, columns: &[(&str, Sort)]) -> String {
+    /// A table of values that the script makes sortable and filterable
+    /// (its filter box stays hidden until the script shows it); the `rows`
+    /// and `share` columns sort as numbers, by their `data-v`.
+    fn table(&mut self, what: &str, columns: &[&str], rows: impl Iterator<Item = String>) {
         self.tables += 1;
         let id = format!("values-{}", self.tables);
-        let mut out = format!(
+        let _ = write!(
+            self.out,
             "<div class=\"tools\" data-for=\"{id}\" hidden><input type=\"search\" placeholder=\"filter {what}\" \
              aria-label=\"filter {what}\"> <span class=\"count\"></span></div>\n\
              <table class=\"values\" id=\"{id}\"><thead><tr>"
         );
-        for (name, sort) in columns {
-            let _ = write!(
-                out,
-                "<th data-sort=\"{}\">{name}</th>",
-                match sort {
-                    Sort::Number => "number",
-                    Sort::Text => "text",
-                }
-            );
+        for name in columns {
+            let sort = match *name {
+                "rows" | "share" => "number",
+                _ => "text",
+            };
+            let _ = write!(self.out, "<th data-sort=\"{sort}\">{name}</th>");
         }
-        out.push_str("</tr></thead><tbody>\n");
-        out
+        self.out.push_str("</tr></thead><tbody>\n");
+        for row in rows {
+            self.out.push_str(&row);
+        }
+        self.out.push_str("</tbody></table>\n");
     }
-}
-
-#[derive(Clone, Copy)]
-enum Sort {
-    Number,
-    Text,
 }
 
 fn verdict(passed: bool) -> &'static str {
