@@ -120,7 +120,8 @@ pub struct Args {
     #[arg(long, value_parser = parse_share, requires = "baseline")]
     pub max_shift: Option<f64>,
     /// How many unmatched values, placeholders, issues and conflicts the
-    /// text report lists (JSON lists all); 0 leaves those sections out.
+    /// text report lists (JSON lists all, the HTML page up to 1,000); 0
+    /// leaves those sections out of the text.
     #[arg(long, default_value_t = 20)]
     pub top: usize,
     /// Print no notes on standard error.
