@@ -236,6 +236,17 @@ fn scan(entry: u32, value: &str, decimal: DecimalMark) -> (Vec<Seen>, Vec<UnitSe
             });
             continue;
         }
+        // Three digits or more glued to letters are part of a code
+        // (`qz-418`, `612x`), never a count.
+        let glued_after = rest.starts_with(|c: char| c.is_alphabetic());
+        let glued_before = before
+            .strip_suffix('-')
+            .unwrap_or(before)
+            .ends_with(|c: char| c.is_alphabetic());
+        let digits = text.chars().take_while(char::is_ascii_digit).count();
+        if digits >= 3 && (glued_after || glued_before) {
+            continue;
+        }
         // Without a unit, `12/12` is two counts, not a fraction: read the
         // whole number in front of a `/`, `-` or space.
         let (text, rest) = match text.find(['/', ' ', '-']) {
@@ -273,6 +284,8 @@ fn scan(entry: u32, value: &str, decimal: DecimalMark) -> (Vec<Seen>, Vec<UnitSe
 /// A set of markers read as one thing, with the numbers it read.
 struct Node {
     marks: Vec<Mark>,
+    /// Rows of each marker, in the order of `marks`.
+    mark_rows: Vec<u64>,
     entries: Vec<u32>,
     rows: u64,
     /// Whole number -> rows (ordered, so that sums do not depend on a hash).
@@ -336,6 +349,7 @@ impl Node {
         self.readings.sort_unstable();
         self.readings.dedup();
         self.marks.extend(other.marks);
+        self.mark_rows.extend(other.mark_rows);
         self.entries = union(&self.entries, &other.entries);
         self.rows += other.rows;
         for (v, r) in other.values {
@@ -485,10 +499,22 @@ fn counts(
         if (whole_rows as f64) < 0.95 * rows as f64 {
             continue;
         }
+        // A number glued to letters in a value that is nothing else
+        // (`aslt4`, `dwi2`) is part of a code, not a count of anything.
+        let glued = matches!(mark, Mark::After(_) | Mark::Before(_));
+        let code_rows: u64 = entries
+            .iter()
+            .filter(|&&e| is_code_token(&corpus.normalized[e as usize]))
+            .map(|&e| corpus.rows[e as usize])
+            .sum();
+        if glued && code_rows as f64 >= 0.8 * rows as f64 {
+            continue;
+        }
         readings.sort_unstable();
         readings.dedup();
         nodes.push(Node {
             marks: vec![(*mark).clone()],
+            mark_rows: vec![rows],
             entries,
             rows,
             values,
@@ -503,10 +529,15 @@ fn counts(
             eprintln!("node {:?} rows {} values {:?}", n.marks, n.rows, n.values);
         }
     }
-    merge_concepts(corpus, &mut nodes);
+    merge_concepts(corpus, &mut nodes, min_rows);
 
     let mut out = Vec::new();
-    for node in nodes.into_iter().filter(|n| n.rows >= min_rows) {
+    // A count needs numbers that vary while the marker stays: a marker read
+    // with one number only is part of a name (`412` in `model 412`).
+    for node in nodes
+        .into_iter()
+        .filter(|n| n.rows >= min_rows && n.values.len() >= 2)
+    {
         for m in &node.marks {
             if let Mark::After(w) | Mark::Before(w) | Mark::Ahead(w) = m {
                 marker_words.insert(w.clone());
@@ -515,6 +546,25 @@ fn counts(
         out.push(count_proposal(corpus, &node, opts));
     }
     out
+}
+
+/// A value that is one token of letters glued to digits (`aslt4`, `qz418`).
+fn is_code_token(value: &str) -> bool {
+    value.chars().all(|c| c.is_alphanumeric() || c == '-')
+        && value.chars().filter(|c| c.is_alphabetic()).count() >= 2
+        && value.chars().any(|c| c.is_ascii_digit())
+}
+
+/// A word marker of at least two letters on one side (`spd` after, `dct`
+/// before): two nodes with such words that are not spellings of each other
+/// are one count only if both are common enough to be proposed alone (`6
+/// spd` and `6 fwd`); a rare word reading the same small numbers is no
+/// evidence (`2 projections`, `2 canvases`).
+fn word_markers(node: &Node) -> impl Iterator<Item = &Mark> {
+    node.marks.iter().filter(|m| match m {
+        Mark::After(w) | Mark::Before(w) => w.chars().count() >= 2,
+        _ => false,
+    })
 }
 
 /// Spellings of one marker word on the same side become one node.
@@ -544,7 +594,7 @@ fn group_spellings(nodes: &mut Vec<Node>, words: &WordIndex) {
 }
 
 /// Merge nodes that read the same thing (see the module docs).
-fn merge_concepts(corpus: &Corpus, nodes: &mut Vec<Node>) {
+fn merge_concepts(corpus: &Corpus, nodes: &mut Vec<Node>, min_rows: u64) {
     loop {
         let mut best: Option<(f64, usize, usize)> = None;
         for i in 0..nodes.len() {
@@ -556,6 +606,17 @@ fn merge_concepts(corpus: &Corpus, nodes: &mut Vec<Node>) {
                     continue;
                 }
                 // j is the smaller one.
+                let both_words = word_markers(&nodes[i]).any(|a| {
+                    word_markers(&nodes[j]).any(|b| {
+                        matches!(
+                            (a, b),
+                            (Mark::After(_), Mark::After(_)) | (Mark::Before(_), Mark::Before(_))
+                        )
+                    })
+                });
+                if both_words && nodes[j].rows < min_rows {
+                    continue;
+                }
                 let apart = nodes[i].disagreeing_rows(&nodes[j], corpus);
                 if apart as f64 > APART * nodes[j].rows as f64 {
                     continue;
@@ -674,22 +735,36 @@ fn count_proposal(corpus: &Corpus, node: &Node, opts: &ProposeOptions) -> Propos
     }
 }
 
-/// The name of a concept: the longest spelling of its best-supported word.
+/// The name of a concept: its full spelling with the most rows (a full
+/// spelling abbreviates no other: `speed`, not `spd`; `automatic`, not the
+/// rarer `atuomatic`).
 fn best_spelling(node: &Node) -> Option<String> {
-    let words: Vec<&str> = node
-        .marks
-        .iter()
-        .filter_map(|m| match m {
-            Mark::After(w) | Mark::Before(w) | Mark::Ahead(w) if w.chars().count() >= 2 => {
-                Some(w.as_str())
+    let mut rows: Vec<(&str, u64)> = Vec::new();
+    for (m, &r) in node.marks.iter().zip(&node.mark_rows) {
+        if let Mark::After(w) | Mark::Before(w) | Mark::Ahead(w) = m {
+            if w.chars().count() < 2 {
+                continue;
             }
-            _ => None,
+            match rows.iter_mut().find(|(x, _)| x == w) {
+                Some(entry) => entry.1 += r,
+                None => rows.push((w.as_str(), r)),
+            }
+        }
+    }
+    let none = |_: &str| false;
+    let full: Vec<(&str, u64)> = rows
+        .iter()
+        .copied()
+        .filter(|(w, _)| {
+            !rows
+                .iter()
+                .any(|(o, _)| super::words::abbreviates(w, o, &none))
         })
         .collect();
-    words
-        .iter()
-        .max_by(|a, b| a.len().cmp(&b.len()).then_with(|| b.cmp(a)))
-        .map(|w| w.to_string())
+    let pool = if full.is_empty() { &rows } else { &full };
+    pool.iter()
+        .max_by(|a, b| a.1.cmp(&b.1).then_with(|| b.0.cmp(a.0)))
+        .map(|(w, _)| w.to_string())
 }
 
 /// A measure's reading of one value: the first number with a unit, or
@@ -1194,6 +1269,15 @@ mod tests {
         assert_eq!(marks("12/12 shuttle")[0], (Mark::Slash, Some(12)));
         assert_eq!(marks("automatic (8)"), [(Mark::Paren, Some(8))]);
         assert_eq!(marks("4.5 spd"), [(Mark::After("spd".into()), None)]);
+    }
+
+    #[test]
+    fn numbers_inside_codes_are_no_counts() {
+        // Three digits glued to letters name a model, they count nothing.
+        assert!(marks("qz-418 pump").is_empty(), "{:?}", marks("qz-418 pump"));
+        assert!(marks("612x").is_empty(), "{:?}", marks("612x"));
+        assert!(is_code_token("aslt4") && is_code_token("dwi2"));
+        assert!(!is_code_token("v8") && !is_code_token("6 spd"));
     }
 
     #[test]

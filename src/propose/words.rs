@@ -155,8 +155,8 @@ fn derived_pair(a: &str, b: &str) -> bool {
 /// `print` / `printed`, `account` / `accountant`): a word ending so is not
 /// abbreviated by its stem (common practice of English word formation).
 const DERIVED: &[&str] = &[
-    "ed", "er", "ers", "ing", "al", "ant", "ants", "ent", "ic", "ical", "en", "ance", "ation",
-    "ion", "ions", "ive", "or", "ors", "ist", "ity", "ly", "y", "ery", "ure",
+    "ed", "er", "ers", "ing", "al", "ant", "ants", "ent", "ical", "en", "ance", "ation", "ion",
+    "ions", "ive", "or", "ors", "ist", "ity", "ly", "y", "ery", "ure",
 ];
 
 fn is_vowel(c: char) -> bool {
@@ -213,6 +213,16 @@ struct Group {
     grouped: Vec<String>,
 }
 
+/// The name of a group: its spelling with the most rows that abbreviates
+/// no other spelling of it (`manager`, not `mgr`).
+fn group_name(g: &Group) -> &str {
+    let none = |_: &str| false;
+    g.spellings
+        .iter()
+        .find(|w| !g.spellings.iter().any(|o| abbreviates(w, o, &none)))
+        .unwrap_or(&g.spellings[0])
+}
+
 /// Flags and labels from the words that are not number markers.
 pub(crate) fn flags_and_labels(
     corpus: &Corpus,
@@ -248,7 +258,7 @@ pub(crate) fn flags_and_labels(
     if opts.kinds.flag {
         for g in &groups {
             out.push(Proposal {
-                name: rule_name(&g.spellings[0]),
+                name: rule_name(group_name(g)),
                 rule: ProposedRule::Flag {
                     any: g.spellings.clone(),
                     pattern: None,
@@ -566,7 +576,7 @@ fn label_proposal(corpus: &Corpus, members: &[Group], opts: &ProposeOptions) -> 
         rule: ProposedRule::Label {
             cases: members
                 .iter()
-                .map(|m| (m.spellings[0].clone(), m.spellings.clone()))
+                .map(|m| (group_name(m).to_owned(), m.spellings.clone()))
                 .collect(),
             default: Some("other".to_owned()),
         },
