@@ -120,15 +120,30 @@ impl Describer {
         for state in &self.columns {
             let rules = &state.description.rules;
             let text = text_of(batch.column(&state.description.column)?)?;
-            let text = text.rechunk();
-            let text = text.downcast_as_array();
-            let row = |i: usize| text.get(i);
-            let (mut codes, unknown) = state.read()?.vocab.known_codes_of(text.len(), row);
+            // Chunk by chunk, so that a table of many chunks is not copied.
+            let chunks: Vec<_> = text.downcast_iter().collect();
+            let mut codes = Vec::with_capacity(text.len());
+            let mut unknown = false;
+            {
+                let known = state.read()?;
+                for chunk in &chunks {
+                    let (c, u) = known.vocab.known_codes_of(chunk.len(), |i| chunk.get(i));
+                    codes.extend(c);
+                    unknown |= u;
+                }
+            }
             if unknown {
                 let mut known = state.write()?;
                 let known = &mut *known;
                 // Another batch may have added some of them meanwhile.
-                known.vocab.add_unknown_of(row, &mut codes);
+                let mut from = 0;
+                for chunk in &chunks {
+                    let to = from + chunk.len();
+                    known
+                        .vocab
+                        .add_unknown_of(|i| chunk.get(i), &mut codes[from..to]);
+                    from = to;
+                }
                 if known.vocab.distinct() > known.evaluated {
                     let fresh = rules.evaluate_all(&known.vocab.values[known.evaluated..]);
                     known.encoder.add_values(&fresh, 0);
