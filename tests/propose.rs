@@ -447,3 +447,36 @@ fn bound_words_are_flagged_not_merged() {
     );
     assert!(!up_to.contains(&"mass_lbs_lower".to_owned()), "{up_to:?}");
 }
+
+#[test]
+fn numbers_glued_after_a_word_are_read_unless_the_column_is_codes() {
+    // Gears written `7 spd` and `dct7` in one column (invented values).
+    let mut values = Vec::new();
+    for g in ["6", "7", "8", "9"] {
+        values.push((format!("{g} spd dct"), 10));
+        values.push((format!("dct{g}"), 35));
+        values.push((format!("{g} spd manual"), 30));
+    }
+    let values: Vec<(&str, usize)> = values.iter().map(|(v, n)| (v.as_str(), *n)).collect();
+    let (toml, rules) = draft_of(&values);
+    let counts: Vec<descry::Cell> = read(&rules, "dct7")
+        .into_iter()
+        .map(|(_, cell)| cell)
+        .filter(|cell| matches!(cell, descry::Cell::Int(_)))
+        .collect();
+    assert_eq!(counts, [descry::Cell::Int(7)], "{toml}");
+    // A column of codes (`ASLT1` ... `ASLT5`, `DASLT1` ...): no count.
+    let codes = [
+        ("aslt1", 40),
+        ("aslt2", 30),
+        ("aslt3", 20),
+        ("aslt4", 25),
+        ("daslt1", 10),
+        ("daslt2", 15),
+        ("daslt4", 12),
+        ("dwi", 30),
+        ("flee", 20),
+    ];
+    let (toml, _) = draft_of(&codes);
+    assert!(!toml.contains("[[count]]"), "{toml}");
+}

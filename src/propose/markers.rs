@@ -454,6 +454,13 @@ fn counts(
             adjacent.entry(w).or_default().push(u.entry);
         }
     }
+    // A column most of whose rows are one token (`ASLT4`, `DWI`) is a code
+    // column: there a number glued to letters is part of the code.
+    let one_token: u64 = (0..corpus.len())
+        .filter(|&e| !corpus.normalized[e].contains(char::is_whitespace))
+        .map(|e| corpus.rows[e])
+        .sum();
+    let code_column = one_token * 2 >= corpus.total_rows;
     let bound_rows = |w: &str| {
         let mut es = adjacent.get(w).cloned().unwrap_or_default();
         es.sort_unstable();
@@ -499,15 +506,16 @@ fn counts(
         if (whole_rows as f64) < 0.95 * rows as f64 {
             continue;
         }
-        // A number glued to letters in a value that is nothing else
-        // (`aslt4`, `dwi2`) is part of a code, not a count of anything.
+        // In a code column, a number glued to letters in a value that is
+        // nothing else (`aslt4`, `dwi2`) is part of a code, not a count of
+        // anything; elsewhere `dct7` is seven gears.
         let glued = matches!(mark, Mark::After(_) | Mark::Before(_));
         let code_rows: u64 = entries
             .iter()
             .filter(|&&e| is_code_token(&corpus.normalized[e as usize]))
             .map(|&e| corpus.rows[e as usize])
             .sum();
-        if glued && code_rows as f64 >= 0.8 * rows as f64 {
+        if glued && code_column && code_rows as f64 >= 0.8 * rows as f64 {
             continue;
         }
         readings.sort_unstable();
@@ -752,19 +760,28 @@ fn best_spelling(node: &Node) -> Option<String> {
         }
     }
     let none = |_: &str| false;
-    let full: Vec<(&str, u64)> = rows
+    fn most<'a>(pool: &[(&'a str, u64)]) -> Option<(&'a str, u64)> {
+        pool.iter()
+            .copied()
+            .max_by(|a, b| a.1.cmp(&b.1).then_with(|| b.0.cmp(a.0)))
+    }
+    // The marker written most often, then the full spelling of its group.
+    let (top, _) = most(&rows)?;
+    let spellings: Vec<(&str, u64)> = rows
+        .iter()
+        .copied()
+        .filter(|(w, _)| same_word(w, top, &none))
+        .collect();
+    let full: Vec<(&str, u64)> = spellings
         .iter()
         .copied()
         .filter(|(w, _)| {
-            !rows
+            !spellings
                 .iter()
                 .any(|(o, _)| super::words::abbreviates(w, o, &none))
         })
         .collect();
-    let pool = if full.is_empty() { &rows } else { &full };
-    pool.iter()
-        .max_by(|a, b| a.1.cmp(&b.1).then_with(|| b.0.cmp(a.0)))
-        .map(|(w, _)| w.to_string())
+    most(if full.is_empty() { &spellings } else { &full }).map(|(w, _)| w.to_string())
 }
 
 /// A measure's reading of one value: the first number with a unit, or
@@ -1274,7 +1291,11 @@ mod tests {
     #[test]
     fn numbers_inside_codes_are_no_counts() {
         // Three digits glued to letters name a model, they count nothing.
-        assert!(marks("qz-418 pump").is_empty(), "{:?}", marks("qz-418 pump"));
+        assert!(
+            marks("qz-418 pump").is_empty(),
+            "{:?}",
+            marks("qz-418 pump")
+        );
         assert!(marks("612x").is_empty(), "{:?}", marks("612x"));
         assert!(is_code_token("aslt4") && is_code_token("dwi2"));
         assert!(!is_code_token("v8") && !is_code_token("6 spd"));
