@@ -672,14 +672,20 @@ fn union_capped(groups: &mut UnionFind, edges: &[Edge], near: &Near) {
             .iter()
             .any(|&p| forms_of[y as usize].iter().any(|&q| near.close(p, q)))
     };
+    // Groups once refused stay refused while their roots last: a group only
+    // grows, and complete linkage never admits a superset of a refusal.
+    let mut refused: hashbrown::HashSet<(u32, u32)> = hashbrown::HashSet::new();
     for e in order {
         let (ra, rb) = (groups.find(e.a), groups.find(e.b));
-        if ra == rb {
+        if ra == rb || refused.contains(&(ra.min(rb), ra.max(rb))) {
             continue;
         }
         let fits = classes[ra as usize]
             .iter()
             .all(|&x| classes[rb as usize].iter().all(|&y| classes_close(x, y)));
+        if !fits {
+            refused.insert((ra.min(rb), ra.max(rb)));
+        }
         if fits {
             groups.union(ra, rb);
             let root = groups.find(ra);
