@@ -211,16 +211,120 @@ struct Group {
     rows: u64,
     /// How each spelling joined: "typo or abbreviation of ..." notes.
     grouped: Vec<String>,
+    /// Words always written with it, left out of `spellings`.
+    with: Vec<String>,
 }
 
 /// The name of a group: its spelling with the most rows that abbreviates
-/// no other spelling of it (`manager`, not `mgr`).
+/// no other spelling of it (`manager`, not `mgr`; the phrase, not its
+/// acronym).
 fn group_name(g: &Group) -> &str {
     let none = |_: &str| false;
     g.spellings
         .iter()
-        .find(|w| !g.spellings.iter().any(|o| abbreviates(w, o, &none)))
+        .find(|w| {
+            !g.spellings
+                .iter()
+                .any(|o| abbreviates(w, o, &none) || initials(o) == **w)
+        })
         .unwrap_or(&g.spellings[0])
+}
+
+/// The initials of a phrase of two words or more (`totally enclosed fan
+/// cooled` gives `tefc`); empty for one word.
+fn initials(phrase: &str) -> String {
+    let words: Vec<&str> = phrase
+        .split(|c: char| !c.is_alphabetic())
+        .filter(|w| !w.is_empty())
+        .collect();
+    if words.len() < 2 {
+        return String::new();
+    }
+    words.iter().filter_map(|w| w.chars().next()).collect()
+}
+
+/// Acronyms and the phrases they stand for: a group whose main spelling is
+/// three to five letters, and a phrase of as many consecutive words of the
+/// column with those initials (`tefc`, `totally enclosed fan cooled`), the
+/// one with the most rows, found in at least two rows. The phrase joins the
+/// acronym's group; when every word of the phrase belongs to one other group
+/// (words always written together), the acronym's group joins that group,
+/// which is then named after the phrase.
+fn acronym_phrases(corpus: &Corpus, groups: &mut Vec<Group>, min_rows: u64) {
+    let acronyms: HashSet<String> = groups
+        .iter()
+        .map(|g| g.spellings[0].clone())
+        .filter(|w| (3..=5).contains(&w.len()) && w.bytes().all(|b| b.is_ascii_lowercase()))
+        .collect();
+    if acronyms.is_empty() {
+        return;
+    }
+    // Initials -> phrase -> entries.
+    let mut found: HashMap<String, HashMap<String, Vec<u32>>> = HashMap::new();
+    for (e, value) in corpus.normalized.iter().enumerate() {
+        let words: Vec<&str> = runs(value)
+            .filter(|r| r.class == CharClass::Letter)
+            .map(|r| r.text)
+            .collect();
+        for k in 3..=5 {
+            for window in words.windows(k) {
+                let key: String = window.iter().filter_map(|w| w.chars().next()).collect();
+                if acronyms.contains(&key) {
+                    let phrase = window.join(" ");
+                    let list = found.entry(key).or_default().entry(phrase).or_default();
+                    if list.last() != Some(&(e as u32)) {
+                        list.push(e as u32);
+                    }
+                }
+            }
+        }
+    }
+    let mut a = 0;
+    while a < groups.len() {
+        let acronym = groups[a].spellings[0].clone();
+        let best = found.get(&acronym).and_then(|phrases| {
+            phrases
+                .iter()
+                .map(|(p, es)| (p, es, corpus.rows_of(es)))
+                .filter(|(_, es, rows)| es.len() >= 2 || *rows >= min_rows)
+                .max_by(|x, y| x.2.cmp(&y.2).then_with(|| y.0.cmp(x.0)))
+                .map(|(p, es, rows)| (p.clone(), es.clone(), rows))
+        });
+        let Some((phrase, entries, rows)) = best else {
+            a += 1;
+            continue;
+        };
+        let words: Vec<&str> = phrase.split(' ').collect();
+        let home = (0..groups.len()).find(|&h| {
+            h != a
+                && words.iter().all(|w| {
+                    groups[h].spellings.iter().any(|s| s == w)
+                        || groups[h].with.iter().any(|s| s == w)
+                })
+        });
+        let note = format!("{acronym:?} is the initials of {phrase:?} ({rows} rows)");
+        match home {
+            Some(h) => {
+                let g = groups.remove(a);
+                let h = if h > a { h - 1 } else { h };
+                let target = &mut groups[h];
+                target.spellings.insert(0, phrase);
+                target.spellings.extend(g.spellings);
+                target.entries = union(&union(&target.entries, &g.entries), &entries);
+                target.rows = corpus.rows_of(&target.entries);
+                target.grouped.extend(g.grouped);
+                target.grouped.push(note);
+            }
+            None => {
+                let g = &mut groups[a];
+                g.spellings.push(phrase);
+                g.entries = union(&g.entries, &entries);
+                g.rows = corpus.rows_of(&g.entries);
+                g.grouped.push(note);
+                a += 1;
+            }
+        }
+    }
 }
 
 /// Flags and labels from the words that are not number markers.
@@ -233,7 +337,8 @@ pub(crate) fn flags_and_labels(
     let total = corpus.total_rows.max(1) as f64;
     let min_rows = (opts.min_share * total).ceil().max(1.0) as u64;
     let max_rows = (opts.max_share * total).floor() as u64;
-    let groups = word_groups(corpus, index, marker_words, min_rows);
+    let mut groups = word_groups(corpus, index, marker_words, min_rows);
+    acronym_phrases(corpus, &mut groups, min_rows);
     let mut groups: Vec<Group> = groups
         .into_iter()
         .filter(|g| g.rows >= min_rows && g.rows <= max_rows)
@@ -508,11 +613,17 @@ fn word_groups(
                 spellings.extend(dotted);
             }
             let rows = corpus.rows_of(&entries);
+            let with = together
+                .iter()
+                .filter(|&&(i, j)| members.contains(&i) && left_out[j] == Some(i))
+                .map(|&(_, j)| terms[j].0.clone())
+                .collect();
             Group {
                 spellings,
                 entries,
                 rows,
                 grouped,
+                with,
             }
         })
         .collect();
@@ -627,6 +738,20 @@ mod tests {
         // A plural is the same word.
         assert!(same_word("print", "prints", &none));
         assert!(same_word("manager", "managers", &none));
+    }
+
+    #[test]
+    fn an_acronym_and_its_phrase_are_one_group_named_after_the_phrase() {
+        assert_eq!(initials("totally enclosed fan cooled"), "tefc");
+        assert_eq!(initials("tefc"), "");
+        let g = Group {
+            spellings: vec!["tefc".into(), "totally enclosed fan cooled".into()],
+            entries: Vec::new(),
+            rows: 0,
+            grouped: Vec::new(),
+            with: Vec::new(),
+        };
+        assert_eq!(group_name(&g), "totally enclosed fan cooled");
     }
 
     #[test]
