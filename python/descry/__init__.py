@@ -28,6 +28,7 @@ __all__ = [
     "apply",
     "check",
     "survey",
+    "cluster",
     "propose",
     "Ruleset",
     "CheckReport",
@@ -488,6 +489,34 @@ def survey(
     (values, shapes, tokens, placeholders, anomalies)."""
     text = _native.survey(
         _one_column(data, column), column, top, examples, list(placeholders), default_placeholders
+    )
+    return json.loads(text)
+
+
+def cluster(
+    data: Any,
+    column: str,
+    *,
+    method: str = "letters",
+    threshold: float | int | str | None = None,
+    q: int = 3,
+    digits: str = "strict",
+    max_diameter: float | int | str | None = None,
+) -> dict:
+    """A column's near-duplicate values grouped, each group with a canonical
+    spelling: the `descry.cluster/1` dict of `descry cluster --format json`.
+    `method` is one of letters, words (exact), qgram, levenshtein, osa,
+    jaro-winkler (fuzzy; `threshold` as on the command line)."""
+    if digits not in ("strict", "loose"):
+        raise InputError(f'digits={digits!r}: choose "strict" or "loose"')
+    text = _native.cluster(
+        _one_column(data, column),
+        column,
+        method,
+        None if threshold is None else str(threshold),
+        q,
+        digits == "loose",
+        None if max_diameter is None else str(max_diameter),
     )
     return json.loads(text)
 

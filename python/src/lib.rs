@@ -470,6 +470,54 @@ fn survey(
     })
 }
 
+/// The `descry.cluster/1` report of a column, as JSON.
+#[pyfunction]
+#[pyo3(signature = (column, name, method = "letters".to_owned(), threshold = None, q = 3, loose_digits = false, max_diameter = None))]
+#[allow(clippy::too_many_arguments)]
+fn cluster(
+    py: Python<'_>,
+    column: Bound<'_, PyAny>,
+    name: String,
+    method: String,
+    threshold: Option<String>,
+    q: usize,
+    loose_digits: bool,
+    max_diameter: Option<String>,
+) -> PyResult<String> {
+    use descry::cluster::{
+        cluster as cluster_column, method::method_of, ClusterOptions, Digits, Method,
+    };
+    let chosen = method_of(&method, threshold.as_deref(), q).map_err(input_error)?;
+    let cap =
+        match (max_diameter, chosen) {
+            (None, _) => None,
+            (Some(d), Method::Fuzzy(_)) => {
+                match method_of(&method, Some(&d), q).map_err(input_error)? {
+                    Method::Fuzzy(cap) => Some(cap),
+                    _ => None,
+                }
+            }
+            (Some(_), _) => return Err(input_error(
+                "max_diameter applies to the fuzzy methods (qgram, levenshtein, osa, jaro-winkler)",
+            )),
+        };
+    let series = import_column(&column, &name)?;
+    py.detach(|| {
+        let vocab = vocabulary(&series, None)?;
+        let opts = ClusterOptions {
+            digits: if loose_digits {
+                Digits::Loose
+            } else {
+                Digits::Strict
+            },
+            max_diameter: cap,
+            ..ClusterOptions::new(chosen)
+        };
+        let report = cluster_column(&vocab, &name, &opts);
+        serde_json::to_string(&report).map_err(|e| PyValueError::new_err(e.to_string()))
+    })
+}
+
 /// A drafted ruleset for a column: (its TOML, the `descry.propose/1`
 /// report as JSON, less the output path).
 #[pyfunction]
@@ -518,6 +566,7 @@ fn _native(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(check, m)?)?;
     m.add_function(wrap_pyfunction!(survey, m)?)?;
     m.add_function(wrap_pyfunction!(lookup, m)?)?;
+    m.add_function(wrap_pyfunction!(cluster, m)?)?;
     m.add_function(wrap_pyfunction!(propose, m)?)?;
     m.add("VERSION", env!("CARGO_PKG_VERSION"))?;
     Ok(())

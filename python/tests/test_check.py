@@ -111,3 +111,15 @@ def test_bad_arguments_are_input_errors(demo, engine):
         descry.check(frame, str(engine), max_psi=0.1)
     with pytest.raises(descry.InputError, match="no rule has that name"):
         descry.check(frame, str(engine), require={"warp_drive": 0.1})
+
+
+@pytest.mark.parametrize("method,extra", [("letters", []), ("words", []), ("osa", ["-t", "1"]), ("jaro-winkler", [])])
+def test_cluster_is_the_cli_json(demo, method, extra):
+    want = cli_json("cluster", demo, "-c", "transmission", "-m", method, *extra)
+    threshold = extra[1] if extra else None
+    assert descry.cluster(pandas_text(demo), "transmission", method=method, threshold=threshold) == want
+
+
+def test_an_unknown_cluster_method_is_an_input_error(demo):
+    with pytest.raises(descry.InputError, match="no clustering method"):
+        descry.cluster(pandas_text(demo), "transmission", method="nearest")

@@ -10,9 +10,7 @@ use clap::ValueEnum;
 use descry::cluster::map::write_label_map;
 use descry::cluster::review::{read_review, review_toml};
 use descry::cluster::text::cluster_text;
-use descry::cluster::{
-    cluster, unmatched, Cluster, ClusterOptions, Digits, EditLimit, Fuzzy, Method,
-};
+use descry::cluster::{cluster, unmatched, Cluster, ClusterOptions, Digits, Method};
 use descry::write::{check_not_an_input, check_output_file, write_text_atomically};
 use descry::Ruleset;
 
@@ -296,50 +294,9 @@ fn write_map(
 
 /// The method with its threshold (the method's default when none is given).
 fn method_of(name: MethodName, threshold: Option<&str>, q: usize) -> anyhow::Result<Method> {
-    let similarity = |default: f64| -> anyhow::Result<f64> {
-        let Some(t) = threshold else {
-            return Ok(default);
-        };
-        match t.trim().parse::<f64>() {
-            Ok(s) if s > 0.0 && s <= 1.0 => Ok(s),
-            _ => bail!("--threshold {t:?}: a similarity between 0 and 1 is needed for this method, e.g. --threshold {default}"),
-        }
-    };
-    let edits = || -> anyhow::Result<EditLimit> {
-        let Some(t) = threshold else {
-            return Ok(EditLimit::Ratio(0.2));
-        };
-        let t = t.trim();
-        if let Ok(k) = t.parse::<usize>() {
-            return Ok(EditLimit::Edits(k));
-        }
-        match t.parse::<f64>() {
-            Ok(r) if r > 0.0 && r < 1.0 => Ok(EditLimit::Ratio(r)),
-            _ => bail!(
-                "--threshold {t:?}: give a whole number of edits (e.g. 2) or a share of the longer value's length \
-                 between 0 and 1 (e.g. 0.2)"
-            ),
-        }
-    };
-    Ok(match name {
-        MethodName::Letters | MethodName::Words if threshold.is_some() => {
-            bail!("--threshold applies to the fuzzy methods (qgram, levenshtein, osa, jaro-winkler); letters and words need none")
-        }
-        MethodName::Letters => Method::Letters,
-        MethodName::Words => Method::Words,
-        MethodName::Qgram => {
-            if !(1..=16).contains(&q) {
-                bail!("--q {q}: the q-gram length must be between 1 and 16 (3 is usual)");
-            }
-            Method::Fuzzy(Fuzzy::QGram {
-                q,
-                min_similarity: similarity(0.7)?,
-            })
-        }
-        MethodName::Levenshtein => Method::Fuzzy(Fuzzy::Levenshtein(edits()?)),
-        MethodName::Osa => Method::Fuzzy(Fuzzy::Osa(edits()?)),
-        MethodName::JaroWinkler => Method::Fuzzy(Fuzzy::JaroWinkler {
-            min_similarity: similarity(0.93)?,
-        }),
-    })
+    let name = name
+        .to_possible_value()
+        .map(|v| v.get_name().to_owned())
+        .unwrap_or_default();
+    descry::cluster::method::method_of(&name, threshold, q).map_err(anyhow::Error::msg)
 }

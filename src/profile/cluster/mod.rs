@@ -59,6 +59,7 @@ pub mod distance;
 pub mod guard;
 pub mod index;
 pub mod map;
+pub mod method;
 pub mod review;
 pub mod text;
 
