@@ -480,3 +480,29 @@ fn numbers_glued_after_a_word_are_read_unless_the_column_is_codes() {
     let (toml, _) = draft_of(&codes);
     assert!(!toml.contains("[[count]]"), "{toml}");
 }
+
+#[test]
+fn the_draft_never_rejects_its_own_matches() {
+    // `1200 spd` is no count to the miner (over 999), but the drafted
+    // pattern reads it: the range takes it in rather than reject it.
+    let values = [
+        ("6 spd", 40),
+        ("8 spd", 30),
+        ("12 spd", 20),
+        ("4 spd", 25),
+        ("1200 spd", 2),
+        ("qz-518-1/200 pump", 5),
+    ];
+    let (toml, rules) = draft_of(&values);
+    for (value, _) in values {
+        let normalized = rules.normalizer.apply(value);
+        for (o, f) in rules.evaluate(&normalized).iter().zip(&rules.features) {
+            assert!(
+                !matches!(o.issue, Some(descry::Issue::OutOfRange { .. })),
+                "{}: {value}: {:?}\n{toml}",
+                f.name,
+                o.issue
+            );
+        }
+    }
+}

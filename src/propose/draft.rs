@@ -451,6 +451,59 @@ fn number_shape(value: &str) -> String {
     out
 }
 
+/// Widen every count's range to the numbers its compiled pattern reads among
+/// `values` (normalized, rows, original), so that the draft never rejects
+/// its own matches (the mining skips numbers that the pattern still reads,
+/// such as `518` in `qz-518-1/200`). Returns whether a range changed.
+pub(crate) fn widen_ranges(
+    draft: &mut Draft,
+    rules: &Ruleset,
+    values: &[(&str, u64, &str)],
+) -> bool {
+    let outside: Vec<Vec<(usize, i64)>> = values
+        .par_iter()
+        .map(|(normalized, _, _)| {
+            rules
+                .evaluate(normalized)
+                .iter()
+                .enumerate()
+                .filter_map(|(k, o)| match o.issue {
+                    Some(crate::Issue::OutOfRange { value }) if value.fract() == 0.0 => {
+                        Some((k, value as i64))
+                    }
+                    _ => None,
+                })
+                .collect()
+        })
+        .collect();
+    let mut changed = false;
+    for p in &mut draft.proposals {
+        let ProposedRule::Count { range, .. } = &mut p.rule else {
+            continue;
+        };
+        let Some(k) = rules.features.iter().position(|f| f.name == p.name) else {
+            continue;
+        };
+        let read: Vec<i64> = outside
+            .iter()
+            .flatten()
+            .filter(|(f, _)| *f == k)
+            .map(|(_, v)| *v)
+            .collect();
+        if let (Some(&lo), Some(&hi)) = (read.iter().min(), read.iter().max()) {
+            *range = (range.0.min(lo), range.1.max(hi));
+            p.notes.push(format!(
+                "range widened to {} to {}: the pattern reads these numbers in {} values",
+                range.0,
+                range.1,
+                read.len()
+            ));
+            changed = true;
+        }
+    }
+    changed
+}
+
 /// A label `map` from the token-set clusters with the most rows.
 pub(crate) fn map_from_clusters(
     corpus: &Corpus,

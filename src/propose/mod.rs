@@ -357,6 +357,9 @@ pub fn propose(
         })
         .collect();
     let mut rules = Ruleset::from_toml(&draft.to_toml(), "<draft>")?;
+    if draft::widen_ranges(&mut draft, &rules, &values) {
+        rules = Ruleset::from_toml(&draft.to_toml(), "<draft>")?;
+    }
     if draft::tested_support(&mut draft, &rules, &values, opts.examples) {
         rules = Ruleset::from_toml(&draft.to_toml(), "<draft>")?;
     }
@@ -441,7 +444,10 @@ pub fn propose_more(
         )
     };
     if !draft.proposals.is_empty() {
-        let rules = compile(&draft)?;
+        let mut rules = compile(&draft)?;
+        if draft::widen_ranges(&mut draft, &rules, &values) {
+            rules = compile(&draft)?;
+        }
         draft::tested_support(&mut draft, &rules, &values, opts.examples);
     }
     // Support is tested on every value, so shares are of the whole column.
