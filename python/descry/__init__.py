@@ -282,6 +282,39 @@ def _baseline_files(path: str | os.PathLike | None, described, create: bool) -> 
     return [os.fspath(path / f"{Path(r.file).stem}.parquet") for r, _ in described]
 
 
+class _Gates:
+    """check's gates and baselines, checked before any work, for each ruleset."""
+
+    def __init__(self, min_coverage, limits, requirements, bases, saves) -> None:
+        self.min_coverage, self.limits = min_coverage, limits
+        self.requirements, self.bases, self.saves = requirements, bases, saves
+
+    @classmethod
+    def of(cls, described, min_coverage, require, baseline, save_baseline, drift_limits) -> _Gates:
+        max_new_share, max_new_uncovered_share, max_psi, max_shift = drift_limits
+        limits = (
+            _share("max_new_share", max_new_share),
+            _share("max_new_uncovered_share", max_new_uncovered_share),
+            None if max_psi is None else float(max_psi),
+            _share("max_shift", max_shift),
+        )
+        if baseline is None and any(x is not None for x in limits):
+            raise InputError(
+                "the max_new_share, max_new_uncovered_share, max_psi and max_shift gates need baseline="
+            )
+        return cls(
+            _share("min_coverage", min_coverage),
+            limits,
+            _requirements(require, described),
+            _baseline_files(baseline, described, create=False),
+            _baseline_files(save_baseline, described, create=True),
+        )
+
+    def per_ruleset(self, described):
+        """(ruleset and column, requirements, baseline, baseline to save)."""
+        return zip(described, self.requirements, self.bases, self.saves)
+
+
 class CheckReport:
     """The report of `descry.check`: what `descry check --format json`
     prints (`to_dict()`), with the figures as attributes. A failed gate or
@@ -434,18 +467,8 @@ def check(
     """
     rulesets = _rulesets(rules)
     described = _described(rulesets, column)
-    min_coverage = _share("min_coverage", min_coverage)
-    limits = (
-        _share("max_new_share", max_new_share),
-        _share("max_new_uncovered_share", max_new_uncovered_share),
-        None if max_psi is None else float(max_psi),
-        _share("max_shift", max_shift),
-    )
-    if baseline is None and any(x is not None for x in limits):
-        raise InputError("the max_new_share, max_new_uncovered_share, max_psi and max_shift gates need baseline=")
-    requirements = _requirements(require, described)
-    bases = _baseline_files(baseline, described, create=False)
-    saves = _baseline_files(save_baseline, described, create=True)
+    gates = _Gates.of(described, min_coverage, require, baseline, save_baseline,
+                      (max_new_share, max_new_uncovered_share, max_psi, max_shift))
     kind = _frames.kind_of(data)
     if kind == _frames.LAZY:
         data = data.select(list(dict.fromkeys(c for _, c in described))).collect()
@@ -456,9 +479,9 @@ def check(
         data = _frames.as_arrow_table(data)
     _missing(_frames.column_names(data, kind), [c for _, c in described])
     reports = []
-    for (r, name), req, base, save in zip(described, requirements, bases, saves):
+    for (r, name), req, base, save in gates.per_ruleset(described):
         source = _frames.arrow_column(data, kind, name)
-        text = _native.check(source, name, r._native, min_coverage, req, base, save, limits)
+        text = _native.check(source, name, r._native, gates.min_coverage, req, base, save, gates.limits)
         reports.append(json.loads(text))
     return CheckReport(reports, report_kind)
 

@@ -30,7 +30,7 @@ from typing import Any
 
 import pyarrow as pa
 
-from . import CheckReport, Ruleset, _described, _frames, _native, _requirements, _rulesets, _share
+from . import CheckReport, Ruleset, _described, _frames, _Gates, _native, _rulesets
 from ._errors import InputError
 
 LOOKUP = "lookup"
@@ -176,35 +176,24 @@ def check(
 ) -> CheckReport:
     """The report of `descry.check`, from a Spark-side ``groupBy``: only the
     vocabulary reaches the driver. `.unmatched` is a pyarrow Table."""
-    from . import _baseline_files
-
     rulesets = _rulesets(rules)
     described = _described(rulesets, column)
     missing = [c for _, c in described if c not in df.columns]
     if missing:
         raise InputError(f'no column named "{missing[0]}"; the columns are: {", ".join(df.columns)}')
-    min_coverage = _share("min_coverage", min_coverage)
-    limits = (
-        _share("max_new_share", max_new_share),
-        _share("max_new_uncovered_share", max_new_uncovered_share),
-        None if max_psi is None else float(max_psi),
-        _share("max_shift", max_shift),
-    )
-    if baseline is None and any(x is not None for x in limits):
-        raise InputError("the max_new_share, max_new_uncovered_share, max_psi and max_shift gates need baseline=")
-    requirements = _requirements(require, described)
-    bases = _baseline_files(baseline, described, create=False)
-    saves = _baseline_files(save_baseline, described, create=True)
+    gates = _Gates.of(described, min_coverage, require, baseline, save_baseline,
+                      (max_new_share, max_new_uncovered_share, max_psi, max_shift))
     import json
 
     vocabularies: dict[str, pa.Table] = {}
     reports = []
-    for (r, col), req, base, save in zip(described, requirements, bases, saves):
+    for (r, col), req, base, save in gates.per_ruleset(described):
         if col not in vocabularies:
             vocabularies[col] = _vocabulary(df, col)
         vocab = vocabularies[col]
         text = _native.check(
-            vocab.column("value"), col, r._native, min_coverage, req, base, save, limits, vocab.column("rows")
+            vocab.column("value"), col, r._native, gates.min_coverage, req, base, save, gates.limits,
+            vocab.column("rows"),
         )
         reports.append(json.loads(text))
     return CheckReport(reports, _frames.ARROW)

@@ -46,3 +46,19 @@ def engine() -> Path:
 @pytest.fixture(scope="session")
 def transmission() -> Path:
     return RULESETS / "transmission.toml"
+
+
+def read_as_text(path):
+    """The CSV as the command line reads it, as a pyarrow Table: every
+    column text, only an unquoted empty cell null."""
+    import pyarrow as pa
+    import pyarrow.csv as pacsv
+
+    names = pacsv.read_csv(path).column_names
+    convert = pacsv.ConvertOptions(
+        column_types={n: pa.large_string() for n in names},
+        null_values=[""],
+        strings_can_be_null=True,
+        quoted_strings_can_be_null=False,
+    )
+    return pacsv.read_csv(path, convert_options=convert)

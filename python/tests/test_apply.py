@@ -12,13 +12,12 @@ import duckdb
 import pandas as pd
 import polars as pl
 import pyarrow as pa
-import pyarrow.csv as pacsv
 import pyarrow.parquet as pq
 import pytest
 
 import descry
 
-from conftest import RULESETS, cli
+from conftest import RULESETS, cli, read_as_text
 
 SOURCES = ["engine", "transmission"]
 
@@ -41,16 +40,7 @@ def feature_names(rules) -> list[str]:
 
 
 def read_as_text_pyarrow(path) -> pa.Table:
-    """The CSV as the command line reads it: every column text, an empty
-    cell null."""
-    names = pacsv.read_csv(path).column_names
-    convert = pacsv.ConvertOptions(
-        column_types={n: pa.large_string() for n in names},
-        null_values=[""],
-        strings_can_be_null=True,
-        quoted_strings_can_be_null=False,
-    )
-    return pacsv.read_csv(path, convert_options=convert)
+    return read_as_text(path)
 
 
 def assert_same_arrow(got: pa.Table, expected: pa.Table, names: list[str]) -> None:

@@ -10,13 +10,12 @@ import os
 import sys
 
 import pyarrow as pa
-import pyarrow.csv as pacsv
 import pytest
 
 import descry
 import descry.spark
 
-from conftest import RULESETS, cli
+from conftest import RULESETS, cli, read_as_text
 
 
 @pytest.fixture(scope="module")
@@ -39,14 +38,8 @@ def spark():
 
 @pytest.fixture(scope="module")
 def listings(demo) -> pa.Table:
-    names = pacsv.read_csv(demo).column_names
-    convert = pacsv.ConvertOptions(
-        column_types={n: pa.string() for n in names},
-        null_values=[""],
-        strings_can_be_null=True,
-        quoted_strings_can_be_null=False,
-    )
-    return pacsv.read_csv(demo, convert_options=convert)
+    table = read_as_text(demo)
+    return table.cast(pa.schema([(n, pa.string()) for n in table.column_names]))
 
 
 @pytest.fixture(scope="module")
