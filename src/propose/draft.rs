@@ -510,7 +510,7 @@ pub(crate) fn map_from_clusters(
     column: &str,
     opts: &ProposeOptions,
 ) -> Option<Proposal> {
-    let mut copts = ClusterOptions::new(Method::Tokens);
+    let mut copts = ClusterOptions::new(Method::Words);
     copts.normalizer = opts.normalizer.clone();
     // Placeholders and blanks are not worth a canonical spelling.
     let mut mined = crate::Vocabulary::default();

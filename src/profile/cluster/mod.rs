@@ -193,10 +193,6 @@ pub enum Method {
 }
 
 impl Method {
-    /// The former name of [`Method::Words`], kept while callers move over.
-    #[allow(non_upper_case_globals)]
-    pub const Tokens: Method = Method::Words;
-
     pub fn name(&self) -> &'static str {
         match self {
             Method::Letters => "letters",
