@@ -112,7 +112,17 @@ def _described(rulesets: list[Ruleset], column: str | None) -> list[tuple[Rulese
             "column= applies to a single ruleset; with several, name each column in its ruleset"
         )
     out = []
+    writers: dict[str, tuple[Ruleset, dict]] = {}
     for r in rulesets:
+        for f in r.features:
+            if f["output"] in writers:
+                other, g = writers[f["output"]]
+                raise InputError(
+                    f'{r.file}:{f["line"]}: rule [[{f["kind"]}]] "{f["name"]}" would write column '
+                    f'"{f["output"]}", which rule "{g["name"]}" ({other.file}:{g["line"]}) writes too; '
+                    f"give each ruleset once, and a different `prefix` to rulesets whose rules share names"
+                )
+            writers[f["output"]] = (r, f)
         name = column if column is not None else r.column
         if name is None:
             raise InputError(
@@ -164,7 +174,7 @@ def apply(
     """
     rulesets = _rulesets(rules)
     described = _described(rulesets, column)
-    keep = list(keep or [])
+    keep = [keep] if isinstance(keep, str) else list(dict.fromkeys(keep or []))
     if drop_source and only_features:
         raise InputError("drop_source and only_features cannot be used together")
     if keep and not only_features:
@@ -177,6 +187,7 @@ def apply(
     names = _frames.column_names(data, kind)
     sources = [c for _, c in described]
     _missing(names, sources)
+    _frames.check_unique(names, sources)
     if only_features:
         _missing(names, keep)
         kept = keep
@@ -224,7 +235,7 @@ def _apply_lazy(lazy, rulesets, described, keep, only_features, drop_source, col
 def _share(name: str, value: float | None) -> float | None:
     if value is None:
         return None
-    if not (isinstance(value, (int, float)) and 0.0 <= value <= 1.0):
+    if isinstance(value, bool) or not (isinstance(value, (int, float)) and 0.0 <= value <= 1.0):
         raise InputError(f"{name}={value!r}: give a share between 0 and 1, e.g. 0.95")
     return float(value)
 
@@ -241,11 +252,14 @@ def _requirements(
         pairs = list(require.items())
     else:
         pairs = []
-        for item in require:
+        for item in [require] if isinstance(require, str) else require:
             feature, _, share = str(item).rpartition("=")
             if not feature:
                 raise InputError(f"{item!r}: write FEATURE=SHARE, e.g. turbo=0.02")
-            pairs.append((feature.strip(), float(share)))
+            try:
+                pairs.append((feature.strip(), float(share)))
+            except ValueError:
+                raise InputError(f'{item!r}: "{share.strip()}" is not a number') from None
     for feature, share in pairs:
         share = _share(f"require {feature}", share)
         found = [i for i, (r, _) in enumerate(described) if any(f["output"] == feature for f in r.features)]
@@ -273,6 +287,11 @@ def _baseline_files(path: str | os.PathLike | None, described, create: bool) -> 
             raise InputError(f"{path}: a baseline is a Parquet file; name it *.parquet")
         return [os.fspath(path)]
     if create:
+        if path.exists() and not path.is_dir():
+            raise InputError(
+                f"{path}: with several rulesets, the baseline is a folder of RULESET-STEM.parquet "
+                f"files, and this is a file; name a folder"
+            )
         path.mkdir(parents=True, exist_ok=True)
     elif not path.is_dir():
         raise InputError(
@@ -477,7 +496,9 @@ def check(
         report_kind = kind
     if kind == _frames.ARROW:
         data = _frames.as_arrow_table(data)
-    _missing(_frames.column_names(data, kind), [c for _, c in described])
+    names = _frames.column_names(data, kind)
+    _missing(names, [c for _, c in described])
+    _frames.check_unique(names, [c for _, c in described])
     reports = []
     for (r, name), req, base, save in gates.per_ruleset(described):
         source = _frames.arrow_column(data, kind, name)
@@ -489,13 +510,21 @@ def check(
 # ---------------------------------------------------------------- survey, propose
 
 
+def _whole(name: str, value: int, least: int) -> int:
+    if isinstance(value, bool) or not isinstance(value, int) or value < least:
+        raise InputError(f"{name}={value!r}: give a whole number of at least {least}")
+    return value
+
+
 def _one_column(data: Any, column: str) -> Any:
     kind = _frames.kind_of(data)
     if kind == _frames.LAZY:
         data, kind = data.select(column).collect(), _frames.POLARS
     if kind == _frames.ARROW:
         data = _frames.as_arrow_table(data)
-    _missing(_frames.column_names(data, kind), [column])
+    names = _frames.column_names(data, kind)
+    _missing(names, [column])
+    _frames.check_unique(names, [column])
     return _frames.arrow_column(data, kind, column)
 
 
@@ -510,8 +539,10 @@ def survey(
 ) -> dict:
     """A column's survey: the `descry.survey/1` JSON of `descry survey`
     (values, shapes, tokens, placeholders, anomalies)."""
+    top, examples = _whole("top", top, 0), _whole("examples", examples, 0)
+    placeholders = [placeholders] if isinstance(placeholders, str) else list(placeholders)
     text = _native.survey(
-        _one_column(data, column), column, top, examples, list(placeholders), default_placeholders
+        _one_column(data, column), column, top, examples, placeholders, default_placeholders
     )
     return json.loads(text)
 
@@ -530,6 +561,7 @@ def cluster(
     spelling: the `descry.cluster/1` dict of `descry cluster --format json`.
     `method` is one of letters, words (exact), qgram, levenshtein, osa,
     jaro-winkler (fuzzy; `threshold` as on the command line)."""
+    q = _whole("q", q, 0)
     if digits not in ("strict", "loose"):
         raise InputError(f'digits={digits!r}: choose "strict" or "loose"')
     text = _native.cluster(
@@ -558,14 +590,32 @@ def propose(
     `descry propose` (the draft's rules and its check), plus `toml`, the
     draft's text. With `output`, the draft is also written there (never over
     an existing file)."""
+    min_share, max_share = _share("min_share", min_share), _share("max_share", max_share)
+    if max_rules is not None:
+        max_rules = _whole("max_rules", max_rules, 1)
+    if output is not None:
+        path = Path(output)
+        if path.is_dir():
+            raise InputError(f"{path}: is a folder; name the file to write, e.g. DIR/draft.toml")
+        if path.exists():
+            raise InputError(
+                f"{path} exists; descry does not overwrite a ruleset you may have edited: "
+                f"give another output"
+            )
     toml, text = _native.propose(
         _one_column(data, column), column, min_share, max_share, max_rules, prefix
     )
     report = json.loads(text)
     if output is not None:
         path = Path(output)
-        with open(path, "x", encoding="utf-8") as f:
-            f.write(toml)
+        try:
+            with open(path, "x", encoding="utf-8") as f:
+                f.write(toml)
+        except FileExistsError:
+            raise InputError(
+                f"{path} exists; descry does not overwrite a ruleset you may have edited: "
+                f"give another output"
+            ) from None
         report["output"] = os.fspath(path)
     report["toml"] = toml
     return report

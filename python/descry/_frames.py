@@ -25,6 +25,13 @@ def kind_of(data: Any) -> str:
     object with `__arrow_c_stream__`)."""
     module = type(data).__module__.split(".")[0]
     name = type(data).__name__
+    if module in ("pandas", "polars", "pyarrow") and name in (
+        "Series", "Array", "ChunkedArray"
+    ) or isinstance(data, (pa.Array, pa.ChunkedArray)):
+        raise InputError(
+            f"descry reads tables, not a single column ({module}.{name}); give a table with a "
+            f"column of the name the ruleset describes (e.g. series.to_frame())"
+        )
     if module == "pandas" and name == "DataFrame":
         return PANDAS
     if module == "polars" and name == "DataFrame":
@@ -58,11 +65,24 @@ def as_arrow_table(data: Any) -> pa.Table:
 
 def column_names(data: Any, kind: str) -> list[str]:
     if kind == PANDAS:
-        names = [str(c) if not isinstance(c, str) else c for c in data.columns]
-        return names
+        # The labels themselves: a label 0 is not the label "0".
+        return list(data.columns)
     if kind == LAZY:
         return list(data.collect_schema().names())
     return list(data.columns) if kind == POLARS else list(data.column_names)
+
+
+def check_unique(names: list[Any], described: list[str]) -> None:
+    """Refuse a described column whose name more than one column has, as
+    the command line does."""
+    for name in described:
+        at = [i + 1 for i, n in enumerate(names) if n == name]
+        if len(at) > 1:
+            shown = ", ".join(str(i) for i in at[:-1]) + f" and {at[-1]}"
+            raise InputError(
+                f'the column name "{name}" is given to more than one column (columns {shown}); '
+                f"descry cannot tell them apart: rename one"
+            )
 
 
 def arrow_column(data: Any, kind: str, name: str) -> Any:
@@ -73,7 +93,7 @@ def arrow_column(data: Any, kind: str, name: str) -> Any:
         return data.column(name)
     try:
         return pa.chunked_array([pa.array(data[name], from_pandas=True)])
-    except (pa.ArrowInvalid, pa.ArrowTypeError, pa.ArrowNotImplementedError) as e:
+    except (pa.ArrowInvalid, pa.ArrowTypeError, pa.ArrowNotImplementedError, UnicodeError) as e:
         raise InputError(f'column "{name}": cannot be read as text: {e}') from None
 
 
@@ -149,7 +169,12 @@ def attach(data: Any, kind: str, features: pa.Table, kept: list[str]) -> Any:
         import pandas as pd
 
         frame = to_kind(features, kind, index=data.index)
-        return pd.concat([data[kept], frame], axis=1)
+        # Columns in the table's order are picked by position, so that a
+        # label two columns share is carried once each, and a label such as
+        # 0 stays the number it is.
+        in_order = [n for n in data.columns if n in kept] == kept
+        carried = data.loc[:, [n in kept for n in data.columns]] if in_order else data[kept]
+        return pd.concat([carried, frame], axis=1)
     if kind == POLARS:
         frame = to_kind(features, kind)
         return data.select(kept).hstack(frame) if kept else frame

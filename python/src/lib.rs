@@ -224,13 +224,47 @@ fn import_column(obj: &Bound<'_, PyAny>, name: &str) -> PyResult<Series> {
     let mut reader = unsafe { ffi::ArrowArrayStreamReader::try_new(Box::new(stream)) }
         .map_err(|e| input_error(format!("column {name:?}: {e}")))?;
     let field = reader.field().clone();
+    // polars, as descry builds it, stops the process on a type it was built
+    // without; say which column instead, as the command line does.
+    if !readable(&field.dtype) {
+        return Err(input_error(format!(
+            "column {name:?} has the type {:?}, which descry cannot read (its polars is built without \
+             that type); convert the column to a plain type, or leave it out",
+            field.dtype
+        )));
+    }
     let mut chunks = Vec::new();
     while let Some(chunk) = unsafe { reader.next() } {
         chunks.push(chunk.map_err(|e| input_error(format!("column {name:?}: {e}")))?);
     }
+    // A column of no chunks (an empty pyarrow ChunkedArray) is a column of
+    // no rows.
+    if chunks.is_empty() {
+        chunks.push(polars_arrow::array::new_empty_array(field.dtype.clone()));
+    }
     let field = ArrowField::new(name.into(), field.dtype, true);
     Series::try_from((&field, chunks))
         .map_err(|e| input_error(format!("column {name:?}: cannot be read as text: {e}")))
+}
+
+/// Whether polars, with the features descry builds it with, can hold an
+/// Arrow type: the types descry's Parquet and IPC readers accept (and
+/// polars would otherwise stop the process on).
+fn readable(dtype: &ArrowDataType) -> bool {
+    use ArrowDataType as A;
+    match dtype {
+        A::List(f) | A::LargeList(f) | A::Map(f, _) => readable(&f.dtype),
+        A::Struct(fields) => fields.iter().all(|f| readable(&f.dtype)),
+        A::Dictionary(_, values, _) => readable(values),
+        A::Timestamp(_, Some(tz)) => TimeZone::opt_try_new(Some(tz.clone())).is_ok(),
+        A::Timestamp(_, None) | A::Date32 | A::Date64 | A::Time32(_) | A::Time64(_) => true,
+        A::Null | A::Boolean | A::Float32 | A::Float64 | A::Duration(_) => true,
+        A::Int8 | A::Int16 | A::Int32 | A::Int64 => true,
+        A::UInt8 | A::UInt16 | A::UInt32 | A::UInt64 => true,
+        A::Utf8 | A::LargeUtf8 | A::Utf8View => true,
+        A::Binary | A::LargeBinary | A::BinaryView | A::FixedSizeBinary(_) => true,
+        _ => false,
+    }
 }
 
 /// The distinct values of a column and their rows: from the rows
