@@ -94,7 +94,13 @@ def arrow_column(data: Any, kind: str, name: str) -> Any:
     try:
         return pa.chunked_array([pa.array(data[name], from_pandas=True)])
     except (pa.ArrowInvalid, pa.ArrowTypeError, pa.ArrowNotImplementedError, UnicodeError) as e:
-        raise InputError(f'column "{name}": cannot be read as text: {e}') from None
+        hint = ""
+        if str(data[name].dtype) == "object" and not isinstance(e, UnicodeError):
+            hint = (
+                f'; the column mixes text with other values: convert it first, e.g. '
+                f'frame["{name}"] = frame["{name}"].astype("string")'
+            )
+        raise InputError(f'column "{name}": cannot be read as text: {e}{hint}') from None
 
 
 def fix_types(table: pa.Table) -> pa.Table:

@@ -149,3 +149,11 @@ def test_propose_output_onto_an_existing_file_or_folder(tmp_path):
     assert existing.read_text() == "mine"
     with pytest.raises(descry.InputError, match="is a folder"):
         descry.propose(frame, "engine", output=tmp_path)
+
+
+def test_pandas_object_column_mixing_text_and_numbers_says_how_to_convert(engine):
+    frame = pd.DataFrame({"engine": pd.Series(["V8 gas", 5, None], dtype=object)})
+    with pytest.raises(descry.InputError, match=r'mixes text with other values: .*astype\("string"\)'):
+        descry.apply(frame, engine)
+    frame["engine"] = frame["engine"].astype("string")
+    assert descry.apply(frame, engine)["eng_cylinders"].tolist()[0] == 8
