@@ -6,8 +6,8 @@
 //! row counts.
 
 pub mod drift;
-pub mod html;
 pub mod explain;
+pub mod html;
 pub mod render;
 
 use serde::Serialize;
