@@ -506,3 +506,35 @@ fn the_draft_never_rejects_its_own_matches() {
         }
     }
 }
+
+#[test]
+fn a_column_name_with_a_newline_stays_on_one_line_of_the_draft() {
+    use descry::propose::{propose, ProposeOptions};
+    use descry::{Ruleset, Vocabulary};
+    // A header cell may hold a line break (RFC 4180 allows it inside quotes).
+    let column = "gear\nbox \"A\"\t\u{7}";
+    let mut rows = Vec::new();
+    for (value, n) in [
+        ("6 spd manual", 40),
+        ("8 speed auto", 30),
+        ("4 spd manual", 25),
+    ] {
+        rows.extend(std::iter::repeat_n(Some(value), n));
+    }
+    let draft = propose(&Vocabulary::build(rows), column, &ProposeOptions::default()).unwrap();
+    let toml = draft.to_toml();
+    let first = toml.lines().next().unwrap();
+    assert!(
+        first.starts_with("# Draft ruleset for column \"gear\\nbox"),
+        "{first}"
+    );
+    assert!(
+        toml.lines()
+            .skip(1)
+            .take_while(|l| l.starts_with('#'))
+            .count()
+            >= 3
+    );
+    let rules = Ruleset::from_toml(&toml, "draft.toml").unwrap();
+    assert_eq!(rules.column.as_deref(), Some(column));
+}

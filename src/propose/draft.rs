@@ -32,26 +32,41 @@ pub struct Overlap {
     pub example: String,
 }
 
+/// A one-line TOML basic string (`"..."`) with every control character
+/// escaped: a value or column name holding a newline must not open a
+/// multi-line string or break out of a comment.
+fn toml_basic(s: &str) -> String {
+    let mut out = String::with_capacity(s.len() + 2);
+    out.push('"');
+    for c in s.chars() {
+        match c {
+            '"' => out.push_str("\\\""),
+            '\\' => out.push_str("\\\\"),
+            '\n' => out.push_str("\\n"),
+            '\t' => out.push_str("\\t"),
+            '\r' => out.push_str("\\r"),
+            c if c.is_control() => {
+                let _ = write!(out, "\\u{:04X}", c as u32);
+            }
+            c => out.push(c),
+        }
+    }
+    out.push('"');
+    out
+}
+
 /// A TOML string: literal (`'...'`) when it can be, so that regex
 /// backslashes stay readable; basic with escapes otherwise.
 fn toml_string(s: &str) -> String {
     if !s.contains('\'') && !s.chars().any(|c| c.is_control()) {
         format!("'{s}'")
     } else {
-        toml_edit::Value::from(s).to_string().trim().to_owned()
+        toml_basic(s)
     }
 }
 
 fn toml_list(items: &[String]) -> String {
-    let quoted: Vec<String> = items
-        .iter()
-        .map(|s| {
-            toml_edit::Value::from(s.as_str())
-                .to_string()
-                .trim()
-                .to_owned()
-        })
-        .collect();
+    let quoted: Vec<String> = items.iter().map(|s| toml_basic(s)).collect();
     format!("[{}]", quoted.join(", "))
 }
 
@@ -78,24 +93,12 @@ impl Draft {
              # blanks and placeholders left out). Each rule says what it was found on: the distinct values\n\
              # and rows, a few example values, and how spellings were grouped. Every rule was tested on\n\
              # every distinct value. Rename, merge, delete and tighten freely; then run `descry check`.\n",
-            toml_edit::Value::from(self.column.as_str()).to_string().trim(),
+            toml_basic(self.column.as_str()),
             thousands(self.distinct_considered),
             thousands(self.rows_considered),
         );
-        let _ = writeln!(
-            out,
-            "column = {}",
-            toml_edit::Value::from(self.column.as_str())
-                .to_string()
-                .trim()
-        );
-        let _ = writeln!(
-            out,
-            "prefix = {}",
-            toml_edit::Value::from(self.prefix.as_str())
-                .to_string()
-                .trim()
-        );
+        let _ = writeln!(out, "column = {}", toml_basic(self.column.as_str()));
+        let _ = writeln!(out, "prefix = {}", toml_basic(self.prefix.as_str()));
         let _ = writeln!(out, "decimal = \".\"");
         if !self.placeholders.is_empty() {
             let _ = writeln!(
@@ -163,8 +166,7 @@ impl Draft {
             let shown: Vec<String> = p.examples.iter().map(|e| shown(e)).collect();
             let _ = writeln!(out, "# e.g. {}", shown.join(", "));
         }
-        let name = toml_edit::Value::from(p.name.as_str()).to_string();
-        let name = name.trim();
+        let name = toml_basic(&p.name);
         match &p.rule {
             ProposedRule::Flag { any, pattern } => match pattern {
                 Some(pattern) => {
@@ -198,17 +200,13 @@ impl Draft {
                     out,
                     "[[measure]]\nname = {name}\npattern = {}\nunit = {}",
                     toml_string(pattern),
-                    toml_edit::Value::from(unit.as_str()).to_string().trim()
+                    toml_basic(unit.as_str())
                 );
                 if *fancy {
                     let _ = writeln!(out, "fancy = true");
                 }
                 if let Some(combine) = combine {
-                    let _ = writeln!(
-                        out,
-                        "combine = {}",
-                        toml_edit::Value::from(combine.as_str()).to_string().trim()
-                    );
+                    let _ = writeln!(out, "combine = {}", toml_basic(combine.as_str()));
                 }
                 if units.is_empty() {
                     out.push('\n');
@@ -248,17 +246,13 @@ impl Draft {
             ProposedRule::Label { cases, default } => {
                 let _ = writeln!(out, "[[label]]\nname = {name}");
                 if let Some(d) = default {
-                    let _ = writeln!(
-                        out,
-                        "default = {}",
-                        toml_edit::Value::from(d.as_str()).to_string().trim()
-                    );
+                    let _ = writeln!(out, "default = {}", toml_basic(d.as_str()));
                 }
                 for (label, any) in cases {
                     let _ = writeln!(
                         out,
                         "\n[[label.case]]\nlabel = {}\nany = {}",
-                        toml_edit::Value::from(label.as_str()).to_string().trim(),
+                        toml_basic(label.as_str()),
                         toml_list(any)
                     );
                 }
@@ -272,9 +266,7 @@ impl Draft {
                         out,
                         "{} = {}",
                         toml_key(key),
-                        toml_edit::Value::from(canonical.as_str())
-                            .to_string()
-                            .trim()
+                        toml_basic(canonical.as_str())
                     );
                 }
                 out.push('\n');
