@@ -390,3 +390,71 @@ fn terminal_escape_sequences_in_values_are_shown_inert() {
     );
     assert!(out.contains("\\u{1b}[31mred"), "{out}");
 }
+
+/// A described column of lists or structs has no one text per row: the
+/// error names the file and the column.
+#[test]
+fn a_described_column_of_lists_or_structs_is_named() {
+    use polars::prelude::*;
+    let c = case();
+    let lists = Series::new(
+        "transmission".into(),
+        [
+            Series::new("".into(), ["6 spd", "auto"]),
+            Series::new("".into(), ["5 spd"]),
+        ],
+    );
+    let parts = Series::new("gears".into(), [6u8, 5]);
+    let structs = StructChunked::from_series("transmission".into(), 2, [&parts].into_iter())
+        .unwrap()
+        .into_series();
+    for (name, series) in [("lists.parquet", lists), ("structs.parquet", structs)] {
+        let path = c.dir.path().join(name);
+        let mut frame = DataFrame::new(2, vec![series.into_column()]).unwrap();
+        ParquetWriter::new(std::fs::File::create(&path).unwrap())
+            .finish(&mut frame)
+            .unwrap();
+        let (code, _, err) = c.check(&path, &[]);
+        assert_eq!(code, Some(2), "{name}: {err}");
+        assert!(err.contains(name), "{name}: {err}");
+        assert!(
+            err.contains("column \"transmission\" holds") && err.contains("cannot describe"),
+            "{name}: {err}"
+        );
+        let out = c.dir.path().join(format!("{name}.out.parquet"));
+        let o = c.apply(&path, &out, &[]);
+        assert_eq!(o.status.code(), Some(2), "{name}: {}", stderr(&o));
+        assert!(stderr(&o).contains("cannot describe"), "{}", stderr(&o));
+        assert!(!out.exists());
+    }
+}
+
+/// Two rulesets that would write the same feature column are refused
+/// before anything is read, naming both rules.
+#[test]
+fn two_rulesets_writing_one_column_are_refused() {
+    let c = case();
+    let second = write(c.dir.path(), "again.toml", RULES);
+    let input = c.file("t.csv", b"transmission\n6 spd\n");
+    let out = c.dir.path().join("out.csv");
+    let o = run(
+        &[
+            "apply",
+            s(&input),
+            "-r",
+            s(&c.rules),
+            "-r",
+            s(&second),
+            "-o",
+            s(&out),
+        ],
+        None,
+    );
+    assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
+    let err = stderr(&o);
+    assert!(
+        err.contains("again.toml:") && err.contains("r.toml:") && err.contains("\"gears\""),
+        "{err}"
+    );
+    assert!(!out.exists());
+}

@@ -23,6 +23,7 @@ use descry::report::explain::explain;
 use descry::report::DriftLimits;
 use descry::ruleset::ValueKind;
 use descry::survey::{survey as survey_column, SurveyOptions, DEFAULT_PLACEHOLDERS};
+use descry::table::schema::readable;
 use descry::{CoverageReport, Ruleset, Vocabulary};
 
 const STREAM: &CStr = c"arrow_array_stream";
@@ -245,26 +246,6 @@ fn import_column(obj: &Bound<'_, PyAny>, name: &str) -> PyResult<Series> {
     let field = ArrowField::new(name.into(), field.dtype, true);
     Series::try_from((&field, chunks))
         .map_err(|e| input_error(format!("column {name:?}: cannot be read as text: {e}")))
-}
-
-/// Whether polars, with the features descry builds it with, can hold an
-/// Arrow type: the types descry's Parquet and IPC readers accept (and
-/// polars would otherwise stop the process on).
-fn readable(dtype: &ArrowDataType) -> bool {
-    use ArrowDataType as A;
-    match dtype {
-        A::List(f) | A::LargeList(f) | A::Map(f, _) => readable(&f.dtype),
-        A::Struct(fields) => fields.iter().all(|f| readable(&f.dtype)),
-        A::Dictionary(_, values, _) => readable(values),
-        A::Timestamp(_, Some(tz)) => TimeZone::opt_try_new(Some(tz.clone())).is_ok(),
-        A::Timestamp(_, None) | A::Date32 | A::Date64 | A::Time32(_) | A::Time64(_) => true,
-        A::Null | A::Boolean | A::Float32 | A::Float64 | A::Duration(_) => true,
-        A::Int8 | A::Int16 | A::Int32 | A::Int64 => true,
-        A::UInt8 | A::UInt16 | A::UInt32 | A::UInt64 => true,
-        A::Utf8 | A::LargeUtf8 | A::Utf8View => true,
-        A::Binary | A::LargeBinary | A::BinaryView | A::FixedSizeBinary(_) => true,
-        _ => false,
-    }
 }
 
 /// The distinct values of a column and their rows: from the rows

@@ -140,12 +140,35 @@ fn text_note(name: &str, dtype: &DataType, kept: bool) -> Option<String> {
         .then(|| format!("column {} holds {dtype} values; {how}", shown(name)))
 }
 
+/// Whether descry can describe a column of this type: read its values as
+/// text. Nested values (lists, arrays, structs) have no one text, and
+/// polars renders no time-zone-aware timestamp as text.
+pub fn describable(dtype: &DataType) -> bool {
+    !dtype.is_nested() && !matches!(dtype, DataType::Datetime(_, Some(_)))
+}
+
+/// Why a column of this type cannot be described, naming it.
+pub fn not_describable(name: &str, dtype: &DataType) -> String {
+    format!(
+        "column {} holds {dtype} values, which descry cannot describe: it reads a described column \
+         as text, one value per row; convert the column to text first (or describe another column)",
+        shown(name)
+    )
+}
+
 /// A column's values as text: a string column as it is, any other type
 /// rendered by polars (the column itself is left as it was).
 pub fn text_of(column: &Column) -> PolarsResult<StringChunked> {
     match column.dtype() {
         DataType::String => Ok(column.str()?.clone()),
-        _ => Ok(column.cast(&DataType::String)?.str()?.clone()),
+        t if !describable(t) => {
+            Err(polars_err!(ComputeError: "{}", not_describable(column.name(), t)))
+        }
+        _ => Ok(column
+            .cast(&DataType::String)
+            .map_err(|e| polars_err!(ComputeError: "column {}: {e}", shown(column.name())))?
+            .str()?
+            .clone()),
     }
 }
 
@@ -273,6 +296,16 @@ impl Input {
             }
         }
         let schema = lazy.collect_schema().map_err(fail)?;
+        if let Some((c, t)) = text_columns
+            .iter()
+            .filter_map(|c| schema.get(c).map(|t| (c, t)))
+            .find(|(_, t)| !describable(t))
+        {
+            return Err(Error::Input {
+                path: self.path.clone(),
+                message: not_describable(c, t),
+            });
+        }
         let notes = text_columns
             .iter()
             .filter_map(|c| schema.get(c).map(|t| (c, t)))

@@ -159,7 +159,8 @@ fn unopenable(field: &FieldRef<'_>) -> Option<&'static str> {
 
 /// Whether polars, with the type features descry turns on, holds this type
 /// (mirrors polars' own conversion, which stops the process on the others).
-fn readable(dtype: &ArrowDataType) -> bool {
+/// The Python package checks the Arrow columns it is handed with it too.
+pub fn readable(dtype: &ArrowDataType) -> bool {
     use ArrowDataType as A;
     match dtype {
         A::Null
