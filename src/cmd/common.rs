@@ -1,6 +1,7 @@
 //! Plumbing shared by the commands: input arguments, ruleset loading,
 //! output formats.
 
+use std::collections::HashMap;
 use std::path::{Path, PathBuf};
 
 use anyhow::{bail, Context};
@@ -116,14 +117,41 @@ pub fn load_descriptions(
             "--column applies to a single ruleset; with several, name each column in its ruleset"
         );
     }
-    rules
+    let descriptions = rules
         .iter()
         .map(|p| {
             let rules = load_ruleset(p)?;
             let column = source_column(column, &rules)?;
             Ok(descry::pipeline::Description { rules, column })
         })
-        .collect()
+        .collect::<anyhow::Result<Vec<_>>>()?;
+    check_outputs_differ(&descriptions)?;
+    Ok(descriptions)
+}
+
+/// Two rulesets may not write the same feature column: the second would
+/// hide the first.
+fn check_outputs_differ(descriptions: &[descry::pipeline::Description]) -> anyhow::Result<()> {
+    let mut seen: HashMap<&str, (&str, usize, &str)> = HashMap::new();
+    for d in descriptions {
+        for f in &d.rules.features {
+            let here = (d.rules.file.as_str(), f.line, f.name.as_str());
+            if let Some((file, line, name)) = seen.insert(f.output.as_str(), here) {
+                bail!(
+                    "{}:{}: rule \"{}\" would write column {}, which {}:{} (rule \"{}\") writes too; \
+                     rename one of the rules or give the rulesets different `prefix`es",
+                    d.rules.file,
+                    f.line,
+                    f.name,
+                    shown(&f.output),
+                    file,
+                    line,
+                    name
+                );
+            }
+        }
+    }
+    Ok(())
 }
 
 pub fn source_column(cli: Option<&str>, rules: &Ruleset) -> anyhow::Result<String> {
