@@ -65,6 +65,7 @@ METHODS = [
     ("osa", "2", OSA.distance, {}, 2),
     ("osa", "0.2", OSA.normalized_distance, {}, 0.2),
     ("jaro-winkler", "0.9", JaroWinkler.similarity, {"scorer_kwargs": {"prefix_weight": 0.1}}, 0.9),
+    ("jaro-winkler", "0.93", JaroWinkler.similarity, {"scorer_kwargs": {"prefix_weight": 0.1}}, 0.93),
     ("qgram", "0.7", None, {}, 0.7),
 ]
 

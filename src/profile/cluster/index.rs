@@ -41,6 +41,11 @@
 //!   the benchmark measures the heuristic's recall on 100,000 values (see
 //!   docs/cluster.md).
 //!
+//! Before any of these, [`similar_pairs`] hands the pairs between two long
+//! values of several words to the word filter ([`super::words`]), which is
+//! exact for the pairs the word check keeps; a value it searches looks here
+//! only for partners it does not search.
+//!
 //! Cost: the indexes hold a few entries of 8 to 16 bytes per character of
 //! every value; time grows with the number of values times the length of
 //! the posting lists of their rarest tokens.
