@@ -61,7 +61,11 @@ for levenshtein and osa, rarest q-grams or characters for qgram and
 jaro-winkler. It finds every pair --exhaustive finds, except jaro-winkler on
 very large sets (about a hundred thousand values in one block, as with
 --digits loose), where a faster heuristic may miss a few (under 1% in our
-measurements). The output is the same whatever --threads is.
+measurements). Long values of three words or more are searched through
+their words first: between two of them the index finds every pair within
+the threshold whose words agree (all that may group) and reports no other
+(--pairs lists the rest with --exhaustive). The output is the same
+whatever --threads is.
 
 Review before writing. -o groups.toml writes the groups as an editable
 file: each group has its canonical spelling, its members with their rows,

@@ -29,6 +29,13 @@
 //!
 //! These rules were measured against hand-labelled real columns (see
 //! docs/cluster.md).
+//!
+//! **What the index relies on.** A pair [`may_group`] keeps has, as to its
+//! words (repeats counted), one of three forms: the same words; as many
+//! words on both sides, all but at most [`most_misspelled`] of them shared;
+//! or the same letters in its words, the words that differ joined being
+//! equal. The word filter of the index (see `words.rs`) finds the pairs of
+//! long values through these forms alone.
 
 use crate::shape::{runs, CharClass};
 
@@ -82,6 +89,21 @@ pub fn identity_signature(normalized: &str, digits: Digits) -> String {
     parts(normalized, digits).identity.join(" ")
 }
 
+/// The words of a (normalized) value, in order: its letter runs that are
+/// not identity runs.
+pub fn words(normalized: &str, digits: Digits) -> Vec<&str> {
+    parts(normalized, digits).words
+}
+
+/// How many words of a value of `words` words may be misspelled.
+pub fn most_misspelled(words: usize) -> usize {
+    if words >= 6 {
+        2
+    } else {
+        1
+    }
+}
+
 /// The words of a value, sorted, repeats kept: values with equal word keys
 /// (and equal identity signatures) hold the same words in any order.
 pub fn word_key(normalized: &str, digits: Digits) -> String {
@@ -104,11 +126,7 @@ pub fn may_group(a: &str, b: &str, digits: Digits) -> bool {
     if only_a.concat() == only_b.concat() {
         return true; // one word written as two, or two as one
     }
-    let most = if pa.words.len().max(pb.words.len()) >= 6 {
-        2
-    } else {
-        1
-    };
+    let most = most_misspelled(pa.words.len().max(pb.words.len()));
     only_a.len() == only_b.len()
         && only_a.len() <= most
         && only_a.iter().zip(&only_b).all(|(x, y)| is_typo(x, y))

@@ -41,6 +41,11 @@
 //!   the benchmark measures the heuristic's recall on 100,000 values (see
 //!   docs/cluster.md).
 //!
+//! Before any of these, [`similar_pairs`] hands the pairs between two long
+//! values of several words to the word filter ([`super::words`]), which is
+//! exact for the pairs the word check keeps; a value it searches looks here
+//! only for partners it does not search.
+//!
 //! Cost: the indexes hold a few entries of 8 to 16 bytes per character of
 //! every value; time grows with the number of values times the length of
 //! the posting lists of their rarest tokens.
@@ -49,6 +54,7 @@ use hashbrown::HashMap;
 use rayon::prelude::*;
 
 use super::distance::{intersection_size, Comparator, PREFIX_WEIGHT};
+use super::words::{by_words_mask, word_pairs, WordCheck};
 use super::{EditLimit, Fuzzy};
 
 /// A pair of values (`a < b`, positions in the input slice) within the
@@ -60,32 +66,64 @@ pub struct Edge {
     pub score: f64,
 }
 
-/// Pairs found, and how many candidate pairs were compared to find them.
+/// Pairs found, how many candidate pairs were compared to find them, and
+/// how many values the word filter searched.
 #[derive(Debug, Clone, Default, PartialEq)]
 pub struct Found {
     pub edges: Vec<Edge>,
     pub compared: u64,
+    pub searched_by_words: u64,
 }
 
 /// Blocks smaller than this are compared pair by pair: an index costs more.
 const SMALL_BLOCK: usize = 48;
 
-/// All pairs of `values` within the method's limit, through the index.
-pub fn similar_pairs(values: &[Vec<char>], method: &Fuzzy) -> Found {
+/// The pairs of `values` within the method's limit, through the index.
+/// With `words` (the values' normalized forms), the pairs between two
+/// values that the word filter searches (see [`super::words`]) are only
+/// those the word check keeps; every other pair within the limit is found.
+pub fn similar_pairs(values: &[Vec<char>], method: &Fuzzy, words: Option<&WordCheck>) -> Found {
+    let by_words = match words {
+        Some(check) => by_words_mask(values, method, check),
+        None => Vec::new(),
+    };
+    let mut parts = Vec::new();
+    if let Some(check) = words.filter(|_| !by_words.is_empty()) {
+        parts.push(word_pairs(values, method, check, &by_words));
+    }
+    parts.push(on_characters(values, method, &by_words));
+    merge(parts)
+}
+
+/// The pairs within the method's limit that have a value not marked in
+/// `by_words` (every pair when it is empty), through the character index.
+fn on_characters(values: &[Vec<char>], method: &Fuzzy, by_words: &[bool]) -> Found {
     if values.len() < SMALL_BLOCK {
-        return all_pairs(values, method);
+        return all_pairs_except(values, method, by_words);
     }
     match method {
-        Fuzzy::Levenshtein(limit) => partition_pairs(values, *limit, false),
-        Fuzzy::Osa(limit) => partition_pairs(values, *limit, true),
+        Fuzzy::Levenshtein(limit) => partition_pairs(values, *limit, false, by_words),
+        Fuzzy::Osa(limit) => partition_pairs(values, *limit, true, by_words),
         Fuzzy::QGram { q, min_similarity } => jaccard_pairs(values, *q, *min_similarity),
-        Fuzzy::JaroWinkler { min_similarity } => jaro_winkler_pairs(values, *min_similarity),
+        Fuzzy::JaroWinkler { min_similarity } => {
+            jaro_winkler_pairs(values, *min_similarity, by_words)
+        }
     }
 }
 
 /// All pairs of `values` within the method's limit, comparing every pair:
 /// the reference the index is checked against.
 pub fn all_pairs(values: &[Vec<char>], method: &Fuzzy) -> Found {
+    all_pairs_except(values, method, &[])
+}
+
+/// Whether a pair is left to the word filter: both values are marked.
+fn both_marked(by_words: &[bool], a: usize, b: usize) -> bool {
+    !by_words.is_empty() && by_words[a] && by_words[b]
+}
+
+/// [`all_pairs`], leaving out the pairs of two values marked in `by_words`.
+fn all_pairs_except(values: &[Vec<char>], method: &Fuzzy, by_words: &[bool]) -> Found {
     let n = values.len();
     let grams: Vec<Vec<u32>> = match method {
         Fuzzy::QGram { q, .. } => GramTable::build(values, *q).sets,
@@ -97,6 +135,9 @@ pub fn all_pairs(values: &[Vec<char>], method: &Fuzzy) -> Found {
             let mut found = Found::default();
             let cmp = method.comparator(&values[a]);
             for b in a + 1..n {
+                if both_marked(by_words, a, b) {
+                    continue;
+                }
                 found.compared += 1;
                 let score = match (&cmp, method) {
                     (Some(c), _) => method.verify(c, &values[a], &values[b]),
@@ -124,6 +165,7 @@ pub(crate) fn merge(parts: Vec<Found>) -> Found {
     let mut out = Found::default();
     for p in parts {
         out.compared += p.compared;
+        out.searched_by_words += p.searched_by_words;
         out.edges.extend(p.edges);
     }
     out.edges.sort_by(|x, y| (x.a, x.b).cmp(&(y.a, y.b)));
@@ -295,7 +337,7 @@ impl BySize {
 
 /// Run `probe` for every value in parallel, each with a scratch "seen"
 /// array, and gather the results in a fixed order.
-fn probe_all<F>(n: usize, probe: F) -> Found
+pub(super) fn probe_all<F>(n: usize, probe: F) -> Found
 where
     F: Fn(u32, &mut Vec<u32>, &mut Found) + Sync,
 {
@@ -356,18 +398,38 @@ fn segment_key(len: usize, tau: usize, segment: usize, chars: impl Iterator<Item
 /// changes both: counting it against the left one, the untouched segment
 /// may still have its first character swapped with the character before
 /// it, so that spelling is looked up too.
-fn partition_pairs(values: &[Vec<char>], limit: EditLimit, osa: bool) -> Found {
+///
+/// A value marked in `by_words` looks only for unmarked partners (the word
+/// filter finds its pairs with marked ones): where a partner length holds
+/// fewer unmarked values than it would make lookups, it compares them
+/// directly.
+fn partition_pairs(values: &[Vec<char>], limit: EditLimit, osa: bool, by_words: &[bool]) -> Found {
+    let marked = |i: usize| !by_words.is_empty() && by_words[i];
+    let mut unmarked_of_len = vec![0u64; values.iter().map(Vec::len).max().unwrap_or(0) + 1];
+    for (i, v) in values.iter().enumerate() {
+        if !marked(i) {
+            unmarked_of_len[v.len()] += 1;
+        }
+    }
     // About (τ + 1)² / 2 lookups per shorter partner length: with long
     // values and a large limit, comparing all pairs is cheaper.
     let lookups: u64 = values
         .iter()
-        .map(|v| {
+        .enumerate()
+        .map(|(i, v)| {
             let lr = v.len();
             (0..=lr)
                 .rev()
                 .map(|ls| (ls, limit.max_edits(ls, lr)))
                 .take_while(|&(ls, tau)| lr - ls <= tau)
-                .map(|(_, tau)| ((tau + 1) * (tau + 2) / 2) as u64)
+                .map(|(ls, tau)| {
+                    let made = segment_lookups(tau);
+                    if marked(i) {
+                        made.min(unmarked_of_len[ls])
+                    } else {
+                        made
+                    }
+                })
                 .sum::<u64>()
         })
         .sum();
@@ -378,10 +440,23 @@ fn partition_pairs(values: &[Vec<char>], limit: EditLimit, osa: bool) -> Found {
         } else {
             Fuzzy::Levenshtein(limit)
         };
-        return all_pairs(values, &method);
+        return all_pairs_except(values, &method, by_words);
     }
     let by_size = BySize::new(values.iter().map(Vec::len).collect());
     let values = by_size.reorder(values);
+    let by_words = if by_words.is_empty() {
+        Vec::new()
+    } else {
+        by_size.reorder(by_words)
+    };
+    let marked = |i: u32| !by_words.is_empty() && by_words[i as usize];
+    // The unmarked values' ids, ascending (so by length too).
+    let unmarked: Vec<u32> = (0..values.len() as u32).filter(|&i| !marked(i)).collect();
+    let unmarked_with_len = |len: usize| {
+        let start = unmarked.partition_point(|&i| by_size.sizes[i as usize] < len);
+        let end = unmarked.partition_point(|&i| by_size.sizes[i as usize] <= len);
+        &unmarked[start..end]
+    };
     let n = values.len();
     let comparator = |v: &[char]| {
         if osa {
@@ -439,8 +514,9 @@ fn partition_pairs(values: &[Vec<char>], limit: EditLimit, osa: bool) -> Found {
         let rv = &values[r as usize];
         let lr = rv.len();
         let cmp = comparator(rv);
+        let r_marked = marked(r);
         let mut check = |s: u32, tau: usize, found: &mut Found| {
-            if s >= r || seen[s as usize] == r {
+            if s >= r || seen[s as usize] == r || (r_marked && marked(s)) {
                 return;
             }
             seen[s as usize] = r;
@@ -460,6 +536,15 @@ fn partition_pairs(values: &[Vec<char>], limit: EditLimit, osa: bool) -> Found {
             }
             if ls == 0 {
                 continue;
+            }
+            if r_marked {
+                let partners = unmarked_with_len(ls);
+                if ls <= tau || partners.len() as u64 <= segment_lookups(tau) {
+                    for &s in partners {
+                        check(s, tau, found);
+                    }
+                    continue;
+                }
             }
             if ls <= tau {
                 // Too short to split: every value of that length.
@@ -489,6 +574,12 @@ fn partition_pairs(values: &[Vec<char>], limit: EditLimit, osa: bool) -> Found {
             }
         }
     })
+}
+
+/// About how many lookups a value makes for one partner length with the
+/// edit limit `tau`.
+fn segment_lookups(tau: usize) -> u64 {
+    ((tau + 1) * (tau + 2) / 2) as u64
 }
 
 // ---------------------------------------------------------------------------
@@ -562,26 +653,47 @@ fn least_matches(tau: f64, la: usize, lb: usize) -> usize {
 /// Jaro-Winkler search gives way to the bigram search.
 pub const EXACT_JARO_BUDGET: u64 = 250_000_000;
 
-fn jaro_winkler_pairs(values: &[Vec<char>], min: f64) -> Found {
+/// The Jaro-Winkler pairs, leaving out those of two values marked in
+/// `by_words` (a marked value probes only the unmarked values' postings).
+fn jaro_winkler_pairs(values: &[Vec<char>], min: f64, by_words: &[bool]) -> Found {
     let by_size = BySize::new(values.iter().map(Vec::len).collect());
     let values = by_size.reorder(values);
+    let marked = if by_words.is_empty() {
+        Vec::new()
+    } else {
+        by_size.reorder(by_words)
+    };
     // Jaro = (m/|a| + m/|b| + (m − t)/m) / 3 >= j needs m/|a| + m/|b| >= tau.
     let tau = 3.0 * least_jaro(min) - 1.0;
     if tau <= 0.0 {
-        return all_pairs(
+        return all_pairs_except(
             &values,
             &Fuzzy::JaroWinkler {
                 min_similarity: min,
             },
+            &marked,
         )
         .remap(&by_size);
     }
     let tokens = occurrence_tokens(&values);
-    if ExactJaro::cost(&tokens, tau) <= EXACT_JARO_BUDGET {
-        ExactJaro::build(tokens, tau).pairs(&JaroSearch::new(&values, &by_size, tau, min, &[]))
+    if ExactJaro::cost(&tokens, tau, &marked) <= EXACT_JARO_BUDGET {
+        ExactJaro::build(tokens, tau, &marked).pairs(&JaroSearch::new(
+            &values,
+            &by_size,
+            tau,
+            min,
+            &[],
+            &marked,
+        ))
     } else {
-        large_jaro_winkler(&values, &by_size, min)
+        large_jaro_winkler(&values, &by_size, min, &marked)
     }
+}
+
+/// The longest partner a value of `len` characters may have at
+/// Jaro-Winkler `min`.
+pub(super) fn jaro_longest_partner(min: f64, len: usize) -> usize {
+    longest_partner(3.0 * least_jaro(min) - 1.0, len)
 }
 
 /// The least Jaro similarity that can reach Jaro-Winkler `s` for two
@@ -601,7 +713,7 @@ fn least_jaro_with_prefix(s: f64, shared: usize) -> f64 {
 /// group is small enough for the exact search. The pairs that differ in
 /// their first character get no bonus, so their Jaro similarity is at
 /// least `s`; the bigram search looks for them among all values.
-fn large_jaro_winkler(values: &[Vec<char>], by_size: &BySize, min: f64) -> Found {
+fn large_jaro_winkler(values: &[Vec<char>], by_size: &BySize, min: f64, marked: &[bool]) -> Found {
     let mut parts: Vec<Found> = Vec::new();
     for shared in (1..=4).rev() {
         let mut groups: HashMap<&[char], Vec<u32>> = HashMap::new();
@@ -610,7 +722,11 @@ fn large_jaro_winkler(values: &[Vec<char>], by_size: &BySize, min: f64) -> Found
                 groups.entry(&v[..shared]).or_default().push(i as u32);
             }
         }
-        let mut groups: Vec<Vec<u32>> = groups.into_values().filter(|g| g.len() > 1).collect();
+        // A group of marked values only has nothing left to find here.
+        let mut groups: Vec<Vec<u32>> = groups
+            .into_values()
+            .filter(|g| g.len() > 1 && !g.iter().all(|&i| is_marked(marked, i)))
+            .collect();
         groups.sort_unstable_by_key(|g| g[0]);
         let jaro = least_jaro_with_prefix(min, shared);
         parts.par_extend(groups.par_iter().map(|group| {
@@ -628,7 +744,12 @@ fn large_jaro_winkler(values: &[Vec<char>], by_size: &BySize, min: f64) -> Found
             } else {
                 Vec::new()
             };
-            let mut found = jaro_at_least(&members, &sizes, jaro, min, false, &next);
+            let member_marks: Vec<bool> = if marked.is_empty() {
+                Vec::new()
+            } else {
+                group.iter().map(|&i| marked[i as usize]).collect()
+            };
+            let mut found = jaro_at_least(&members, &sizes, jaro, min, false, &next, &member_marks);
             for e in &mut found.edges {
                 *e = by_size.edge(group[e.a as usize], group[e.b as usize], e.score);
             }
@@ -639,7 +760,9 @@ fn large_jaro_winkler(values: &[Vec<char>], by_size: &BySize, min: f64) -> Found
         .iter()
         .map(|v| v.first().map_or(u32::MAX, |&c| c as u32))
         .collect();
-    parts.push(jaro_at_least(values, by_size, min, min, true, &first));
+    parts.push(jaro_at_least(
+        values, by_size, min, min, true, &first, marked,
+    ));
     let mut found = merge(parts);
     found.edges.dedup_by_key(|e| (e.a, e.b));
     found
@@ -648,7 +771,8 @@ fn large_jaro_winkler(values: &[Vec<char>], by_size: &BySize, min: f64) -> Found
 /// The pairs of size-ordered `values` whose Jaro similarity reaches `jaro`
 /// and Jaro-Winkler similarity `min`: exactly, unless the exact search
 /// would cost more than [`EXACT_JARO_BUDGET`] (or `large` says the set is
-/// known to be too large), then by the bigram search.
+/// known to be too large), then by the bigram search. Pairs of two values
+/// `marked` are left out.
 fn jaro_at_least(
     values: &[Vec<char>],
     by_size: &BySize,
@@ -656,25 +780,32 @@ fn jaro_at_least(
     min: f64,
     large: bool,
     skip: &[u32],
+    marked: &[bool],
 ) -> Found {
     let tau = 3.0 * jaro - 1.0;
     if tau <= 0.0 {
-        let all = all_pairs(
+        let all = all_pairs_except(
             values,
             &Fuzzy::JaroWinkler {
                 min_similarity: min,
             },
+            marked,
         );
         return all.remap(by_size);
     }
-    let search = JaroSearch::new(values, by_size, tau, min, skip);
+    let search = JaroSearch::new(values, by_size, tau, min, skip, marked);
     if !large {
         let tokens = occurrence_tokens(values);
-        if ExactJaro::cost(&tokens, tau) <= EXACT_JARO_BUDGET {
-            return ExactJaro::build(tokens, tau).pairs(&search);
+        if ExactJaro::cost(&tokens, tau, marked) <= EXACT_JARO_BUDGET {
+            return ExactJaro::build(tokens, tau, marked).pairs(&search);
         }
     }
     jaro_winkler_bigrams(&search)
+}
+
+/// Is value `i` marked (searched by words)?
+fn is_marked(marked: &[bool], i: u32) -> bool {
+    !marked.is_empty() && marked[i as usize]
 }
 
 /// The longest partner a value of length `len` may have as the shorter of
@@ -696,9 +827,15 @@ fn longest_partner(tau: f64, len: usize) -> usize {
 /// prefix as the shorter of a pair (t is least with an equally long
 /// partner) and is indexed with its prefix as the longer one (t is least
 /// with its shortest possible partner).
+///
+/// A value marked as searched by words probes the postings of the unmarked
+/// values only.
 struct ExactJaro {
     tokens: Tokens,
     postings: Vec<Vec<(u32, u16)>>,
+    /// The unmarked values' postings (empty when no value is marked).
+    unmarked_postings: Vec<Vec<(u32, u16)>>,
+    marked: Vec<bool>,
 }
 
 impl ExactJaro {
@@ -714,23 +851,42 @@ impl ExactJaro {
     }
 
     /// Posting entries the probes would visit (ignoring lengths).
-    fn cost(tokens: &Tokens, tau: f64) -> u64 {
+    fn cost(tokens: &Tokens, tau: f64, marked: &[bool]) -> u64 {
         let mut indexed = vec![0u64; tokens.distinct];
-        for list in &tokens.ranks {
+        let mut unmarked = vec![0u64; tokens.distinct];
+        for (v, list) in tokens.ranks.iter().enumerate() {
             for &rank in list.iter().take(Self::index_prefix(tau, list.len())) {
                 indexed[rank as usize] += 1;
+                if !is_marked(marked, v as u32) {
+                    unmarked[rank as usize] += 1;
+                }
             }
         }
         tokens
             .ranks
             .iter()
-            .flat_map(|list| list.iter().take(probe_prefix(tau, list.len())))
-            .map(|&rank| indexed[rank as usize])
+            .enumerate()
+            .map(|(v, list)| {
+                let lists = if is_marked(marked, v as u32) {
+                    &unmarked
+                } else {
+                    &indexed
+                };
+                list.iter()
+                    .take(probe_prefix(tau, list.len()))
+                    .map(|&rank| lists[rank as usize])
+                    .sum::<u64>()
+            })
             .sum()
     }
 
-    fn build(tokens: Tokens, tau: f64) -> ExactJaro {
+    fn build(tokens: Tokens, tau: f64, marked: &[bool]) -> ExactJaro {
         let mut postings: Vec<Vec<(u32, u16)>> = vec![Vec::new(); tokens.distinct];
+        let mut unmarked_postings: Vec<Vec<(u32, u16)>> = if marked.is_empty() {
+            Vec::new()
+        } else {
+            vec![Vec::new(); tokens.distinct]
+        };
         for (v, list) in tokens.ranks.iter().enumerate() {
             for (pos, &rank) in list
                 .iter()
@@ -738,9 +894,17 @@ impl ExactJaro {
                 .enumerate()
             {
                 postings[rank as usize].push((v as u32, pos as u16));
+                if !marked.is_empty() && !marked[v] {
+                    unmarked_postings[rank as usize].push((v as u32, pos as u16));
+                }
             }
         }
-        ExactJaro { tokens, postings }
+        ExactJaro {
+            tokens,
+            postings,
+            unmarked_postings,
+            marked: marked.to_vec(),
+        }
     }
 
     fn pairs(&self, search: &JaroSearch) -> Found {
@@ -750,8 +914,13 @@ impl ExactJaro {
                 return;
             };
             let ranks = &self.tokens.ranks[a as usize];
+            let postings = if is_marked(&self.marked, a) {
+                &self.unmarked_postings
+            } else {
+                &self.postings
+            };
             for (pos, &rank) in ranks.iter().take(probe_prefix(tau, probe.len)).enumerate() {
-                for &(b, bpos) in id_range(&self.postings[rank as usize], probe.lo, probe.hi) {
+                for &(b, bpos) in id_range(&postings[rank as usize], probe.lo, probe.hi) {
                     if seen[b as usize] == a {
                         continue;
                     }
@@ -785,6 +954,8 @@ struct JaroSearch<'a> {
     /// A key per value (or none): pairs with equal keys are left out,
     /// another search finds them.
     skip: &'a [u32],
+    /// Values searched by words (or none): pairs of two are left out.
+    marked: &'a [bool],
 }
 
 /// One value's probe: the ids of its possible longer partners (`lo..hi`),
@@ -806,6 +977,7 @@ impl<'a> JaroSearch<'a> {
         tau: f64,
         min: f64,
         skip: &'a [u32],
+        marked: &'a [bool],
     ) -> Self {
         JaroSearch {
             values,
@@ -816,6 +988,7 @@ impl<'a> JaroSearch<'a> {
             histograms: values.iter().map(|v| char_histogram(v)).collect(),
             max_len: values.last().map_or(0, Vec::len),
             skip,
+            marked,
         }
     }
 
@@ -842,6 +1015,9 @@ impl<'a> JaroSearch<'a> {
     /// give the `needed` matches.
     fn compare(&self, probe: &JaroProbe, b: u32, needed: usize, found: &mut Found) {
         if !self.skip.is_empty() && self.skip[probe.a as usize] == self.skip[b as usize] {
+            return;
+        }
+        if is_marked(self.marked, probe.a) && is_marked(self.marked, b) {
             return;
         }
         let bound = common_upper_bound(
@@ -982,28 +1158,38 @@ impl HitSets {
     }
 }
 
-/// Every value's characters as tokens numbered by occurrence (the second
-/// `e` of a value is another token than its first), ranked by how many
-/// values hold them (0 = rarest), each value's ranks sorted.
-struct Tokens {
-    ranks: Vec<Vec<u32>>,
-    distinct: usize,
+/// Every value's items (characters, words) as tokens numbered by
+/// occurrence (the second `e` of a value is another token than its first),
+/// ranked by how many values hold them (0 = rarest; ties by first
+/// appearance, so the order is fixed), each value's ranks sorted. Shared
+/// tokens count shared items with their repeats.
+pub(super) struct Tokens {
+    pub(super) ranks: Vec<Vec<u32>>,
+    pub(super) distinct: usize,
 }
 
 fn occurrence_tokens(values: &[Vec<char>]) -> Tokens {
-    let mut ids: HashMap<(char, u32), u32> = HashMap::new();
+    occurrence_ranks(values.iter().map(|v| v.iter().copied()))
+}
+
+/// [`Tokens`] of values given as lists of items.
+pub(super) fn occurrence_ranks<T, I>(values: impl Iterator<Item = I>) -> Tokens
+where
+    T: std::hash::Hash + Eq + Copy,
+    I: Iterator<Item = T>,
+{
+    let mut ids: HashMap<(T, u32), u32> = HashMap::new();
     let mut freq: Vec<u32> = Vec::new();
-    let mut seen_in_value: HashMap<char, u32> = HashMap::new();
+    let mut seen_in_value: HashMap<T, u32> = HashMap::new();
     let raw: Vec<Vec<u32>> = values
-        .iter()
-        .map(|v| {
+        .map(|items| {
             seen_in_value.clear();
-            v.iter()
-                .map(|&c| {
-                    let k = seen_in_value.entry(c).or_insert(0);
+            items
+                .map(|item| {
+                    let k = seen_in_value.entry(item).or_insert(0);
                     *k += 1;
                     let next = ids.len() as u32;
-                    let id = *ids.entry((c, *k)).or_insert(next);
+                    let id = *ids.entry((item, *k)).or_insert(next);
                     if id == next {
                         freq.push(0);
                     }
@@ -1138,7 +1324,7 @@ mod tests {
     fn check_exact(method: Fuzzy) {
         let values = vocabulary();
         assert!(values.len() >= SMALL_BLOCK);
-        let indexed = similar_pairs(&values, &method);
+        let indexed = similar_pairs(&values, &method, None);
         let all = all_pairs(&values, &method);
         assert_eq!(indexed.edges, all.edges, "{method:?}");
         assert!(!all.edges.is_empty(), "{method:?} found nothing to compare");
@@ -1193,10 +1379,16 @@ mod tests {
             let method = Fuzzy::JaroWinkler { min_similarity };
             let all = all_pairs(&values, &method).edges;
             let tau = 3.0 * least_jaro(min_similarity) - 1.0;
-            let bigrams =
-                jaro_winkler_bigrams(&JaroSearch::new(&sized, &by_size, tau, min_similarity, &[]))
-                    .edges;
-            let large = large_jaro_winkler(&sized, &by_size, min_similarity).edges;
+            let bigrams = jaro_winkler_bigrams(&JaroSearch::new(
+                &sized,
+                &by_size,
+                tau,
+                min_similarity,
+                &[],
+                &[],
+            ))
+            .edges;
+            let large = large_jaro_winkler(&sized, &by_size, min_similarity, &[]).edges;
             for (name, found) in [("bigrams", &bigrams), ("large", &large)] {
                 let recall = found.len() as f64 / all.len() as f64;
                 println!(
@@ -1264,7 +1456,7 @@ mod tests {
                     min_similarity: 0.88,
                 },
             ] {
-                let indexed = similar_pairs(&values, &method);
+                let indexed = similar_pairs(&values, &method, None);
                 let all = all_pairs(&values, &method);
                 assert_eq!(indexed.edges, all.edges, "seed {seed} {method:?}");
             }

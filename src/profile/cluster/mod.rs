@@ -40,8 +40,11 @@
 //! for the edit distances, q-gram Jaccard, and Jaro-Winkler up to a work
 //! budget; beyond it (hundreds of thousands of values in one block, as with
 //! `--digits loose`) Jaro-Winkler uses a heuristic whose recall is measured
-//! by the benchmark (see docs/cluster.md). The tests compare the index with all
-//! pairs.
+//! by the benchmark (see docs/cluster.md). Between two long values of three
+//! words or more, the edit distances and Jaro-Winkler search through words
+//! first (see [`words`]): exact for the pairs the word check keeps, the
+//! only ones that may group, and blind to the others. The tests compare the
+//! index with all pairs (and the word check).
 //!
 //! ```
 //! use descry::cluster::{cluster, ClusterOptions, Method};
@@ -62,6 +65,7 @@ pub mod map;
 pub mod method;
 pub mod review;
 pub mod text;
+pub mod words;
 
 use std::cmp::Reverse;
 
@@ -360,10 +364,16 @@ pub struct ClusterReport {
     pub normalized_forms: u64,
     /// Pairs of normalized forms compared by the fuzzy method.
     pub pairs_compared: u64,
-    /// Pairs within the threshold (with equal identity runs).
+    /// Pairs within the threshold (with equal identity runs); between two
+    /// forms searched by words, only those whose words agree.
     pub pairs_found: u64,
     /// Of those, the pairs whose words agree (see [`guard`]).
     pub pairs_kept: u64,
+    /// Normalized forms long enough, and of enough words, that the index
+    /// found their pairs with each other through their words (see
+    /// [`words`]): of those pairs, it reports only the kept ones. None with
+    /// `--exhaustive`, which compares every pair.
+    pub forms_searched_by_words: u64,
     pub values_clustered: u64,
     pub rows_clustered: u64,
     pub clusters: Vec<Cluster>,
@@ -488,6 +498,7 @@ pub fn cluster(vocab: &Vocabulary, column: &str, opts: &ClusterOptions) -> Clust
         pairs_compared: found.compared,
         pairs_found: found.edges.len() as u64,
         pairs_kept: kept.iter().filter(|&&k| k).count() as u64,
+        forms_searched_by_words: found.searched_by_words,
         values_clustered: clusters.iter().map(|c| c.members.len() as u64).sum(),
         rows_clustered: clusters.iter().map(|c| c.rows).sum(),
         clusters,
@@ -599,10 +610,15 @@ fn fuzzy_pairs(
         .par_iter()
         .map(|block| {
             let values: Vec<Vec<char>> = block.iter().map(|&i| chars[i as usize].clone()).collect();
+            let texts: Vec<&str> = block.iter().map(|&i| text[i as usize].as_str()).collect();
+            let check = words::WordCheck {
+                texts: &texts,
+                digits: opts.digits,
+            };
             let mut f = if opts.exhaustive {
                 index::all_pairs(&values, method)
             } else {
-                index::similar_pairs(&values, method)
+                index::similar_pairs(&values, method, Some(&check))
             };
             for e in &mut f.edges {
                 let (a, b) = (block[e.a as usize], block[e.b as usize]);

@@ -51,6 +51,13 @@ pub fn cluster_text(r: &ClusterReport, top: usize) -> String {
             thousands(r.pairs_kept)
         );
     }
+    if r.forms_searched_by_words > 0 {
+        let _ = writeln!(
+            out,
+            "{} long values searched by their words: between two of them, only pairs whose words agree are found",
+            thousands(r.forms_searched_by_words)
+        );
+    }
     let _ = writeln!(
         out,
         "clusters {}  holding {} distinct values and {} rows",
