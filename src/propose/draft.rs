@@ -134,7 +134,7 @@ impl Draft {
                 ProposedRule::Flag { .. } => "flags",
                 ProposedRule::Count { .. } => "counts",
                 ProposedRule::Measure { .. } => "measures",
-                ProposedRule::Label { .. } => "labels",
+                ProposedRule::Label { .. } | ProposedRule::Segment { .. } => "labels",
                 ProposedRule::Map { .. } => "canonical spellings",
             };
             if heading != kind {
@@ -258,6 +258,7 @@ impl Draft {
                 }
                 out.push('\n');
             }
+            ProposedRule::Segment { cases } => super::codes::write_segment(out, &p.name, cases),
             ProposedRule::Map { map } => {
                 let _ = writeln!(out, "[[label]]\nname = {name}");
                 let _ = writeln!(out, "[label.map]");

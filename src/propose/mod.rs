@@ -18,7 +18,10 @@
 //!   with the clustering distances: words that are mutually exclusive (a
 //!   value carries one of `manual` / `automatic` / `cvt`, rarely two) become
 //!   one `[[label]]` with a case each; the rest become `[[flag]]`s;
-//! - **near-duplicate values** (token-set clusters) as a label `map`.
+//! - **near-duplicate values** (token-set clusters) as a label `map`;
+//! - in a **code column** ([`codes`]: `PMP-0750-CI`, `pmp.750.ci`), a label
+//!   per letter position of the codes and a `map` joining their spellings;
+//!   the other miners read only the values that are not codes.
 //!
 //! Everything is computed once per distinct value, weighted by rows.
 //!
@@ -39,6 +42,7 @@
 //! assert_eq!(speed.name, "speed");
 //! ```
 
+mod codes;
 mod draft;
 mod markers;
 pub mod units;
@@ -227,6 +231,11 @@ pub enum ProposedRule {
     Map {
         map: Vec<(String, String)>,
     },
+    /// A label of one letter position of a code column: `(label, pattern)`
+    /// cases, no default.
+    Segment {
+        cases: Vec<(String, String)>,
+    },
 }
 
 impl ProposedRule {
@@ -235,7 +244,9 @@ impl ProposedRule {
             ProposedRule::Flag { .. } => "flag",
             ProposedRule::Count { .. } => "count",
             ProposedRule::Measure { .. } => "measure",
-            ProposedRule::Label { .. } | ProposedRule::Map { .. } => "label",
+            ProposedRule::Label { .. }
+            | ProposedRule::Map { .. }
+            | ProposedRule::Segment { .. } => "label",
         }
     }
 
@@ -245,7 +256,7 @@ impl ProposedRule {
             ProposedRule::Flag { .. } => 0,
             ProposedRule::Count { .. } => 1,
             ProposedRule::Measure { .. } => 2,
-            ProposedRule::Label { .. } => 3,
+            ProposedRule::Label { .. } | ProposedRule::Segment { .. } => 3,
             ProposedRule::Map { .. } => 4,
         }
     }
@@ -515,9 +526,18 @@ impl<'a> Corpus<'a> {
 }
 
 fn mine(corpus: &Corpus, column: &str, opts: &ProposeOptions) -> Draft {
-    let words = words::WordIndex::build(corpus);
-    let marks = markers::mine(corpus, &words, opts);
+    // --- code columns (codes.rs): codes are read by position; the miners
+    // below read only the values that are not codes.
+    let codes = codes::read(corpus);
+    let rest = codes.as_ref().map(|c| c.rest(corpus));
+    let mined = rest.as_ref().unwrap_or(corpus);
     let mut proposals = Vec::new();
+    if let Some(codes) = codes.as_ref().filter(|_| opts.kinds.label) {
+        proposals.extend(codes.segment_labels(corpus, column, opts));
+    }
+    // --- end of code columns
+    let words = words::WordIndex::build(mined);
+    let marks = markers::mine(mined, &words, opts);
     if opts.kinds.count {
         proposals.extend(marks.counts);
     }
@@ -526,14 +546,18 @@ fn mine(corpus: &Corpus, column: &str, opts: &ProposeOptions) -> Draft {
     }
     if opts.kinds.flag || opts.kinds.label {
         proposals.extend(words::flags_and_labels(
-            corpus,
+            mined,
             &words,
             &marks.marker_words,
             opts,
         ));
     }
     if opts.kinds.map {
-        proposals.extend(draft::map_from_clusters(corpus, column, opts));
+        let clusters = draft::map_from_clusters(mined, column, opts);
+        proposals.extend(match &codes {
+            Some(codes) => codes.canonical(corpus, clusters, opts),
+            None => clusters,
+        });
     }
 
     // Keep the best supported, then order by kind as a person would write them.
