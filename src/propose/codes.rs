@@ -819,7 +819,7 @@ fn form(corpus: &Corpus, entry: u32) -> String {
 
 /// A label whose cases are patterns, as ruleset text.
 pub(crate) fn write_segment(out: &mut String, name: &str, cases: &[(String, String)]) {
-    let basic = |s: &str| toml_edit::Value::from(s).to_string().trim().to_owned();
+    let basic = super::draft::toml_basic;
     let _ = writeln!(out, "[[label]]\nname = {}", basic(name));
     for (label, pattern) in cases {
         // Patterns are built of ASCII letters, digits and regex syntax, with

@@ -35,7 +35,7 @@ pub struct Overlap {
 /// A one-line TOML basic string (`"..."`) with every control character
 /// escaped: a value or column name holding a newline must not open a
 /// multi-line string or break out of a comment.
-fn toml_basic(s: &str) -> String {
+pub(crate) fn toml_basic(s: &str) -> String {
     let mut out = String::with_capacity(s.len() + 2);
     out.push('"');
     for c in s.chars() {
