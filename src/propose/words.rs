@@ -225,7 +225,7 @@ fn group_name(g: &Group) -> &str {
         .find(|w| {
             !g.spellings
                 .iter()
-                .any(|o| abbreviates(w, o, &none) || initials(o) == **w)
+                .any(|o| abbreviates(w, o, &none) || is_acronym_of(w, o))
         })
         .unwrap_or(&g.spellings[0])
 }
@@ -243,6 +243,33 @@ fn initials(phrase: &str) -> String {
     words.iter().filter_map(|w| w.chars().next()).collect()
 }
 
+/// Whether `short` is the acronym of the phrase `long`: its initials
+/// (`tefc`), or its initials and one letter more for the word the column
+/// leaves out (`dct`, `dual clutch`).
+fn is_acronym_of(short: &str, long: &str) -> bool {
+    let i = initials(long);
+    !i.is_empty() && (i == short || (short.len() == i.len() + 1 && short.starts_with(&i)))
+}
+
+/// Where a phrase was found for an acronym.
+#[derive(Default)]
+struct Found {
+    /// Values holding the phrase.
+    entries: Vec<u32>,
+    /// Of those, values with a twin that has the acronym in the phrase's
+    /// place (`7 speed dual clutch`, `7 speed dct`), or that hold the
+    /// acronym too (`dual clutch (dct)`).
+    twins: usize,
+}
+
+/// Letters and numbers of a value, without the spaces and signs between.
+fn skeleton(value: &str) -> Vec<&str> {
+    runs(value)
+        .filter(|r| matches!(r.class, CharClass::Letter | CharClass::Digit))
+        .map(|r| r.text)
+        .collect()
+}
+
 /// Acronyms and the phrases they stand for: a group whose main spelling is
 /// three to five letters, and a phrase of as many consecutive words of the
 /// column with those initials (`tefc`, `totally enclosed fan cooled`), the
@@ -250,6 +277,15 @@ fn initials(phrase: &str) -> String {
 /// acronym's group; when every word of the phrase belongs to one other group
 /// (words always written together), the acronym's group joins that group,
 /// which is then named after the phrase.
+///
+/// An acronym's last letter often stands for the thing the whole column
+/// describes, which its values leave out (`dct` for `dual clutch`
+/// transmission). A phrase with the initials of all letters but the last
+/// counts only with evidence of context, as initials of two words are
+/// easily shared by chance: at least two of its values (or half of them)
+/// have a twin value with the acronym in the phrase's place, or hold the
+/// acronym as well; and the acronym abbreviates no longer word of the
+/// column (`std` is `standard`, not `synchromesh trans`).
 fn acronym_phrases(corpus: &Corpus, groups: &mut Vec<Group>, min_rows: u64) {
     let acronyms: HashSet<String> = groups
         .iter()
@@ -261,6 +297,29 @@ fn acronym_phrases(corpus: &Corpus, groups: &mut Vec<Group>, min_rows: u64) {
     }
     // Initials -> phrase -> entries.
     let mut found: HashMap<String, HashMap<String, Vec<u32>>> = HashMap::new();
+    // Initials of all letters but the last -> acronyms; not for an acronym
+    // that also abbreviates a longer word of the column (`std`, `standard`).
+    let none = |_: &str| false;
+    let mut shortened: HashMap<String, Vec<&str>> = HashMap::new();
+    for a in &acronyms {
+        let abbreviation = groups
+            .iter()
+            .flat_map(|g| &g.spellings)
+            .any(|w| w.len() > a.len() && !w.contains(' ') && abbreviates(a, w, &none));
+        if !abbreviation {
+            shortened
+                .entry(a[..a.len() - 1].to_owned())
+                .or_default()
+                .push(a);
+        }
+    }
+    // Acronym -> phrase of one word fewer -> where.
+    let mut short_found: HashMap<&str, HashMap<String, Found>> = HashMap::new();
+    let skeletons: HashSet<String> = corpus
+        .normalized
+        .iter()
+        .map(|v| skeleton(v).join(" "))
+        .collect();
     for (e, value) in corpus.normalized.iter().enumerate() {
         let words: Vec<&str> = runs(value)
             .filter(|r| r.class == CharClass::Letter)
@@ -278,19 +337,75 @@ fn acronym_phrases(corpus: &Corpus, groups: &mut Vec<Group>, min_rows: u64) {
                 }
             }
         }
+        let tokens = skeleton(value);
+        for k in 2..=4 {
+            for (i, window) in tokens.windows(k).enumerate() {
+                if !window.iter().all(|t| t.chars().all(char::is_alphabetic)) {
+                    continue;
+                }
+                let key: String = window.iter().filter_map(|w| w.chars().next()).collect();
+                let Some(candidates) = shortened.get(&key) else {
+                    continue;
+                };
+                for &acronym in candidates {
+                    let phrase = window.join(" ");
+                    let f = short_found
+                        .entry(acronym)
+                        .or_default()
+                        .entry(phrase)
+                        .or_default();
+                    if f.entries.last() == Some(&(e as u32)) {
+                        continue;
+                    }
+                    f.entries.push(e as u32);
+                    let twin = [&tokens[..i], &[acronym][..], &tokens[i + k..]]
+                        .concat()
+                        .join(" ");
+                    if tokens.contains(&acronym) || skeletons.contains(&twin) {
+                        f.twins += 1;
+                    }
+                }
+            }
+        }
     }
     let mut a = 0;
     while a < groups.len() {
         let acronym = groups[a].spellings[0].clone();
-        let best = found.get(&acronym).and_then(|phrases| {
-            phrases
-                .iter()
-                .map(|(p, es)| (p, es, corpus.rows_of(es)))
-                .filter(|(_, es, rows)| es.len() >= 2 || *rows >= min_rows)
-                .max_by(|x, y| x.2.cmp(&y.2).then_with(|| y.0.cmp(x.0)))
-                .map(|(p, es, rows)| (p.clone(), es.clone(), rows))
-        });
-        let Some((phrase, entries, rows)) = best else {
+        let supported = |es: &Vec<u32>, rows: u64| es.len() >= 2 || rows >= min_rows;
+        let best = found
+            .get(&acronym)
+            .and_then(|phrases| {
+                phrases
+                    .iter()
+                    .map(|(p, es)| (p, es, corpus.rows_of(es)))
+                    .filter(|(_, es, rows)| supported(es, *rows))
+                    .max_by(|x, y| x.2.cmp(&y.2).then_with(|| y.0.cmp(x.0)))
+                    .map(|(p, es, rows)| {
+                        let note = format!("{acronym:?} is the initials of {p:?} ({rows} rows)");
+                        (p.clone(), es.clone(), note)
+                    })
+            })
+            .or_else(|| {
+                short_found.get(acronym.as_str()).and_then(|phrases| {
+                    phrases
+                        .iter()
+                        .map(|(p, f)| (p, f, corpus.rows_of(&f.entries)))
+                        .filter(|(_, f, rows)| {
+                            supported(&f.entries, *rows)
+                                && (f.twins >= 2 || 2 * f.twins >= f.entries.len())
+                        })
+                        .max_by(|x, y| x.2.cmp(&y.2).then_with(|| y.0.cmp(x.0)))
+                        .map(|(p, f, rows)| {
+                            let note = format!(
+                                "{acronym:?} is the initials of {p:?} and of a word the values leave out \
+                                 ({rows} rows; {} values written both ways)",
+                                f.twins
+                            );
+                            (p.clone(), f.entries.clone(), note)
+                        })
+                })
+            });
+        let Some((phrase, entries, note)) = best else {
             a += 1;
             continue;
         };
@@ -302,7 +417,6 @@ fn acronym_phrases(corpus: &Corpus, groups: &mut Vec<Group>, min_rows: u64) {
                         || groups[h].with.iter().any(|s| s == w)
                 })
         });
-        let note = format!("{acronym:?} is the initials of {phrase:?} ({rows} rows)");
         match home {
             Some(h) => {
                 let g = groups.remove(a);
@@ -752,6 +866,20 @@ mod tests {
             with: Vec::new(),
         };
         assert_eq!(group_name(&g), "totally enclosed fan cooled");
+        // One letter more for the word the values leave out.
+        assert!(is_acronym_of("dct", "dual clutch"));
+        assert!(is_acronym_of("tefc", "totally enclosed fan cooled"));
+        assert!(!is_acronym_of("dc", "dual clutch transmission"));
+        assert!(!is_acronym_of("dcxt", "dual clutch"));
+        assert!(!is_acronym_of("d", "dual"));
+        let g = Group {
+            spellings: vec!["dct".into(), "dual clutch".into()],
+            entries: Vec::new(),
+            rows: 0,
+            grouped: Vec::new(),
+            with: Vec::new(),
+        };
+        assert_eq!(group_name(&g), "dual clutch");
     }
 
     #[test]
