@@ -538,3 +538,73 @@ fn a_column_name_with_a_newline_stays_on_one_line_of_the_draft() {
     let rules = Ruleset::from_toml(&toml, "draft.toml").unwrap();
     assert_eq!(rules.column.as_deref(), Some(column));
 }
+
+#[test]
+fn an_acronym_whose_last_letter_the_values_leave_out_is_one_case_with_its_phrase() {
+    // Gearboxes written `7 speed dct` and `7 speed dual clutch` (invented
+    // values; the `t` of `dct` stands for the transmission itself).
+    let mut values = Vec::new();
+    for g in ["5", "6", "7", "8"] {
+        values.push((format!("{g} speed manual"), 40));
+        values.push((format!("{g} speed automatic"), 40));
+        values.push((format!("{g} speed dual clutch"), 15));
+        values.push((format!("{g}-speed dct"), 25));
+    }
+    let values: Vec<(&str, usize)> = values.iter().map(|(v, n)| (v.as_str(), *n)).collect();
+    let (toml, rules) = draft_of(&values);
+    let family = |value: &str| {
+        read(&rules, value)
+            .into_iter()
+            .find(|(name, _)| name == "family")
+            .map(|(_, cell)| cell)
+    };
+    let dct = family("7-speed dct");
+    assert!(matches!(dct, Some(descry::Cell::Label(_))), "{toml}");
+    assert_eq!(dct, family("6 speed dual clutch"), "{toml}");
+    assert_ne!(dct, family("6 speed manual"), "{toml}");
+    assert!(
+        toml.contains("label = \"dual clutch\""),
+        "the case is named after the phrase:\n{toml}"
+    );
+    assert!(
+        toml.contains("and of a word the values leave out"),
+        "the draft says why:\n{toml}"
+    );
+}
+
+#[test]
+fn a_count_reads_the_other_spellings_of_its_noun_in_the_next_drop() {
+    // Drafted where gears are `N-speed` / `N spd` and cylinders `N cyl`
+    // (invented values); the next drop writes `6 gears`, `8 ratios`,
+    // `5-gear` and `cyl x4`. The spellings are common practice of English
+    // specification sheets. (Numbers stay inside the drafted ranges.)
+    let mut values = Vec::new();
+    for (g, c) in [("4", "2"), ("5", "3"), ("6", "4"), ("8", "6")] {
+        values.push((format!("{g}-speed manual, {c} cyl diesel"), 30));
+        values.push((format!("{g} spd auto, {c} cyl petrol"), 20));
+    }
+    let values: Vec<(&str, usize)> = values.iter().map(|(v, n)| (v.as_str(), *n)).collect();
+    let (toml, rules) = draft_of(&values);
+    let count = |value: &str, name: &str| {
+        read(&rules, value)
+            .into_iter()
+            .find(|(n, _)| n == name)
+            .map(|(_, cell)| cell)
+    };
+    use descry::Cell::Int;
+    assert_eq!(count("6 gears manual", "speed"), Some(Int(6)), "{toml}");
+    assert_eq!(count("5-gear standard", "speed"), Some(Int(5)), "{toml}");
+    assert_eq!(
+        count("8 ratios power shift", "speed"),
+        Some(Int(8)),
+        "{toml}"
+    );
+    assert_eq!(count("turbo, cyl x4, 65hp", "cyl"), Some(Int(4)), "{toml}");
+    assert_eq!(count("diesel Cyl X3", "cyl"), Some(Int(3)), "{toml}");
+    // A number that only stands next to the times sign is no count.
+    assert_eq!(count("6x6 manual", "speed"), None, "{toml}");
+    assert!(
+        toml.contains("also reads the other spellings of this count"),
+        "{toml}"
+    );
+}

@@ -44,6 +44,39 @@ const ALIKE: f64 = 0.8;
 /// Counts are whole numbers up to this; larger numbers are codes or measures.
 const MAX_COUNT: i64 = 999;
 
+/// Spellings of the things people count in descriptions, written after the
+/// number (common practice of English specification sheets). A count whose
+/// markers hold one of them reads the others too, as a measure reads every
+/// spelling of its unit: drafted where gears are written `6-speed`, it
+/// still reads `6 gears` and `19 ratios` in the next drop.
+const COUNT_NOUNS: &[&[&str]] = &[
+    &["speed", "speeds", "spd", "gear", "gears", "ratio", "ratios"],
+    &["cylinder", "cylinders", "cyl", "cyls"],
+    &["phase", "phases"],
+    &["pole", "poles"],
+    &["door", "doors"],
+    &["seat", "seats", "seater"],
+    &["valve", "valves"],
+    &["axle", "axles"],
+    &["wheel", "wheels"],
+    &["blade", "blades"],
+    &["burner", "burners"],
+    &["port", "ports"],
+    &["core", "cores"],
+    &["bedroom", "bedrooms", "bed", "beds"],
+];
+
+/// The count nouns of the sets that hold one of `spellings`, not already
+/// among them.
+fn kindred_count_nouns(spellings: &[&str]) -> Vec<&'static str> {
+    COUNT_NOUNS
+        .iter()
+        .filter(|set| set.iter().any(|n| spellings.contains(n)))
+        .flat_map(|set| set.iter().copied())
+        .filter(|n| !spellings.contains(n))
+        .collect()
+}
+
 /// `{num}` with each decimal mark.
 static NUMBER_POINT: LazyLock<Regex> =
     LazyLock::new(|| Regex::new(&Macro::Num.expansion(DecimalMark::Point)).expect("number regex"));
@@ -674,6 +707,17 @@ fn alternative(mark: &Mark, spellings: &[&str]) -> String {
     }
 }
 
+/// A counted noun written before its number with a times sign: `cyl x4`,
+/// `seats × 5` (common practice).
+fn times_alternative(spellings: &[&str]) -> String {
+    let alt = spellings
+        .iter()
+        .map(|s| regex::escape(s))
+        .collect::<Vec<_>>()
+        .join("|");
+    format!(r"(?:^|[^\p{{L}}])(?:{alt})\.?\s?[x×]\s?({{count}})(?:[^\d.,]|[.,]\D|[.,]?$)")
+}
+
 fn count_proposal(corpus: &Corpus, node: &Node, opts: &ProposeOptions) -> Proposal {
     let mut after: Vec<&str> = Vec::new();
     let mut before: Vec<&str> = Vec::new();
@@ -687,6 +731,9 @@ fn count_proposal(corpus: &Corpus, node: &Node, opts: &ProposeOptions) -> Propos
             _ => others.push(m),
         }
     }
+    let all: Vec<&str> = after.iter().chain(&before).chain(&ahead).copied().collect();
+    let kindred = kindred_count_nouns(&all);
+    after.extend(kindred.iter().copied());
     // Longest spellings first, so `speed` is tried before `sp`.
     for list in [&mut after, &mut before, &mut ahead] {
         list.sort_by(|a, b| b.len().cmp(&a.len()).then_with(|| a.cmp(b)));
@@ -694,6 +741,15 @@ fn count_proposal(corpus: &Corpus, node: &Node, opts: &ProposeOptions) -> Propos
     let mut parts = Vec::new();
     if !after.is_empty() {
         parts.push(alternative(&Mark::After(String::new()), &after));
+        // The same nouns before the number with a times sign (`cyl x4`).
+        let nouns: Vec<&str> = after
+            .iter()
+            .copied()
+            .filter(|w| w.chars().count() >= 3)
+            .collect();
+        if !nouns.is_empty() {
+            parts.push(times_alternative(&nouns));
+        }
     }
     if !before.is_empty() {
         parts.push(alternative(&Mark::Before(String::new()), &before));
@@ -730,6 +786,12 @@ fn count_proposal(corpus: &Corpus, node: &Node, opts: &ProposeOptions) -> Propos
     let mut shown: Vec<String> = node.marks.iter().map(describe).collect();
     shown.sort();
     notes.push(format!("markers: {}", shown.join(", ")));
+    if !kindred.is_empty() {
+        notes.push(format!(
+            "also reads the other spellings of this count (common practice): {}",
+            kindred.join(", ")
+        ));
+    }
     Proposal {
         name,
         rule: ProposedRule::Count {
@@ -1243,6 +1305,20 @@ fn short(x: f64) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_count_noun_brings_its_other_spellings() {
+        let k = kindred_count_nouns(&["spd", "speed"]);
+        for w in ["gear", "gears", "ratios"] {
+            assert!(k.contains(&w), "{w} in {k:?}");
+        }
+        assert!(!k.contains(&"speed") && !k.contains(&"cyl"), "{k:?}");
+        assert!(kindred_count_nouns(&["fwd", "rev"]).is_empty());
+        let times = Regex::new(&times_alternative(&["cyl"]).replace("{count}", r"\d+")).unwrap();
+        assert_eq!(&times.captures("turbo, cyl x4, 65hp").unwrap()[1], "4");
+        assert_eq!(&times.captures("cyl × 6").unwrap()[1], "6");
+        assert!(!times.is_match("bicycle x4"));
+    }
 
     #[test]
     fn numbers_are_read_with_the_rulesets_decimal_mark() {
