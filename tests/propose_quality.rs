@@ -47,7 +47,7 @@ struct Scores {
     coverage: f64,
     numeric: Vec<(String, String, f64)>,
     family: Vec<(String, String, f64)>,
-    /// Disagreements of the best numeric rules, most rows first.
+    /// Disagreements of the best rules, most rows first.
     notes: Vec<String>,
 }
 
@@ -120,6 +120,7 @@ fn score<F>(
     }
     for (attr, get) in family {
         let mut best = ("(none)".to_owned(), 0.0);
+        let mut best_wrong: Vec<(u64, String)> = Vec::new();
         for (f, feature) in rules.features.iter().enumerate() {
             if !matches!(feature.rule, Rule::Label(_)) {
                 continue;
@@ -147,7 +148,36 @@ fn score<F>(
             let share = agree as f64 / rows.max(1) as f64;
             if share > best.1 {
                 best = (feature.name.clone(), share);
+                // The true family each category is read as.
+                let mut read_as: BTreeMap<Option<u32>, (u64, &str)> = BTreeMap::new();
+                for ((c, t), n) in &together {
+                    let e = read_as.entry(*c).or_insert((0, t));
+                    if *n > e.0 {
+                        *e = (*n, t);
+                    }
+                }
+                best_wrong.clear();
+                for (v, value) in vocab.values.iter().enumerate() {
+                    let Some(t) = truth[value].features.as_ref().and_then(get) else {
+                        continue;
+                    };
+                    let c = match cell(v, f) {
+                        Cell::Label(c) => Some(c),
+                        _ => None,
+                    };
+                    let read = read_as[&c].1;
+                    if read != t {
+                        best_wrong.push((
+                            vocab.counts[v],
+                            format!("{value:?}: true {t}, read as {read}"),
+                        ));
+                    }
+                }
             }
+        }
+        best_wrong.sort_by(|a, b| b.0.cmp(&a.0).then_with(|| a.1.cmp(&b.1)));
+        for (n, w) in best_wrong.iter().take(8) {
+            scores.notes.push(format!("{attr}: {n} rows {w}"));
         }
         scores.family.push((attr.to_string(), best.0, best.1));
     }
