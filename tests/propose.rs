@@ -608,3 +608,40 @@ fn a_count_reads_the_other_spellings_of_its_noun_in_the_next_drop() {
         "{toml}"
     );
 }
+
+#[test]
+fn the_columns_own_noun_and_a_bare_prefix_are_no_flags() {
+    // A gearbox column (invented values) that writes `trans` and `non
+    // synchro`: `trans` names what every value describes, `non` means
+    // nothing alone, `non synchro` does.
+    let mut rows = Vec::new();
+    for (value, n) in [
+        ("6 speed manual trans", 40),
+        ("8 speed automatic trans", 30),
+        ("6 speed manual", 30),
+        ("hydrostatic", 30),
+        ("4 speed non synchro manual", 20),
+        ("5 speed non-synchro", 15),
+        ("12 speed synchro shuttle", 25),
+        ("cvt", 25),
+    ] {
+        rows.extend(std::iter::repeat_n(Some(value), n));
+    }
+    let vocab = descry::Vocabulary::build(rows);
+    let opts = descry::propose::ProposeOptions::default();
+    let draft = descry::propose::propose(&vocab, "Transmission", &opts).unwrap();
+    let toml = draft.to_toml();
+    let names: Vec<&str> = draft.proposals.iter().map(|p| p.name.as_str()).collect();
+    assert!(!names.contains(&"trans"), "{names:?}\n{toml}");
+    assert!(!names.contains(&"non"), "{names:?}\n{toml}");
+    assert!(names.contains(&"non_synchro"), "{names:?}\n{toml}");
+    let rules = descry::Ruleset::from_toml(&toml, "draft.toml").unwrap();
+    let non_synchro = |value: &str| {
+        read(&rules, value)
+            .into_iter()
+            .any(|(name, cell)| name == "non_synchro" && cell == descry::Cell::Bool(true))
+    };
+    assert!(non_synchro("5 speed non-synchro"), "{toml}");
+    assert!(non_synchro("4 speed non synchro manual"), "{toml}");
+    assert!(!non_synchro("12 speed synchro shuttle"), "{toml}");
+}

@@ -549,6 +549,7 @@ fn mine(corpus: &Corpus, column: &str, opts: &ProposeOptions) -> Draft {
             mined,
             &words,
             &marks.marker_words,
+            column,
             opts,
         ));
     }

@@ -441,11 +441,129 @@ fn acronym_phrases(corpus: &Corpus, groups: &mut Vec<Group>, min_rows: u64) {
     }
 }
 
+/// Words of a column's name that say what the column holds rather than
+/// what it describes (common practice of naming columns).
+const ROLE_WORDS: &[&str] = &[
+    "type",
+    "types",
+    "name",
+    "names",
+    "desc",
+    "descr",
+    "description",
+    "code",
+    "codes",
+    "value",
+    "values",
+    "text",
+    "field",
+    "raw",
+    "col",
+    "column",
+    "str",
+    "info",
+    "kind",
+    "class",
+    "category",
+    "spec",
+    "specs",
+    "data",
+    "label",
+    "id",
+];
+
+/// The words of a column's name that name the thing every value describes
+/// (`transmission`, `engine`; not `type` or `desc`).
+fn subject_words(column: &str) -> Vec<String> {
+    column
+        .split(|c: char| !c.is_alphabetic())
+        .map(str::to_lowercase)
+        .filter(|w| w.chars().count() >= 3 && !ROLE_WORDS.contains(&w.as_str()))
+        .collect()
+}
+
+/// Whether a spelling names the column's own subject: one of its words, its
+/// plural, or an abbreviation of it (`trans` in a `transmission` column).
+/// Such a word is on (nearly) every value in spirit, so it tells nothing.
+fn names_subject(spelling: &str, subject: &[String]) -> bool {
+    let none = |_: &str| false;
+    !spelling.contains([' ', '-', '/'])
+        && subject.iter().any(|w| {
+            spelling == w
+                || plural(w, spelling)
+                || (spelling.chars().count() >= 3 && abbreviates(spelling, w, &none))
+        })
+}
+
+/// English prefixes written as words of their own (`non synchro`, `semi
+/// automatic`, `self propelled`): alone they mean nothing (common practice
+/// of English word formation).
+const PREFIX_WORDS: &[&str] = &[
+    "non", "semi", "pre", "post", "anti", "multi", "sub", "self", "half", "quasi", "pseudo", "mid",
+];
+
+/// Flags for a prefix word with each word it is written before (`non
+/// synchro` and `non-synchro` give `non_synchro`), on at least `min_rows`.
+fn prefix_phrase_flags(
+    corpus: &Corpus,
+    index: &WordIndex,
+    g: &Group,
+    min_rows: u64,
+    opts: &ProposeOptions,
+) -> Vec<Proposal> {
+    // Second word -> spellings of the phrase and their entries.
+    let mut by_next: HashMap<&str, (Vec<String>, Vec<u32>)> = HashMap::new();
+    for (phrase, entries) in &index.phrases {
+        let Some((first, next)) = phrase.split_once([' ', '-']) else {
+            continue;
+        };
+        if !g.spellings.iter().any(|s| s == first) || next.chars().count() < 2 {
+            continue;
+        }
+        let e = by_next.entry(next).or_default();
+        e.0.push(phrase.clone());
+        e.1 = union(&e.1, entries);
+    }
+    let mut out: Vec<Proposal> = by_next
+        .into_iter()
+        .filter_map(|(next, (mut spellings, mut entries))| {
+            for s in &g.spellings {
+                if let Some(glued) = index.words.get(&format!("{s}{next}")) {
+                    spellings.push(format!("{s}{next}"));
+                    entries = union(&entries, glued);
+                }
+            }
+            let rows = corpus.rows_of(&entries);
+            (rows >= min_rows).then(|| {
+                spellings.sort_by(|a, b| a.len().cmp(&b.len()).then_with(|| a.cmp(b)));
+                let name = format!("{} {next}", group_name(g));
+                Proposal {
+                    name: rule_name(&name),
+                    rule: ProposedRule::Flag {
+                        any: spellings,
+                        pattern: None,
+                    },
+                    distinct: entries.len() as u64,
+                    rows,
+                    examples: corpus.examples(&entries, opts.examples),
+                    notes: vec![format!(
+                        "{:?} is a prefix that means nothing alone: one flag per word it is written before",
+                        group_name(g)
+                    )],
+                }
+            })
+        })
+        .collect();
+    out.sort_by(|a, b| b.rows.cmp(&a.rows).then_with(|| a.name.cmp(&b.name)));
+    out
+}
+
 /// Flags and labels from the words that are not number markers.
 pub(crate) fn flags_and_labels(
     corpus: &Corpus,
     index: &WordIndex,
     marker_words: &HashSet<String>,
+    column: &str,
     opts: &ProposeOptions,
 ) -> Vec<Proposal> {
     let total = corpus.total_rows.max(1) as f64;
@@ -453,9 +571,25 @@ pub(crate) fn flags_and_labels(
     let max_rows = (opts.max_share * total).floor() as u64;
     let mut groups = word_groups(corpus, index, marker_words, min_rows);
     acronym_phrases(corpus, &mut groups, min_rows);
+    // Words that name the column's own subject, and prefixes alone, are no
+    // flag and no kind.
+    let subject = subject_words(column);
+    let mut own: Vec<String> = Vec::new();
+    let mut prefixes: Vec<Group> = Vec::new();
     let mut groups: Vec<Group> = groups
         .into_iter()
         .filter(|g| g.rows >= min_rows && g.rows <= max_rows)
+        .filter_map(|g| {
+            if g.spellings.iter().any(|s| names_subject(s, &subject)) {
+                own.extend(g.spellings.iter().cloned());
+                None
+            } else if PREFIX_WORDS.contains(&group_name(&g)) {
+                prefixes.push(g);
+                None
+            } else {
+                Some(g)
+            }
+        })
         .collect();
     groups.sort_by(|a, b| {
         b.rows
@@ -471,10 +605,20 @@ pub(crate) fn flags_and_labels(
         if let Some(family) = exclusive_family(corpus, &groups) {
             let mut members: Vec<Group> = family.iter().rev().map(|&i| groups.remove(i)).collect();
             members.reverse();
-            out.push(label_proposal(corpus, &members, opts));
+            let mut label = label_proposal(corpus, &members, opts);
+            if !own.is_empty() {
+                label.notes.push(format!(
+                    "words that name the column's own subject are no case: {}",
+                    own.join(", ")
+                ));
+            }
+            out.push(label);
         }
     }
     if opts.kinds.flag {
+        for g in &prefixes {
+            out.extend(prefix_phrase_flags(corpus, index, g, min_rows, opts));
+        }
         for g in &groups {
             out.push(Proposal {
                 name: rule_name(group_name(g)),
@@ -880,6 +1024,20 @@ mod tests {
             with: Vec::new(),
         };
         assert_eq!(group_name(&g), "dual clutch");
+    }
+
+    #[test]
+    fn the_columns_own_noun_is_found_in_its_name() {
+        assert_eq!(subject_words("transmission_type"), ["transmission"]);
+        assert_eq!(subject_words("Engine Desc"), ["engine"]);
+        assert!(subject_words("id").is_empty());
+        let subject = subject_words("transmission");
+        for w in ["transmission", "transmissions", "trans"] {
+            assert!(names_subject(w, &subject), "{w}");
+        }
+        for w in ["tr", "manual", "trans shift", "tractor"] {
+            assert!(!names_subject(w, &subject), "{w}");
+        }
     }
 
     #[test]
