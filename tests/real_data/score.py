@@ -127,6 +127,51 @@ def score_words(proposals, name):
     return {"flags": judge(flags), "label_cases": judge(cases)}
 
 
+def abbreviation(short, long):
+    """Whether `short` abbreviates `long`: a prefix of it at least two letters
+    shorter (not a singular: `print` / `prints`), or from three letters a
+    subsequence with the same first letter that drops the vowels (`mgr`)."""
+    if len(short) >= len(long) or short[:1] != long[:1]:
+        return False
+    if long.startswith(short):
+        return len(long) - len(short) >= 2 and long not in (short + "s", short + "es")
+    rest = iter(long)
+    return (len(short) >= 3 and not any(c in "aeiou" for c in short[1:])
+            and all(c in rest for c in short))
+
+
+def rarer_names(proposals, name, csv_path, column):
+    """Flags and label cases named after a rarer spelling of their word.
+
+    A name is rarer when a spelling of its list that the word truth puts in
+    the same group is on more rows of the column and does not abbreviate
+    the name (`manager` may name a list where `mgr` is more frequent;
+    `manger` may not name one that holds `manager`).
+    """
+    path = truth_path(name, "words")
+    if not os.path.exists(path):
+        return None
+    group_of = {row["word"]: row["group"] for row in read_truth_csv(path)}
+    rows = {}
+    with open(csv_path, newline="", encoding="utf-8") as f:
+        for row in csv.DictReader(f):
+            for w in set(words_of(row[column] or "")):
+                rows[w] = rows.get(w, 0) + 1
+    named = [(p["name"], p["rule"]["any"]) for p in proposals if p["rule"]["kind"] == "flag"]
+    named += [(label, spellings) for p in proposals if p["rule"]["kind"] == "label" and "cases" in p["rule"]
+              for label, spellings in p["rule"]["cases"]]
+    found = []
+    for title, spellings in named:
+        title = title.lower()
+        if title not in group_of:
+            continue
+        for s in {s.lower() for s in spellings if words_of(s) == [s.lower()]}:
+            if (s != title and group_of.get(s) == group_of[title]
+                    and rows.get(s, 0) > rows.get(title, 0) and not abbreviation(s, title)):
+                found.append(f"{title} ({rows.get(title, 0)} rows) over {s} ({rows.get(s, 0)} rows)")
+    return sorted(found)
+
+
 def measure_rules(proposals, quantity):
     """Output names and unit factors (to the truth's unit) of the draft's measures of a quantity."""
     table = TO_TRUTH_UNIT[quantity]
@@ -201,6 +246,7 @@ def score_propose(descry, csv_path, column, name, workdir):
         "counts": len(counts),
         "single_value_counts": [p["name"] for p in counts if p["rule"]["range"][0] == p["rule"]["range"][1]],
         "words": score_words(proposals, name),
+        "rarer_names": rarer_names(proposals, name, csv_path, column),
         "readings": score_readings(descry, name, column, draft_path, draft["prefix"], proposals, workdir),
     }
 
@@ -249,7 +295,8 @@ def print_propose(results):
         case_cell = "-" if words is None else f"{words['label_cases']['same_word']}/{words['label_cases']['pairs']}"
         print(f"{name:<14} rules {p['rules']:>3}  coverage {pct(p['row_share'])}  "
               f"counts {p['counts']:>2} (single value {len(p['single_value_counts'])})  "
-              f"same-word pairs: flags {flag_cell:>7}  label cases {case_cell:>7}")
+              f"same-word pairs: flags {flag_cell:>7}  label cases {case_cell:>7}  "
+              f"named after a rarer spelling {'-' if p['rarer_names'] is None else len(p['rarer_names'])}")
     for name, r in results.items():
         for quantity, q in sorted((r["propose"]["readings"] or {}).items()):
             print(f"{name:<14} {quantity} readings: {q['correct']}/{q['known']} values with a known reading, "
