@@ -16,7 +16,6 @@ mod common;
 use std::collections::BTreeSet;
 
 use common::*;
-use tempfile::TempDir;
 
 const METHODS: [&str; 6] = [
     "letters",
@@ -82,26 +81,7 @@ fn missed_pairs(score: &serde_json::Value) -> BTreeSet<(String, String)> {
 
 #[test]
 fn cluster_on_real_columns_keeps_its_floors() {
-    let dir = TempDir::new().unwrap();
-    let json = dir.path().join("scores.json");
-    let descry = assert_cmd::cargo::cargo_bin("descry");
-    let out = std::process::Command::new(python())
-        .arg(root().join("tests/real_data/score.py"))
-        .arg(&descry)
-        .arg(dir.path().join("columns"))
-        .args(["--only", "cluster", "--json"])
-        .arg(&json)
-        .output()
-        .expect("python runs");
-    let printed = format!(
-        "{}{}",
-        String::from_utf8_lossy(&out.stdout),
-        String::from_utf8_lossy(&out.stderr)
-    );
-    println!("{printed}");
-    assert!(out.status.success(), "score.py failed:\n{printed}");
-    let scores: serde_json::Value =
-        serde_json::from_str(&std::fs::read_to_string(&json).unwrap()).unwrap();
+    let scores = real_data_scores("cluster");
 
     let mut failures = Vec::new();
     for (column, precision_floors, recall_floors) in FLOORS {

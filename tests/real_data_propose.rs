@@ -42,35 +42,13 @@ const SPELLING_PRECISION: f64 = 0.96;
 const HEIGHT_READ: f64 = 0.96;
 const HEIGHT_WRITTEN_READ: f64 = 0.97;
 
-fn score() -> serde_json::Value {
-    let dir = TempDir::new().unwrap();
-    let json = dir.path().join("scores.json");
-    let descry = assert_cmd::cargo::cargo_bin("descry");
-    let out = std::process::Command::new(python())
-        .arg(root().join("tests/real_data/score.py"))
-        .arg(&descry)
-        .arg(dir.path().join("columns"))
-        .args(["--only", "propose", "--json"])
-        .arg(&json)
-        .output()
-        .expect("python runs");
-    let printed = format!(
-        "{}{}",
-        String::from_utf8_lossy(&out.stdout),
-        String::from_utf8_lossy(&out.stderr)
-    );
-    println!("{printed}");
-    assert!(out.status.success(), "score.py failed:\n{printed}");
-    serde_json::from_str(&std::fs::read_to_string(&json).unwrap()).unwrap()
-}
-
 fn share(part: &serde_json::Value, whole: &serde_json::Value) -> f64 {
     part.as_f64().unwrap() / whole.as_f64().unwrap().max(1.0)
 }
 
 #[test]
 fn propose_on_real_columns_keeps_its_floors() {
-    let scores = score();
+    let scores = real_data_scores("propose");
     let mut failures = Vec::new();
     let (mut same, mut pairs) = (0, 0);
     for (column, coverage, different) in FLOORS {

@@ -141,3 +141,28 @@ pub fn run_python(script: &str, args: &[&str]) -> String {
     );
     text
 }
+
+/// Run tests/real_data/score.py `--only PART` (`cluster` or `propose`) on
+/// the real-data columns with the reference interpreter and this build of
+/// descry; prints its table and returns its JSON scores.
+pub fn real_data_scores(part: &str) -> serde_json::Value {
+    let dir = tempfile::TempDir::new().unwrap();
+    let json = dir.path().join("scores.json");
+    let descry = assert_cmd::cargo::cargo_bin("descry");
+    let out = std::process::Command::new(python())
+        .arg(root().join("tests/real_data/score.py"))
+        .arg(&descry)
+        .arg(dir.path().join("columns"))
+        .args(["--only", part, "--json"])
+        .arg(&json)
+        .output()
+        .expect("python runs");
+    let printed = format!(
+        "{}{}",
+        String::from_utf8_lossy(&out.stdout),
+        String::from_utf8_lossy(&out.stderr)
+    );
+    println!("{printed}");
+    assert!(out.status.success(), "score.py failed:\n{printed}");
+    serde_json::from_str(&std::fs::read_to_string(&json).unwrap()).unwrap()
+}
