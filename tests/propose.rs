@@ -645,3 +645,62 @@ fn the_columns_own_noun_and_a_bare_prefix_are_no_flags() {
     assert!(non_synchro("4 speed non synchro manual"), "{toml}");
     assert!(!non_synchro("12 speed synchro shuttle"), "{toml}");
 }
+
+#[test]
+fn acronyms_written_with_periods_or_slashes_join_their_phrase() {
+    // Motor enclosures and gearboxes (invented values) that write one
+    // acronym three ways: `tefc`, `t.e.f.c.` and the phrase; `a/t` and
+    // `automatic transmission`.
+    let family_of = |values: &[(&str, usize)], a: &str, b: &str, c: Option<&str>| {
+        let (toml, rules) = draft_of(values);
+        let family = |value: &str| {
+            read(&rules, value)
+                .into_iter()
+                .find(|(name, _)| name == "family")
+                .map(|(_, cell)| cell)
+        };
+        let fa = family(a);
+        assert!(matches!(fa, Some(descry::Cell::Label(_))), "{a}\n{toml}");
+        assert_eq!(fa, family(b), "{a} / {b}\n{toml}");
+        if let Some(c) = c {
+            assert_eq!(fa, family(c), "{a} / {c}\n{toml}");
+        }
+        toml
+    };
+    let motors = [
+        ("5 hp tefc", 40),
+        ("7.5 hp tefc", 30),
+        ("5 hp t.e.f.c.", 20),
+        ("10 hp totally enclosed fan cooled", 25),
+        ("5 hp odp", 40),
+        ("10 hp odp", 30),
+        ("5 hp explosion proof", 30),
+        ("2 hp washdown", 30),
+    ];
+    let toml = family_of(
+        &motors,
+        "3 hp t.e.f.c.",
+        "3 hp tefc",
+        Some("3 hp totally enclosed fan cooled"),
+    );
+    assert!(
+        toml.contains("label = \"totally enclosed fan cooled\""),
+        "{toml}"
+    );
+    let gearboxes = [
+        ("4 speed a/t", 30),
+        ("5 speed a/t", 30),
+        ("6 speed automatic transmission", 25),
+        ("5 speed automatic transmission", 25),
+        ("6 speed manual", 50),
+        ("5 speed manual", 40),
+        ("cvt", 40),
+        ("hydrostatic", 40),
+    ];
+    family_of(
+        &gearboxes,
+        "4 speed a/t",
+        "6 speed automatic transmission",
+        None,
+    );
+}

@@ -92,6 +92,23 @@ fn words_of(value: &str) -> (Vec<String>, Vec<String>) {
                 _ => {}
             }
         }
+        // `t.e.f.c.`: single letters joined by periods are one word, with
+        // its periods (the first letter of the run starts it).
+        let dot = |k: usize| runs.get(k).is_some_and(|r| r.text == ".");
+        let single_at = |k: usize| letter(k).is_some_and(|r| r.text.chars().count() == 1);
+        if single && dot(i + 1) && single_at(i + 2) && !(i >= 2 && dot(i - 1) && single_at(i - 2)) {
+            let mut k = i;
+            let mut word = String::new();
+            while single_at(k) {
+                word.push_str(runs[k].text);
+                if !dot(k + 1) {
+                    break;
+                }
+                word.push('.');
+                k += 2;
+            }
+            words.push(word);
+        }
         words.push(r.text.to_owned());
         if let (Some(sep), Some(next)) = (runs.get(i + 1), letter(i + 2)) {
             if sep.text == " " || sep.text == "-" {
@@ -258,7 +275,25 @@ fn initials(phrase: &str) -> String {
 /// leaves out (`dct`, `dual clutch`).
 fn is_acronym_of(short: &str, long: &str) -> bool {
     let i = initials(long);
+    let short = letters(short);
     !i.is_empty() && (i == short || (short.len() == i.len() + 1 && short.starts_with(&i)))
+}
+
+/// The initials an acronym stands for: three to five letters (`tefc`), or
+/// two to five single letters written with periods or slashes (`a/t`,
+/// `h.s.t.`), whose letters count.
+fn acronym_key(spelling: &str) -> Option<String> {
+    let plain = |w: &str| w.bytes().all(|b| b.is_ascii_lowercase());
+    if (3..=5).contains(&spelling.len()) && plain(spelling) {
+        return Some(spelling.to_owned());
+    }
+    let key = letters(spelling);
+    let marked = spelling.contains(['.', '/'])
+        && spelling
+            .split(['.', '/'])
+            .filter(|p| !p.is_empty())
+            .all(|p| p.len() == 1 && plain(p));
+    (marked && (2..=5).contains(&key.len())).then_some(key)
 }
 
 /// Where a phrase was found for an acronym.
@@ -286,7 +321,8 @@ fn skeleton(value: &str) -> Vec<&str> {
 /// one with the most rows, found in at least two rows. The phrase joins the
 /// acronym's group; when every word of the phrase belongs to one other group
 /// (words always written together), the acronym's group joins that group,
-/// which is then named after the phrase.
+/// which is then named after the phrase. Words naming the column's own
+/// subject do not count here (`a/t`, `auto trans`: `auto`).
 ///
 /// An acronym's last letter often stands for the thing the whole column
 /// describes, which its values leave out (`dct` for `dual clutch`
@@ -296,11 +332,39 @@ fn skeleton(value: &str) -> Vec<&str> {
 /// have a twin value with the acronym in the phrase's place, or hold the
 /// acronym as well; and the acronym abbreviates no longer word of the
 /// column (`std` is `standard`, not `synchromesh trans`).
-fn acronym_phrases(corpus: &Corpus, groups: &mut Vec<Group>, min_rows: u64) {
+fn acronym_phrases(corpus: &Corpus, groups: &mut Vec<Group>, subject: &[String], min_rows: u64) {
+    // One acronym written with and without periods is one group (`tefc`,
+    // `t.e.f.c.`): the marked spelling joins the plain one.
+    let mut a = 0;
+    while a < groups.len() {
+        let spelling = &groups[a].spellings[0];
+        let plain = spelling.contains(['.', '/'])
+            && acronym_key(spelling).is_some_and(|key| {
+                groups
+                    .iter()
+                    .position(|g| g.spellings[0] == key)
+                    .is_some_and(|h| {
+                        let g = groups.remove(a);
+                        let h = if h > a { h - 1 } else { h };
+                        let target = &mut groups[h];
+                        target.grouped.push(format!(
+                            "{:?} is {:?} written with periods or slashes",
+                            g.spellings[0], target.spellings[0]
+                        ));
+                        target.spellings.extend(g.spellings);
+                        target.entries = union(&target.entries, &g.entries);
+                        target.rows = corpus.rows_of(&target.entries);
+                        true
+                    })
+            });
+        if !plain {
+            a += 1;
+        }
+    }
+    // Initials looked for: the acronym's letters (`a/t` looks for `at`).
     let acronyms: HashSet<String> = groups
         .iter()
-        .map(|g| g.spellings[0].clone())
-        .filter(|w| (3..=5).contains(&w.len()) && w.bytes().all(|b| b.is_ascii_lowercase()))
+        .filter_map(|g| acronym_key(&g.spellings[0]))
         .collect();
     if acronyms.is_empty() {
         return;
@@ -311,7 +375,7 @@ fn acronym_phrases(corpus: &Corpus, groups: &mut Vec<Group>, min_rows: u64) {
     // that also abbreviates a longer word of the column (`std`, `standard`).
     let none = |_: &str| false;
     let mut shortened: HashMap<String, Vec<&str>> = HashMap::new();
-    for a in &acronyms {
+    for a in acronyms.iter().filter(|a| a.len() >= 3) {
         let abbreviation = groups
             .iter()
             .flat_map(|g| &g.spellings)
@@ -335,8 +399,12 @@ fn acronym_phrases(corpus: &Corpus, groups: &mut Vec<Group>, min_rows: u64) {
             .filter(|r| r.class == CharClass::Letter)
             .map(|r| r.text)
             .collect();
-        for k in 3..=5 {
+        for k in 2..=5 {
             for window in words.windows(k) {
+                // A phrase's words are words, not the acronym's own letters.
+                if window.iter().any(|w| w.chars().nth(1).is_none()) {
+                    continue;
+                }
                 let key: String = window.iter().filter_map(|w| w.chars().next()).collect();
                 if acronyms.contains(&key) {
                     let phrase = window.join(" ");
@@ -350,7 +418,10 @@ fn acronym_phrases(corpus: &Corpus, groups: &mut Vec<Group>, min_rows: u64) {
         let tokens = skeleton(value);
         for k in 2..=4 {
             for (i, window) in tokens.windows(k).enumerate() {
-                if !window.iter().all(|t| t.chars().all(char::is_alphabetic)) {
+                if !window
+                    .iter()
+                    .all(|t| t.chars().count() >= 2 && t.chars().all(char::is_alphabetic))
+                {
                     continue;
                 }
                 let key: String = window.iter().filter_map(|w| w.chars().next()).collect();
@@ -380,7 +451,10 @@ fn acronym_phrases(corpus: &Corpus, groups: &mut Vec<Group>, min_rows: u64) {
     }
     let mut a = 0;
     while a < groups.len() {
-        let acronym = groups[a].spellings[0].clone();
+        let Some(acronym) = acronym_key(&groups[a].spellings[0]) else {
+            a += 1;
+            continue;
+        };
         let supported = |es: &Vec<u32>, rows: u64| es.len() >= 2 || rows >= min_rows;
         let best = found
             .get(&acronym)
@@ -419,9 +493,15 @@ fn acronym_phrases(corpus: &Corpus, groups: &mut Vec<Group>, min_rows: u64) {
             a += 1;
             continue;
         };
-        let words: Vec<&str> = phrase.split(' ').collect();
+        // The column's own noun is implied (`auto trans` is `auto` in a
+        // transmission column).
+        let words: Vec<&str> = phrase
+            .split(' ')
+            .filter(|w| !names_subject(w, subject))
+            .collect();
         let home = (0..groups.len()).find(|&h| {
             h != a
+                && !words.is_empty()
                 && words.iter().all(|w| {
                     groups[h].spellings.iter().any(|s| s == w)
                         || groups[h].with.iter().any(|s| s == w)
@@ -580,10 +660,10 @@ pub(crate) fn flags_and_labels(
     let min_rows = (opts.min_share * total).ceil().max(1.0) as u64;
     let max_rows = (opts.max_share * total).floor() as u64;
     let mut groups = word_groups(corpus, index, marker_words, min_rows);
-    acronym_phrases(corpus, &mut groups, min_rows);
+    let subject = subject_words(column);
+    acronym_phrases(corpus, &mut groups, &subject, min_rows);
     // Words that name the column's own subject, and prefixes alone, are no
     // flag and no kind.
-    let subject = subject_words(column);
     let mut own: Vec<String> = Vec::new();
     let mut prefixes: Vec<Group> = Vec::new();
     let mut groups: Vec<Group> = groups
@@ -1075,6 +1155,21 @@ mod tests {
         assert_eq!(dotted_acronym("auto"), None);
         assert_eq!(dotted_acronym("shft"), Some("s.h.f.t.".to_owned()));
         assert_eq!(dotted_acronym("powershift"), None);
+    }
+
+    #[test]
+    fn acronyms_with_periods_and_slashes_are_words_with_their_letters() {
+        let (w, _) = words_of("tefc motor, t.e.f.c. frame");
+        assert!(w.contains(&"t.e.f.c.".to_owned()), "{w:?}");
+        let (w, _) = words_of("cast iron t.e.f.c");
+        assert!(w.contains(&"t.e.f.c".to_owned()), "{w:?}");
+        assert_eq!(acronym_key("t.e.f.c.").as_deref(), Some("tefc"));
+        assert_eq!(acronym_key("a/t").as_deref(), Some("at"));
+        assert_eq!(acronym_key("tefc").as_deref(), Some("tefc"));
+        assert_eq!(acronym_key("at"), None);
+        assert_eq!(acronym_key("st.john"), None);
+        assert!(is_acronym_of("a/t", "automatic transmission"));
+        assert!(is_acronym_of("t.e.f.c.", "totally enclosed fan cooled"));
     }
 
     #[test]
