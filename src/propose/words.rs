@@ -281,7 +281,8 @@ fn is_acronym_of(short: &str, long: &str) -> bool {
 
 /// The initials an acronym stands for: three to five letters (`tefc`), or
 /// two to five single letters written with periods or slashes (`a/t`,
-/// `h.s.t.`), whose letters count.
+/// `h.s.t.`), whose letters count. A two-letter acronym looks for a phrase
+/// only when it is on `min_rows` itself.
 fn acronym_key(spelling: &str) -> Option<String> {
     let plain = |w: &str| w.bytes().all(|b| b.is_ascii_lowercase());
     if (3..=5).contains(&spelling.len()) && plain(spelling) {
@@ -451,7 +452,12 @@ fn acronym_phrases(corpus: &Corpus, groups: &mut Vec<Group>, subject: &[String],
     }
     let mut a = 0;
     while a < groups.len() {
-        let Some(acronym) = acronym_key(&groups[a].spellings[0]) else {
+        // Two letters (`a/t`) are initials of many phrases by chance: such
+        // an acronym must be common enough to be a rule of its own (not a
+        // stray `e.g.`).
+        let Some(acronym) = acronym_key(&groups[a].spellings[0])
+            .filter(|key| key.len() >= 3 || groups[a].rows >= min_rows)
+        else {
             a += 1;
             continue;
         };
