@@ -704,3 +704,25 @@ fn acronyms_written_with_periods_or_slashes_join_their_phrase() {
         None,
     );
 }
+
+#[test]
+fn a_unit_that_ends_in_a_digit_is_read_whole() {
+    // `cm3` and `in³` (NFKC: `in3`) end in a digit that is part of the unit;
+    // it once panicked the draft (invented values).
+    let values = [
+        ("1500 cm3", 20),
+        ("2000 cm3", 15),
+        ("1500cm3 diesel", 10),
+        ("350 in³", 5),
+        ("7in3", 3),
+    ];
+    let (toml, rules) = draft_of(&values);
+    let volume = read(&rules, "1800 cm3")
+        .into_iter()
+        .find(|(name, _)| name.starts_with("volume"))
+        .map(|(_, cell)| cell);
+    assert!(
+        matches!(volume, Some(descry::Cell::Float(x)) if x > 0.0),
+        "{volume:?}\n{toml}"
+    );
+}

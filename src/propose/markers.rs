@@ -223,6 +223,10 @@ fn scan(entry: u32, value: &str, decimal: DecimalMark) -> (Vec<Seen>, Vec<UnitSe
     };
     let mark = decimal.decimal();
     for m in number_regex.find_iter(value) {
+        // The digit of a unit just read (`cm3`, `in³` after NFKC) is no number.
+        if m.start() < unit_end {
+            continue;
+        }
         let text = m.as_str();
         let before = &value[..m.start()];
         let rest = &value[m.end()..];
