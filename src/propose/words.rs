@@ -225,6 +225,7 @@ fn dotted_acronym(word: &str) -> Option<String> {
 }
 
 /// A group of spellings of one word.
+#[derive(Default)]
 struct Group {
     /// Spellings, most rows first.
     spellings: Vec<String>,
@@ -308,6 +309,53 @@ struct Found {
     twins: usize,
 }
 
+/// Polynomial hashes of a sequence of tokens and of its prefixes, so that
+/// the hash of the sequence with a span replaced by one token costs O(1)
+/// (the twins of the acronym search). Equal sequences hash alike; a rare
+/// collision only adds a twin.
+struct SequenceHash {
+    /// `prefix[j]`: hash of the first `j` tokens.
+    prefix: Vec<u64>,
+    /// `power[j]`: BASE^j.
+    power: Vec<u64>,
+}
+
+impl SequenceHash {
+    const BASE: u64 = 0x100_0000_01b3;
+
+    fn token(t: &str) -> u64 {
+        use std::hash::{Hash, Hasher};
+        let mut h = std::collections::hash_map::DefaultHasher::new();
+        t.hash(&mut h);
+        h.finish() | 1
+    }
+
+    fn of(tokens: &[&str]) -> SequenceHash {
+        let mut prefix = Vec::with_capacity(tokens.len() + 1);
+        let mut power = Vec::with_capacity(tokens.len() + 2);
+        prefix.push(0u64);
+        power.push(1u64);
+        for t in tokens {
+            let last = *prefix.last().unwrap_or(&0);
+            prefix.push(last.wrapping_mul(Self::BASE).wrapping_add(Self::token(t)));
+            let p = *power.last().unwrap_or(&1);
+            power.push(p.wrapping_mul(Self::BASE));
+        }
+        SequenceHash { prefix, power }
+    }
+
+    /// The hash of the sequence with tokens `start..end` replaced by `token`.
+    fn replaced(&self, start: usize, end: usize, token: &str) -> u64 {
+        let n = self.prefix.len() - 1;
+        let tail = n - end;
+        let suffix = self.prefix[n].wrapping_sub(self.prefix[end].wrapping_mul(self.power[tail]));
+        let head = self.prefix[start]
+            .wrapping_mul(Self::BASE)
+            .wrapping_add(Self::token(token));
+        head.wrapping_mul(self.power[tail]).wrapping_add(suffix)
+    }
+}
+
 /// Letters and numbers of a value, without the spaces and signs between.
 fn skeleton(value: &str) -> Vec<&str> {
     runs(value)
@@ -375,26 +423,51 @@ fn acronym_phrases(corpus: &Corpus, groups: &mut Vec<Group>, subject: &[String],
     // Initials of all letters but the last -> acronyms; not for an acronym
     // that also abbreviates a longer word of the column (`std`, `standard`).
     let none = |_: &str| false;
-    let mut shortened: HashMap<String, Vec<&str>> = HashMap::new();
-    for a in acronyms.iter().filter(|a| a.len() >= 3) {
-        let abbreviation = groups
-            .iter()
-            .flat_map(|g| &g.spellings)
-            .any(|w| w.len() > a.len() && !w.contains(' ') && abbreviates(a, w, &none));
-        if !abbreviation {
-            shortened
-                .entry(a[..a.len() - 1].to_owned())
-                .or_default()
-                .push(a);
+    // Only acronyms common enough to be a rule of their own are looked for
+    // so: the search meets many windows by chance.
+    let common: HashSet<String> = groups
+        .iter()
+        .filter(|g| g.rows >= min_rows)
+        .filter_map(|g| acronym_key(&g.spellings[0]))
+        .collect();
+    let shortened: HashMap<String, Vec<&str>> = {
+        // Single-word spellings by first letter, for the abbreviation test.
+        let mut by_initial: HashMap<char, Vec<&str>> = HashMap::new();
+        for w in groups.iter().flat_map(|g| &g.spellings) {
+            if let (Some(c), false) = (w.chars().next(), w.contains(' ')) {
+                by_initial.entry(c).or_default().push(w);
+            }
         }
-    }
+        let mut shortened: HashMap<String, Vec<&str>> = HashMap::new();
+        for a in acronyms
+            .iter()
+            .filter(|a| a.len() >= 3 && common.contains(*a))
+        {
+            let first = a.chars().next().unwrap_or(' ');
+            let abbreviation = by_initial.get(&first).is_some_and(|ws| {
+                ws.iter()
+                    .any(|w| w.len() > a.len() && abbreviates(a, w, &none))
+            });
+            if !abbreviation {
+                shortened
+                    .entry(a[..a.len() - 1].to_owned())
+                    .or_default()
+                    .push(a);
+            }
+        }
+        shortened
+    };
     // Acronym -> phrase of one word fewer -> where.
     let mut short_found: HashMap<&str, HashMap<String, Found>> = HashMap::new();
-    let skeletons: HashSet<String> = corpus
-        .normalized
-        .iter()
-        .map(|v| skeleton(v).join(" "))
-        .collect();
+    let skeletons: HashSet<u64> = if shortened.is_empty() {
+        HashSet::new()
+    } else {
+        corpus
+            .normalized
+            .iter()
+            .map(|v| *SequenceHash::of(&skeleton(v)).prefix.last().unwrap_or(&0))
+            .collect()
+    };
     for (e, value) in corpus.normalized.iter().enumerate() {
         let words: Vec<&str> = runs(value)
             .filter(|r| r.class == CharClass::Letter)
@@ -416,7 +489,12 @@ fn acronym_phrases(corpus: &Corpus, groups: &mut Vec<Group>, subject: &[String],
                 }
             }
         }
+        if shortened.is_empty() {
+            continue;
+        }
         let tokens = skeleton(value);
+        let hashes = SequenceHash::of(&tokens);
+        let held: HashSet<&str> = tokens.iter().copied().collect();
         for k in 2..=4 {
             for (i, window) in tokens.windows(k).enumerate() {
                 if !window
@@ -440,25 +518,35 @@ fn acronym_phrases(corpus: &Corpus, groups: &mut Vec<Group>, subject: &[String],
                         continue;
                     }
                     f.entries.push(e as u32);
-                    let twin = [&tokens[..i], &[acronym][..], &tokens[i + k..]]
-                        .concat()
-                        .join(" ");
-                    if tokens.contains(&acronym) || skeletons.contains(&twin) {
+                    if held.contains(acronym)
+                        || skeletons.contains(&hashes.replaced(i, i + k, acronym))
+                    {
                         f.twins += 1;
                     }
                 }
             }
         }
     }
-    let mut a = 0;
-    while a < groups.len() {
+    // Word -> the groups holding it, for the search of a phrase's home.
+    // Groups merged into another are marked and dropped at the end (removing
+    // each from the vector would move all the others each time).
+    let mut merged = vec![false; groups.len()];
+    let mut holders: HashMap<String, Vec<usize>> = HashMap::new();
+    for (id, g) in groups.iter().enumerate() {
+        for w in g.spellings.iter().chain(&g.with) {
+            holders.entry(w.clone()).or_default().push(id);
+        }
+    }
+    for a in 0..groups.len() {
+        if merged[a] {
+            continue;
+        }
         // Two letters (`a/t`) are initials of many phrases by chance: such
         // an acronym must be common enough to be a rule of its own (not a
         // stray `e.g.`).
         let Some(acronym) = acronym_key(&groups[a].spellings[0])
             .filter(|key| key.len() >= 3 || groups[a].rows >= min_rows)
         else {
-            a += 1;
             continue;
         };
         let supported = |es: &Vec<u32>, rows: u64| es.len() >= 2 || rows >= min_rows;
@@ -496,7 +584,6 @@ fn acronym_phrases(corpus: &Corpus, groups: &mut Vec<Group>, subject: &[String],
                 })
             });
         let Some((phrase, entries, note)) = best else {
-            a += 1;
             continue;
         };
         // The column's own noun is implied (`auto trans` is `auto` in a
@@ -505,18 +592,32 @@ fn acronym_phrases(corpus: &Corpus, groups: &mut Vec<Group>, subject: &[String],
             .split(' ')
             .filter(|w| !names_subject(w, subject))
             .collect();
-        let home = (0..groups.len()).find(|&h| {
-            h != a
-                && !words.is_empty()
-                && words.iter().all(|w| {
-                    groups[h].spellings.iter().any(|s| s == w)
-                        || groups[h].with.iter().any(|s| s == w)
-                })
-        });
+        // The first group holding every word, looked up through the groups
+        // that hold the first one.
+        let home = words
+            .first()
+            .and_then(|w| holders.get(*w))
+            .and_then(|candidates| {
+                candidates
+                    .iter()
+                    .copied()
+                    .filter(|&h| {
+                        h != a
+                            && !merged[h]
+                            && words.iter().all(|w| {
+                                groups[h].spellings.iter().any(|s| s == w)
+                                    || groups[h].with.iter().any(|s| s == w)
+                            })
+                    })
+                    .min()
+            });
         match home {
             Some(h) => {
-                let g = groups.remove(a);
-                let h = if h > a { h - 1 } else { h };
+                let g = std::mem::take(&mut groups[a]);
+                merged[a] = true;
+                for s in g.spellings.iter().chain([&phrase]) {
+                    holders.entry(s.clone()).or_default().push(h);
+                }
                 let target = &mut groups[h];
                 target.spellings.insert(0, phrase);
                 target.spellings.extend(g.spellings);
@@ -526,15 +627,20 @@ fn acronym_phrases(corpus: &Corpus, groups: &mut Vec<Group>, subject: &[String],
                 target.grouped.push(note);
             }
             None => {
+                holders.entry(phrase.clone()).or_default().push(a);
                 let g = &mut groups[a];
                 g.spellings.push(phrase);
                 g.entries = union(&g.entries, &entries);
                 g.rows = corpus.rows_of(&g.entries);
                 g.grouped.push(note);
-                a += 1;
             }
         }
     }
+    let mut place = 0;
+    groups.retain(|_| {
+        place += 1;
+        !merged[place - 1]
+    });
 }
 
 /// Words of a column's name that say what the column holds rather than
@@ -1176,6 +1282,17 @@ mod tests {
         assert_eq!(acronym_key("st.john"), None);
         assert!(is_acronym_of("a/t", "automatic transmission"));
         assert!(is_acronym_of("t.e.f.c.", "totally enclosed fan cooled"));
+    }
+
+    #[test]
+    fn a_replaced_span_hashes_like_the_sequence_written_so() {
+        let seq = SequenceHash::of(&["7", "speed", "dual", "clutch", "box"]);
+        let twin = SequenceHash::of(&["7", "speed", "dct", "box"]);
+        assert_eq!(seq.replaced(2, 4, "dct"), *twin.prefix.last().unwrap());
+        let end = SequenceHash::of(&["7", "speed", "dct"]);
+        let seq = SequenceHash::of(&["7", "speed", "dual", "clutch"]);
+        assert_eq!(seq.replaced(2, 4, "dct"), *end.prefix.last().unwrap());
+        assert_ne!(seq.replaced(1, 3, "dct"), *end.prefix.last().unwrap());
     }
 
     #[test]
