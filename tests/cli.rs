@@ -328,6 +328,44 @@ fn feature_name_colliding_with_an_input_column_is_an_error() {
         "{}",
         stderr(&out)
     );
+    // `check` says what `apply` would refuse, naming the rule's file and
+    // line (and still checks: it writes no column).
+    let out = run(&["check", s(&table), "-r", s(&rules)], None);
+    assert!(
+        stderr(&out).contains(&format!(
+            "descry: note: {}:3: rule [[flag]] \"price\" would write column \"price\", which the input \
+             already has; rename the rule or set a `prefix` in the ruleset (`apply` on this table refuses it)",
+            rules.display()
+        )),
+        "{}",
+        stderr(&out)
+    );
+}
+
+#[test]
+fn a_feature_may_take_the_name_of_its_described_column_in_check() {
+    // With `apply --drop-source` a feature may replace the column it describes.
+    let (dir, _r, table) = setup();
+    let rules = write(
+        dir.path(),
+        "c.toml",
+        "column = \"transmission\"\n[[flag]]\nname = \"transmission\"\nany = [\"manual\"]\n",
+    );
+    let out = run(&["check", s(&table), "-r", s(&rules)], None);
+    assert!(!stderr(&out).contains("already has"), "{}", stderr(&out));
+    let out = run(
+        &[
+            "apply",
+            s(&table),
+            "-r",
+            s(&rules),
+            "--drop-source",
+            "-o",
+            s(&dir.path().join("o.csv")),
+        ],
+        None,
+    );
+    assert!(out.status.success(), "{}", stderr(&out));
 }
 
 #[test]

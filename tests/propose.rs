@@ -5,7 +5,7 @@
 
 mod common;
 
-use common::{run, s, sample_csv, stderr, stdout, write};
+use common::{assert_no_panic, descry, run, s, sample_csv, stderr, stdout, write};
 
 fn draft(dir: &std::path::Path, column: &str, extra: &[&str]) -> (std::path::PathBuf, String) {
     let out = dir.join(format!("{column}.toml"));
@@ -137,6 +137,58 @@ fn kinds_max_rules_and_prefix_are_obeyed() {
     assert!(!parsed.features.is_empty() && parsed.features.len() <= 2);
     assert!(parsed.features.iter().all(|f| f.rule.kind() == "count"));
     assert!(parsed.features.iter().all(|f| f.output.starts_with("tx_")));
+}
+
+#[test]
+fn the_draft_writes_no_column_the_table_already_has() {
+    // A table that already has columns named like the draft's features (a
+    // second run on `apply`'s own output does): the rules are renamed, say
+    // why, and the draft applies to that table unchanged.
+    let dir = tempfile::tempdir().unwrap();
+    let mut csv = String::from("t,t_spd,t_family\n");
+    let kinds = ["manual", "automatic", "cvt", "powershift"];
+    for i in 0..400 {
+        let gears = [4, 5, 6, 8, 12, 16][i % 6];
+        csv.push_str(&format!("{gears} spd {},1,2\n", kinds[(i / 6) % 4]));
+    }
+    let table = write(dir.path(), "t.csv", &csv);
+    let rules = dir.path().join("t.toml");
+    let o = run(
+        &["propose", s(&table), "-c", "t", "-o", s(&rules), "-q"],
+        None,
+    );
+    assert!(o.status.success(), "{}", stderr(&o));
+    let text = std::fs::read_to_string(&rules).unwrap();
+    assert!(text.contains("name = \"spd_2\""), "{text}");
+    assert!(
+        text.contains("# named spd_2: the table already has a column \"t_spd\""),
+        "{text}"
+    );
+    assert!(text.contains("name = \"family_2\""), "{text}");
+    for args in [
+        vec!["check", s(&table), "-r", s(&rules)],
+        vec![
+            "apply",
+            s(&table),
+            "-r",
+            s(&rules),
+            "-o",
+            s(&dir.path().join("o.csv")),
+        ],
+    ] {
+        let o = run(&args, None);
+        assert!(o.status.success(), "{args:?}: {}", stderr(&o));
+    }
+    // The same table on standard input (read once, spooled).
+    let stdin_rules = dir.path().join("stdin.toml");
+    let o = descry()
+        .args(["propose", "-", "-c", "t", "-o", s(&stdin_rules), "-q"])
+        .write_stdin(csv.as_bytes())
+        .output()
+        .unwrap();
+    assert_no_panic(&o);
+    assert!(o.status.success(), "{}", stderr(&o));
+    assert_eq!(std::fs::read_to_string(&stdin_rules).unwrap(), text);
 }
 
 #[test]

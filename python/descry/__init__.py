@@ -602,8 +602,13 @@ def propose(
                 f"{path} exists; descry does not overwrite a ruleset you may have edited: "
                 f"give another output"
             )
+    kind = _frames.kind_of(data)
+    if kind == _frames.ARROW:
+        data = _frames.as_arrow_table(data)
+    # Every column name of the frame: no drafted feature column takes one.
+    names = [str(n) for n in _frames.column_names(data, kind)]
     toml, text = _native.propose(
-        _one_column(data, column), column, min_share, max_share, max_rules, prefix
+        _one_column(data, column), column, min_share, max_share, max_rules, prefix, names
     )
     report = json.loads(text)
     if output is not None:

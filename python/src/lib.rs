@@ -536,7 +536,8 @@ fn cluster(
 /// A drafted ruleset for a column: (its TOML, the `descry.propose/1`
 /// report as JSON, less the output path).
 #[pyfunction]
-#[pyo3(signature = (column, name, min_share = None, max_share = None, max_rules = None, prefix = None))]
+#[pyo3(signature = (column, name, min_share = None, max_share = None, max_rules = None, prefix = None, columns = Vec::new()))]
+#[allow(clippy::too_many_arguments)]
 fn propose(
     py: Python<'_>,
     column: Bound<'_, PyAny>,
@@ -545,6 +546,7 @@ fn propose(
     max_share: Option<f64>,
     max_rules: Option<usize>,
     prefix: Option<String>,
+    columns: Vec<String>,
 ) -> PyResult<(String, String)> {
     let series = import_column(&column, &name)?;
     py.detach(|| {
@@ -555,6 +557,7 @@ fn propose(
             max_share: max_share.unwrap_or(defaults.max_share),
             max_rules: max_rules.unwrap_or(defaults.max_rules),
             prefix: prefix.unwrap_or_else(|| format!("{}_", descry::propose::rule_name(&name))),
+            columns,
             ..defaults
         };
         let draft = draft_ruleset(&vocab, &name, &opts).map_err(|e| ruleset_error(&e))?;

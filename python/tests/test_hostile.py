@@ -157,3 +157,24 @@ def test_pandas_object_column_mixing_text_and_numbers_says_how_to_convert(engine
         descry.apply(frame, engine)
     frame["engine"] = frame["engine"].astype("string")
     assert descry.apply(frame, engine)["eng_cylinders"].tolist()[0] == 8
+
+
+@pytest.mark.parametrize("kind", ["pandas", "polars", "arrow", "lazy"])
+def test_propose_writes_no_column_the_frame_already_has(kind):
+    # A frame that already has columns named like the draft's features (as
+    # apply's own output does): the rules are renamed and the draft applies.
+    kinds = ["manual", "automatic", "cvt", "powershift"]
+    t = [f"{[4, 5, 6, 8, 12, 16][i % 6]} spd {kinds[(i // 6) % 4]}" for i in range(400)]
+    frame = pl.DataFrame({"t": t, "t_spd": [1] * 400, "t_family": ["x"] * 400})
+    data = {
+        "pandas": frame.to_pandas(),
+        "polars": frame,
+        "arrow": frame.to_arrow(),
+        "lazy": frame.lazy(),
+    }[kind]
+    draft = descry.propose(data, "t")
+    names = [r["name"] for r in draft["draft"]["proposals"]]
+    assert "spd_2" in names and "family_2" in names, names
+    assert '# named spd_2: the table already has a column "t_spd"' in draft["toml"]
+    out = descry.apply(frame, descry.Ruleset.from_toml(draft["toml"]))
+    assert out["t_spd_2"].to_list()[:2] == [4, 5]

@@ -14,7 +14,9 @@ use descry::render::{shown, thousands};
 use descry::vocabulary::GrowingVocabulary;
 use descry::write::{check_output_path, sink_table, OutputFormat, ROW_GROUP_ROWS};
 
-use super::common::{column_notes, load_descriptions, parse_batch_rows, print_notes, InputArgs};
+use super::common::{
+    column_notes, load_descriptions, parse_batch_rows, print_notes, taken_outputs, InputArgs,
+};
 
 pub const ABOUT: &str = "\
 Apply one or more rulesets to a table and write the features.
@@ -282,22 +284,13 @@ fn check_collisions(
     names: &[String],
     args: &Args,
 ) -> anyhow::Result<()> {
-    for d in descriptions {
-        for f in &d.rules.features {
-            let dropped = (args.drop_source && descriptions.iter().any(|d| d.column == f.output))
-                || (args.only_features && !args.keep.contains(&f.output));
-            if names.contains(&f.output) && !dropped {
-                bail!(
-                    "{}:{}: rule [[{}]] \"{}\" would write column \"{}\", which the input already has; \
-                     rename the rule or set a `prefix` in the ruleset",
-                    d.rules.file,
-                    f.line,
-                    f.rule.kind(),
-                    f.name,
-                    f.output
-                );
-            }
-        }
+    let taken = taken_outputs(descriptions.iter().map(|d| &d.rules), names, |output| {
+        let dropped = (args.drop_source && descriptions.iter().any(|d| d.column == output))
+            || (args.only_features && !args.keep.iter().any(|k| k == output));
+        !dropped
+    });
+    if let Some(first) = taken.first() {
+        bail!("{first}");
     }
     if args.only_features {
         if let Some(k) = args.keep.iter().find(|k| !names.contains(k)) {

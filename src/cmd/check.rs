@@ -17,8 +17,8 @@ use descry::write::{check_not_an_input, check_output_file, write_text_atomically
 use descry::{CoverageReport, Ruleset};
 
 use super::common::{
-    column_notes, emit, json_out, load_descriptions, parse_share, print_notes, read_vocabularies,
-    ruleset_text, InputArgs,
+    column_notes, emit, json_out, load_descriptions, parse_share, print_notes,
+    read_table_vocabularies, ruleset_text, taken_outputs, InputArgs,
 };
 
 pub const ABOUT: &str = "\
@@ -216,7 +216,20 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
         }
     }
     let names: Vec<&str> = columns.iter().map(String::as_str).collect();
-    let vocabs = read_vocabularies(&args.input, &names, args.quiet)?;
+    let (vocabs, table_columns) = read_table_vocabularies(&args.input, &names, args.quiet)?;
+    // What `apply` would refuse on this table is said here (a feature may
+    // replace its described column, with `apply --drop-source`). Not an
+    // error: checking `apply`'s own output with its rulesets is fine.
+    if let Some(table_columns) = &table_columns {
+        let taken = taken_outputs(&rulesets, table_columns, |output| {
+            !columns.iter().any(|c| c == output)
+        });
+        let notes: Vec<String> = taken
+            .into_iter()
+            .map(|m| format!("{m} (`apply` on this table refuses it)"))
+            .collect();
+        print_notes(&notes, args.quiet);
+    }
     let mut reports = Vec::new();
     for ((rules, column), vocab) in rulesets.iter().zip(&columns).zip(&vocabs) {
         print_notes(

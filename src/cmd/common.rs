@@ -7,7 +7,7 @@ use std::path::{Path, PathBuf};
 use anyhow::{bail, Context};
 use clap::ValueEnum;
 
-use descry::read::{batch_text, for_each_batch, ReadOptions};
+use descry::read::{batch_text, for_each_batch, Input, ReadOptions};
 use descry::render::shown;
 use descry::vocabulary::GrowingVocabulary;
 use descry::write::{check_not_an_input, check_output_file};
@@ -179,6 +179,16 @@ pub fn read_vocabularies(
     columns: &[&str],
     quiet: bool,
 ) -> anyhow::Result<Vec<Vocabulary>> {
+    Ok(read_table_vocabularies(input, columns, quiet)?.0)
+}
+
+/// [`read_vocabularies`], and every column name of the table (`None` for a
+/// `--counts` table, which holds only the described column's values).
+pub fn read_table_vocabularies(
+    input: &InputArgs,
+    columns: &[&str],
+    quiet: bool,
+) -> anyhow::Result<(Vec<Vocabulary>, Option<Vec<String>>)> {
     let mut distinct: Vec<&str> = Vec::new();
     for c in columns {
         if !distinct.contains(c) {
@@ -187,31 +197,54 @@ pub fn read_vocabularies(
     }
     if let Some(counts) = &input.counts {
         let vocab = read_counted(input, &distinct, counts, quiet)?;
-        return Ok(vec![vocab; columns.len()]);
+        return Ok((vec![vocab; columns.len()], None));
     }
     let mut growing = vec![GrowingVocabulary::default(); distinct.len()];
-    let notes = for_each_batch(
-        &input.input,
-        &distinct,
-        Some(&distinct),
-        &input.read_options(),
-        1 << 20,
-        |batch| {
-            for (vocab, c) in growing.iter_mut().zip(&distinct) {
-                vocab.codes_for(&batch_text(&batch, c, &input.input)?);
-            }
-            Ok(())
-        },
-    )?;
+    // Opened once: standard input is spooled by the open.
+    let table = Input::open(&input.input, &input.read_options())?;
+    let notes = table.for_each_batch(&distinct, Some(&distinct), 1 << 20, |batch| {
+        for (vocab, c) in growing.iter_mut().zip(&distinct) {
+            vocab.codes_for(&batch_text(&batch, c, &input.input)?);
+        }
+        Ok(())
+    })?;
     print_notes(&notes, quiet);
     let vocabs: Vec<Vocabulary> = growing
         .iter()
         .map(GrowingVocabulary::to_vocabulary)
         .collect();
-    Ok(columns
+    let vocabs = columns
         .iter()
         .map(|c| vocabs[distinct.iter().position(|d| d == c).expect("listed")].clone())
-        .collect())
+        .collect();
+    Ok((vocabs, Some(table.columns().to_vec())))
+}
+
+/// The rules whose feature column has the name of an input column that
+/// stays in the output (`stays`): one message each, naming the rule's file
+/// and line. `apply` refuses such a ruleset.
+pub fn taken_outputs<'a>(
+    rulesets: impl IntoIterator<Item = &'a Ruleset>,
+    names: &[String],
+    stays: impl Fn(&str) -> bool,
+) -> Vec<String> {
+    let mut out = Vec::new();
+    for rules in rulesets {
+        for f in &rules.features {
+            if names.contains(&f.output) && stays(&f.output) {
+                out.push(format!(
+                    "{}:{}: rule [[{}]] \"{}\" would write column \"{}\", which the input already has; \
+                     rename the rule or set a `prefix` in the ruleset",
+                    rules.file,
+                    f.line,
+                    f.rule.kind(),
+                    f.name,
+                    f.output
+                ));
+            }
+        }
+    }
+    out
 }
 
 /// The vocabulary of a table that holds one row per distinct value of the

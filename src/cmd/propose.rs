@@ -12,8 +12,8 @@ use descry::write::write_text_atomically;
 use descry::{CoverageReport, Ruleset};
 
 use super::common::{
-    check_ruleset_target, column_notes, emit, json_out, parse_share, print_notes, read_vocabulary,
-    ruleset_text, Format, InputArgs,
+    check_ruleset_target, column_notes, emit, json_out, parse_share, print_notes,
+    read_table_vocabularies, ruleset_text, Format, InputArgs,
 };
 
 pub const ABOUT: &str = "\
@@ -31,7 +31,9 @@ distinct values and rows it fires on and example values as comments:
   labels    words that exclude each other (one of manual / automatic / cvt),
             one case each, default \"other\";
   map       near-duplicate values (same words in any order) to one spelling.
-Where two proposals read the same text of a value, the draft says so.
+Where two proposals read the same text of a value, the draft says so. No
+feature column takes the name of a column the table already has (the rule
+is named `spd_2` instead, and says why).
 
 Then it checks the draft as `descry check` would and prints its coverage,
 the values left unmatched (most rows first) and the weakest proposals.
@@ -151,7 +153,9 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
         (None, None) => bail!("say which column to mine: --column NAME"),
     };
 
-    let vocab = read_vocabulary(&args.input, &column, args.quiet)?;
+    let (mut vocabs, table_columns) =
+        read_table_vocabularies(&args.input, &[column.as_str()], args.quiet)?;
+    let vocab = vocabs.remove(0);
     print_notes(
         &column_notes(vocab.rows(), vocab.distinct(), &column),
         args.quiet,
@@ -166,6 +170,9 @@ pub fn run(args: Args) -> anyhow::Result<ExitCode> {
             .prefix
             .clone()
             .unwrap_or_else(|| format!("{}_", descry::propose::rule_name(&column))),
+        // A --counts table holds only the described column's values; the
+        // table the draft is applied to has at least that column.
+        columns: table_columns.unwrap_or_else(|| vec![column.clone()]),
         ..ProposeOptions::default()
     };
     let (draft, text, unmatched_before) = match &existing {

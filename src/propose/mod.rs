@@ -142,6 +142,10 @@ pub struct ProposeOptions {
     pub prefix: String,
     /// Rule names already taken (by the ruleset being extended).
     pub taken: Vec<String>,
+    /// The column names of the table the draft is for: no rule writes a
+    /// feature column of one of these names (`prefix` + name); such a rule
+    /// is named `name_2` instead, and says why.
+    pub columns: Vec<String>,
     /// Placeholder spellings (normalized): not mined.
     pub placeholders: Vec<String>,
     /// How numbers are written (`4.5` or `4,5`): the ruleset's `decimal`.
@@ -160,6 +164,7 @@ impl Default for ProposeOptions {
             max_map: 100,
             prefix: String::new(),
             taken: Vec::new(),
+            columns: Vec::new(),
             placeholders: DEFAULT_PLACEHOLDERS.iter().map(|s| s.to_string()).collect(),
             decimal: DecimalMark::Point,
         }
@@ -571,7 +576,7 @@ fn mine(corpus: &Corpus, column: &str, opts: &ProposeOptions) -> Draft {
             .then_with(|| b.rows.cmp(&a.rows))
             .then_with(|| a.name.cmp(&b.name))
     });
-    unique_names(&mut proposals, &opts.taken);
+    unique_names(&mut proposals, &opts.taken, &opts.prefix, &opts.columns);
 
     Draft {
         column: column.to_owned(),
@@ -604,14 +609,24 @@ pub fn rule_name(text: &str) -> String {
     }
 }
 
-fn unique_names(proposals: &mut [Proposal], taken: &[String]) {
+/// Give each proposal a name no other rule has (`name_2`, `name_3`, ...)
+/// and whose feature column (`prefix` + name) is none of the table's
+/// `columns`.
+fn unique_names(proposals: &mut [Proposal], taken: &[String], prefix: &str, columns: &[String]) {
     let mut used: hashbrown::HashSet<String> = taken.iter().cloned().collect();
+    let column_taken = |name: &str| columns.iter().any(|c| *c == format!("{prefix}{name}"));
     for p in proposals.iter_mut() {
         let base = p.name.clone();
         let mut n = 2;
-        while !used.insert(p.name.clone()) {
+        while column_taken(&p.name) || !used.insert(p.name.clone()) {
             p.name = format!("{base}_{n}");
             n += 1;
+        }
+        if column_taken(&base) {
+            p.notes.push(format!(
+                "named {}: the table already has a column \"{prefix}{base}\"",
+                p.name
+            ));
         }
     }
 }
