@@ -960,10 +960,15 @@ fn word_groups(
         .into_par_iter()
         .flat_map_iter(|i| {
             let terms = &terms;
-            ((i + 1)..heads).filter_map(move |j| {
-                let shared = shared_rows(corpus, terms[i].1, terms[j].1);
-                (shared as f64 >= TOGETHER * terms[i].2.max(terms[j].2) as f64).then_some((i, j))
-            })
+            // Terms are sorted by rows: past the first with too few rows to
+            // share TOGETHER of `i`'s, none can.
+            ((i + 1)..heads)
+                .take_while(move |&j| terms[j].2 as f64 >= TOGETHER * terms[i].2 as f64)
+                .filter_map(move |j| {
+                    let shared = shared_rows(corpus, terms[i].1, terms[j].1);
+                    (shared as f64 >= TOGETHER * terms[i].2.max(terms[j].2) as f64)
+                        .then_some((i, j))
+                })
         })
         .collect();
     let mut left_out: Vec<Option<usize>> = vec![None; terms.len()];
@@ -1012,6 +1017,15 @@ fn word_groups(
             }
         }
     }
+    // Two-word phrases by their letters (`power shift` under `powershift`),
+    // most rows first, for the spellings of each group.
+    let mut phrases_by_letters: HashMap<String, Vec<(&String, &Vec<u32>, u64)>> = HashMap::new();
+    for (p, s) in &index.phrases {
+        phrases_by_letters
+            .entry(letters(p))
+            .or_default()
+            .push((p, s, corpus.rows_of(s)));
+    }
     let mut by_root: HashMap<u32, Vec<usize>> = HashMap::new();
     for i in (0..terms.len()).filter(|&i| left_out[i].is_none()) {
         by_root.entry(uf.find(i as u32)).or_default().push(i);
@@ -1028,18 +1042,13 @@ fn word_groups(
             }
             // Two-word spellings with the same letters (`power shift` for `powershift`).
             let keys: HashSet<String> = spellings.iter().map(|s| letters(s)).collect();
-            let mut phrases: Vec<(&String, &Vec<u32>)> = index
-                .phrases
+            let mut phrases: Vec<&(&String, &Vec<u32>, u64)> = keys
                 .iter()
-                .filter(|(p, _)| keys.contains(&letters(p)))
+                .filter_map(|k| phrases_by_letters.get(k))
+                .flatten()
                 .collect();
-            phrases.sort_by(|a, b| {
-                corpus
-                    .rows_of(b.1)
-                    .cmp(&corpus.rows_of(a.1))
-                    .then_with(|| a.0.cmp(b.0))
-            });
-            for (p, s) in phrases {
+            phrases.sort_by(|a, b| b.2.cmp(&a.2).then_with(|| a.0.cmp(b.0)));
+            for &&(p, s, _) in &phrases {
                 spellings.push(p.clone());
                 entries = union(&entries, s);
             }
@@ -1100,8 +1109,14 @@ fn word_groups(
 
 /// The largest set (by rows) of at least three groups that rarely share a
 /// value, each with its index in `groups` (ascending).
+/// Groups are tried as cases in order of rows up to this many: a label of
+/// kinds has a handful of cases, and the pairwise test would cost the square
+/// of the groups on a column of many words.
+const FAMILY_CANDIDATES: usize = 300;
+
 fn exclusive_family(corpus: &Corpus, groups: &[Group]) -> Option<Vec<usize>> {
-    let n = groups.len();
+    // `groups` are sorted by rows, most first.
+    let n = groups.len().min(FAMILY_CANDIDATES);
     let exclusive: Vec<Vec<bool>> = (0..n)
         .into_par_iter()
         .map(|a| {
