@@ -192,6 +192,84 @@ fn the_draft_writes_no_column_the_table_already_has() {
 }
 
 #[test]
+fn a_kind_takes_its_other_names_and_the_other_spellings_of_its_phrase() {
+    // Invented gearbox descriptions: `powershift` is also written `power
+    // shift`, `pwr shift` (`pwr` abbreviating `power` elsewhere, in `pwr
+    // shuttle`) and `p/shift`; `stepless` stands alone or beside `cvt`.
+    let dir = tempfile::tempdir().unwrap();
+    let kinds: &[(&str, usize)] = &[
+        ("manual", 10),
+        ("automatic", 10),
+        ("hydrostatic", 8),
+        ("powershift", 6),
+        ("power shift", 3),
+        ("pwr shift", 2),
+        ("p/shift", 2),
+        ("cvt", 5),
+        ("stepless", 4),
+    ];
+    let mut csv = String::from("t\n");
+    let mut add = |value: String, n: usize| csv.push_str(&format!("{value}\n").repeat(n));
+    for gears in [4, 6, 8, 12, 16, 24] {
+        for &(kind, n) in kinds {
+            add(format!("{gears} spd {kind}"), n);
+            add(format!("{gears} spd {kind} power shuttle"), n / 2);
+        }
+        add(format!("{gears} spd manual pwr shuttle"), 1);
+    }
+    add("cvt stepless".to_owned(), 3);
+    add("stepless cvt".to_owned(), 2);
+    let table = write(dir.path(), "t.csv", &csv);
+    let rules = dir.path().join("t.toml");
+    let o = run(
+        &["propose", s(&table), "-c", "t", "-o", s(&rules), "-q"],
+        None,
+    );
+    assert!(o.status.success(), "{}", stderr(&o));
+    let text = std::fs::read_to_string(&rules).unwrap();
+    assert!(
+        text.contains(
+            "any = [\"powershift\", \"power shift\", \"pwr shift\", \"p/shift\", \"pwr-shift\", \"pwrshift\", \"p.shift\"]"
+        ),
+        "{text}"
+    );
+    assert!(
+        text.contains("label = \"cvt\"\nany = [\"cvt\", \"c.v.t.\", \"stepless\"]"),
+        "{text}"
+    );
+    assert!(
+        text.contains("# \"stepless\" is written alone or beside \"cvt\""),
+        "{text}"
+    );
+    // Spellings the drafting data never shows, read by the label.
+    let o = run(
+        &[
+            "explain",
+            "-r",
+            s(&rules),
+            "16 spd pwrshift",
+            "P.SHIFT",
+            "stepless 40 km/h",
+        ],
+        None,
+    );
+    let shown = stdout(&o);
+    let read: Vec<&str> = shown
+        .lines()
+        .filter(|l| l.contains("t_family [label]"))
+        .collect();
+    assert_eq!(
+        read,
+        [
+            "  t_family [label] fired -> \"powershift\"",
+            "  t_family [label] fired -> \"powershift\"",
+            "  t_family [label] fired -> \"cvt\""
+        ],
+        "{shown}"
+    );
+}
+
+#[test]
 fn an_existing_draft_is_not_overwritten_without_force() {
     let dir = tempfile::tempdir().unwrap();
     let out = write(dir.path(), "mine.toml", "# my edits\n");

@@ -13,7 +13,7 @@ use hashbrown::{HashMap, HashSet};
 use rayon::prelude::*;
 
 use super::{rule_name, shared_rows, union, Corpus, Proposal, ProposeOptions, ProposedRule};
-use crate::cluster::distance::{jaro_winkler, osa};
+use crate::cluster::distance::{intersection_size, jaro_winkler, osa};
 use crate::cluster::UnionFind;
 use crate::shape::{runs, CharClass};
 
@@ -259,13 +259,14 @@ fn group_name(g: &Group) -> &str {
 }
 
 /// The initials of a phrase of two words or more (`totally enclosed fan
-/// cooled` gives `tefc`); empty for one word.
+/// cooled` gives `tefc`); empty for one word, and for letters that are
+/// initials already (`c.v.t.` is no phrase).
 fn initials(phrase: &str) -> String {
     let words: Vec<&str> = phrase
         .split(|c: char| !c.is_alphabetic())
         .filter(|w| !w.is_empty())
         .collect();
-    if words.len() < 2 {
+    if words.len() < 2 || words.iter().any(|w| w.chars().nth(1).is_none()) {
         return String::new();
     }
     words.iter().filter_map(|w| w.chars().next()).collect()
@@ -810,6 +811,8 @@ pub(crate) fn flags_and_labels(
         }) {
             let mut members: Vec<Group> = family.iter().rev().map(|&i| groups.remove(i)).collect();
             members.reverse();
+            phrase_spellings(corpus, index, &mut members, &groups);
+            join_other_names(corpus, &mut members, &groups);
             let mut label = label_proposal(corpus, &members, opts);
             if !own.is_empty() {
                 label.notes.push(format!(
@@ -915,6 +918,9 @@ impl<'a> Contexts<'a> {
 
 /// Spelling groups of the words in at least `min_rows` rows, with the rarer
 /// spellings (typos, abbreviations) that belong to them.
+/// A two-word phrase, the values holding it and their rows.
+type PhraseRows<'a> = (&'a String, &'a Vec<u32>, u64);
+
 fn word_groups(
     corpus: &Corpus,
     index: &WordIndex,
@@ -1019,7 +1025,7 @@ fn word_groups(
     }
     // Two-word phrases by their letters (`power shift` under `powershift`),
     // most rows first, for the spellings of each group.
-    let mut phrases_by_letters: HashMap<String, Vec<(&String, &Vec<u32>, u64)>> = HashMap::new();
+    let mut phrases_by_letters: HashMap<String, Vec<PhraseRows>> = HashMap::new();
     for (p, s) in &index.phrases {
         phrases_by_letters
             .entry(letters(p))
@@ -1042,7 +1048,7 @@ fn word_groups(
             }
             // Two-word spellings with the same letters (`power shift` for `powershift`).
             let keys: HashSet<String> = spellings.iter().map(|s| letters(s)).collect();
-            let mut phrases: Vec<&(&String, &Vec<u32>, u64)> = keys
+            let mut phrases: Vec<&PhraseRows> = keys
                 .iter()
                 .filter_map(|k| phrases_by_letters.get(k))
                 .flatten()
@@ -1147,6 +1153,205 @@ fn exclusive_family(corpus: &Corpus, groups: &[Group]) -> Option<Vec<usize>> {
         }
     }
     best.map(|(_, f)| f)
+}
+
+/// A word written alone in at least half of its rows, and otherwise beside
+/// one case only (`stepless`, `cvt stepless`), is another name of that
+/// kind: it was left out of the family only because it meets that case, and
+/// its spellings join it. It stays a flag too.
+fn join_other_names(corpus: &Corpus, members: &mut [Group], others: &[Group]) {
+    let mut all: Vec<u32> = Vec::new();
+    for m in members.iter() {
+        all = union(&all, &m.entries);
+    }
+    // Words of a case's phrases are parts of that kind's name (`shift` of
+    // `power shift`), not names of their own.
+    let phrase_words: HashSet<String> = members
+        .iter()
+        .flat_map(|m| &m.spellings)
+        .filter(|s| s.contains([' ', '-', '/', '.']))
+        .flat_map(|s| s.split(|c: char| !c.is_alphabetic()))
+        .map(str::to_owned)
+        .collect();
+    for g in others {
+        if g.spellings
+            .iter()
+            .any(|s| !s.chars().all(char::is_alphabetic) || phrase_words.contains(s))
+        {
+            continue;
+        }
+        let meets: Vec<usize> = (0..members.len())
+            .filter(|&i| {
+                let m = &members[i];
+                shared_rows(corpus, &g.entries, &m.entries) as f64
+                    > EXCLUSIVE * g.rows.min(m.rows) as f64
+            })
+            .collect();
+        let [m] = meets[..] else { continue };
+        let with_cases = shared_rows(corpus, &g.entries, &all);
+        let with_m = shared_rows(corpus, &g.entries, &members[m].entries);
+        // Alone in half of its rows, beside no other case, in two values or more.
+        if 2 * with_cases > g.rows
+            || with_cases > with_m
+            || intersection_size(&g.entries, &members[m].entries) < 2
+        {
+            continue;
+        }
+        let target = &mut members[m];
+        target.grouped.push(format!(
+            "{:?} is written alone or beside {:?} ({with_m} of its {} rows), never beside another case: \
+             another name of that kind",
+            g.spellings[0],
+            group_name(target),
+            g.rows
+        ));
+        target.spellings.extend(g.spellings.iter().cloned());
+        target.entries = union(&target.entries, &g.entries);
+        target.rows = corpus.rows_of(&target.entries);
+    }
+}
+
+/// The other ways the values write a case's two-word phrase: with the
+/// other spellings of its words (`pwr shift` for `power shift`, `pwr`
+/// being an abbreviation of `power`), or with its first word cut to an
+/// initial and a slash (`p/shift`), each only where the values write it so.
+/// Each phrase of the case is then also hyphenated, closed up when the case
+/// has a closed-up spelling (`powershift`: `pwrshift`), and an initial with
+/// a slash also written with a period (`p.shift`), for the next drop (a
+/// compound is written open, hyphenated or closed: common practice).
+fn phrase_spellings(corpus: &Corpus, index: &WordIndex, members: &mut [Group], others: &[Group]) {
+    let single = |w: &String| w.chars().all(char::is_alphabetic);
+    // Each word -> the one-word spellings of its group (the first holding it).
+    let mut alternatives: HashMap<String, Vec<String>> = HashMap::new();
+    for g in members.iter().chain(others) {
+        let words: Vec<String> = g.spellings.iter().filter(|s| single(s)).cloned().collect();
+        for w in &words {
+            alternatives
+                .entry(w.clone())
+                .or_insert_with(|| words.clone());
+        }
+    }
+    let spellings_of = |word: &str| -> Vec<String> {
+        alternatives
+            .get(word)
+            .cloned()
+            .unwrap_or_else(|| vec![word.to_owned()])
+    };
+    // `p/shift`: an initial, a slash and a word, standing apart.
+    let mut slashed: HashMap<String, Vec<u32>> = HashMap::new();
+    for (e, value) in corpus.normalized.iter().enumerate() {
+        let rs: Vec<_> = runs(value).collect();
+        for i in 0..rs.len().saturating_sub(2) {
+            let apart = |k: Option<usize>| {
+                k.and_then(|k| rs.get(k))
+                    .is_none_or(|r| r.class != CharClass::Letter && r.class != CharClass::Digit)
+            };
+            if rs[i].class == CharClass::Letter
+                && rs[i].text.chars().count() == 1
+                && rs[i + 1].text == "/"
+                && rs[i + 2].class == CharClass::Letter
+                && rs[i + 2].text.chars().count() >= 2
+                && apart(i.checked_sub(1))
+                && apart(Some(i + 3))
+            {
+                let list = slashed
+                    .entry(format!("{}/{}", rs[i].text, rs[i + 2].text))
+                    .or_default();
+                if list.last() != Some(&(e as u32)) {
+                    list.push(e as u32);
+                }
+            }
+        }
+    }
+    let taken: HashSet<String> = members
+        .iter()
+        .flat_map(|m| m.spellings.iter().cloned())
+        .collect();
+    for m in members.iter_mut() {
+        let phrases: Vec<(String, String)> = m
+            .spellings
+            .iter()
+            .filter_map(|s| {
+                let (a, b) = s.split_once([' ', '-'])?;
+                (single(&a.to_owned()) && single(&b.to_owned()))
+                    .then(|| (a.to_owned(), b.to_owned()))
+            })
+            .collect();
+        if phrases.is_empty() {
+            continue;
+        }
+        let closed = m
+            .spellings
+            .iter()
+            .any(|s| phrases.iter().any(|(a, b)| *s == format!("{a}{b}")));
+        let mut found: Vec<String> = Vec::new();
+        let mut entries = m.entries.clone();
+        let mut add = |p: String, es: Option<&Vec<u32>>, found: &mut Vec<String>| {
+            if !taken.contains(&p) && !found.contains(&p) {
+                if let Some(es) = es {
+                    entries = union(&entries, es);
+                }
+                found.push(p);
+            }
+        };
+        for (a, b) in &phrases {
+            let (alt_a, alt_b) = (spellings_of(a), spellings_of(b));
+            for x in &alt_a {
+                for y in &alt_b {
+                    for sep in [" ", "-"] {
+                        let p = format!("{x}{sep}{y}");
+                        if let Some(es) = index.phrases.get(&p) {
+                            add(p, Some(es), &mut found);
+                        }
+                    }
+                }
+            }
+            for y in &alt_b {
+                let initial: String = a.chars().take(1).collect();
+                let p = format!("{initial}/{y}");
+                if let Some(es) = slashed.get(&p) {
+                    add(p, Some(es), &mut found);
+                }
+            }
+        }
+        if found.is_empty() {
+            continue;
+        }
+        let mut written = found.clone();
+        let mut more: Vec<String> = Vec::new();
+        for p in &written {
+            let variants: Vec<String> = if let Some((i, w)) = p.split_once('/') {
+                vec![format!("{i}.{w}")]
+            } else if let Some((x, y)) = p.split_once([' ', '-']) {
+                let mut v = vec![format!("{x} {y}"), format!("{x}-{y}")];
+                if closed {
+                    v.push(format!("{x}{y}"));
+                }
+                v
+            } else {
+                Vec::new()
+            };
+            for v in variants {
+                if !taken.contains(&v) && !written.contains(&v) && !more.contains(&v) {
+                    more.push(v);
+                }
+            }
+        }
+        m.grouped.push(format!(
+            "the phrase also written so in the values: {}",
+            found.join(", ")
+        ));
+        if !more.is_empty() {
+            m.grouped.push(format!(
+                "and, for the next drop, hyphenated, closed up or with a period (common practice): {}",
+                more.join(", ")
+            ));
+        }
+        written.extend(more);
+        m.spellings.extend(written);
+        m.entries = entries;
+        m.rows = corpus.rows_of(&m.entries);
+    }
 }
 
 fn label_proposal(corpus: &Corpus, members: &[Group], opts: &ProposeOptions) -> Proposal {
@@ -1297,6 +1502,9 @@ mod tests {
         assert_eq!(acronym_key("st.john"), None);
         assert!(is_acronym_of("a/t", "automatic transmission"));
         assert!(is_acronym_of("t.e.f.c.", "totally enclosed fan cooled"));
+        // Letters with periods are an acronym, not a phrase of their own.
+        assert!(!is_acronym_of("cvt", "c.v.t."));
+        assert!(!is_acronym_of("c.v.t.", "c.v.t."));
     }
 
     #[test]
