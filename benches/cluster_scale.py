@@ -22,7 +22,7 @@ reference environment first. In one run it:
 
 Recall is of the pairs that may join groups: of the reference pairs, those
 whose identity runs are equal (what descry compares at all) and whose
-words agree by the word check (`may_group` below, a transcription of
+words agree by the word check (`may_group` below, a Python port of
 src/profile/cluster/guard.rs), against the pairs descry reports as kept.
 Between two long values of several words descry's index reports only such
 pairs (see docs/cluster.md), so this is what it promises to find. The

@@ -17,6 +17,22 @@ fn draft(dir: &std::path::Path, column: &str, extra: &[&str]) -> (std::path::Pat
     (out, stdout(&o))
 }
 
+/// The draft of column `t` of a CSV table: the table, the draft and its text.
+fn draft_of_column_t(
+    dir: &std::path::Path,
+    csv: &str,
+) -> (std::path::PathBuf, std::path::PathBuf, String) {
+    let table = write(dir, "t.csv", csv);
+    let rules = dir.join("t.toml");
+    let o = run(
+        &["propose", s(&table), "-c", "t", "-o", s(&rules), "-q"],
+        None,
+    );
+    assert!(o.status.success(), "{}", stderr(&o));
+    let text = std::fs::read_to_string(&rules).unwrap();
+    (table, rules, text)
+}
+
 #[test]
 fn the_draft_loads_in_check_and_apply_unchanged() {
     let dir = tempfile::tempdir().unwrap();
@@ -151,14 +167,7 @@ fn the_draft_writes_no_column_the_table_already_has() {
         let gears = [4, 5, 6, 8, 12, 16][i % 6];
         csv.push_str(&format!("{gears} spd {},1,2\n", kinds[(i / 6) % 4]));
     }
-    let table = write(dir.path(), "t.csv", &csv);
-    let rules = dir.path().join("t.toml");
-    let o = run(
-        &["propose", s(&table), "-c", "t", "-o", s(&rules), "-q"],
-        None,
-    );
-    assert!(o.status.success(), "{}", stderr(&o));
-    let text = std::fs::read_to_string(&rules).unwrap();
+    let (table, rules, text) = draft_of_column_t(dir.path(), &csv);
     assert!(text.contains("name = \"spd_2\""), "{text}");
     assert!(
         text.contains("# named spd_2: the table already has a column \"t_spd\""),
@@ -219,14 +228,7 @@ fn a_kind_takes_its_other_names_and_the_other_spellings_of_its_phrase() {
     }
     add("cvt stepless".to_owned(), 3);
     add("stepless cvt".to_owned(), 2);
-    let table = write(dir.path(), "t.csv", &csv);
-    let rules = dir.path().join("t.toml");
-    let o = run(
-        &["propose", s(&table), "-c", "t", "-o", s(&rules), "-q"],
-        None,
-    );
-    assert!(o.status.success(), "{}", stderr(&o));
-    let text = std::fs::read_to_string(&rules).unwrap();
+    let (_table, rules, text) = draft_of_column_t(dir.path(), &csv);
     assert!(
         text.contains(
             "any = [\"powershift\", \"power shift\", \"pwr shift\", \"p/shift\", \"pwr-shift\", \"pwrshift\", \"p.shift\"]"
